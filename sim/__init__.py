@@ -1,0 +1,21 @@
+"""hopscape physics: exact, vectorised rigid-body drops onto a flat floor.
+
+Pure functions and small value classes; no file I/O and no printing.
+Conventions (everywhere): plane x (right), y (up), floor y = 0; SI units;
+angles in radians here (degrees only at the user's edge); ``theta`` from +x
+to the symmetry axis and spin counter-clockwise positive.
+"""
+from .bounces import MERGE_WITHIN, Bounces, group_bounces
+from .drop import (IMPACT_CODES, IMPACT_FIELDS, REFERENCES, STATUS, Contact, DropResult,
+                   Release, simulate)
+from .flight import GRAVITY
+from .history import history
+from .impact import LAWS, SLIP_HISTORY, routh_impact
+from .shapes import SHAPES, Capsule, Cylinder, Shape, Sphere, Spheroid, make_shape
+
+__all__ = [
+    "Bounces", "Capsule", "Contact", "Cylinder", "DropResult", "GRAVITY", "IMPACT_CODES",
+    "IMPACT_FIELDS", "LAWS", "MERGE_WITHIN", "REFERENCES", "Release", "SHAPES", "SLIP_HISTORY",
+    "STATUS", "Shape", "Sphere", "Spheroid", "group_bounces", "history", "make_shape",
+    "routh_impact", "simulate",
+]
