@@ -285,7 +285,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             break
         ids = flying
         prof = tuple(p[ids] for p in profile)
-        tau, weights, corners = flight.next_contact(y[ids], vy[ids], th[ids], om[ids], prof, d2[ids], d_high[ids])
+        tau, along, across = flight.next_contact(y[ids], vy[ids], th[ids], om[ids], prof, d2[ids], d_high[ids])
         failed = np.isnan(tau)
         if j > 0:
             good = ~failed
@@ -300,7 +300,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         go = ~failed & impacting[ids]
         if j == k:
             break
-        ids, tau, weights = ids[go], tau[go], weights[go]
+        ids, tau, along, across = ids[go], tau[go], along[go], across[go]
         prof = tuple(p[ids] for p in profile)
         # advance to the contact
         t[ids] += tau
@@ -315,9 +315,6 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         ellipse = np.sqrt((rl * s) ** 2 + (rw * cs) ** 2)
         with np.errstate(invalid="ignore", divide="ignore"):
             e_slope = np.where(ellipse > 0, (rl ** 2 - rw ** 2) * s * cs / ellipse, 0.0)
-        wsum = weights.sum(axis=1)
-        along = weights @ corners[:, 0] / wsum
-        across = weights @ corners[:, 1] / wsum
         r_x = -(hl * cs * along - hw * s * across + e_slope)
         r_y = -(hl * s * along + hw * cs * across + ellipse)
         m_i, in_i = mass[ids], inertia[ids]

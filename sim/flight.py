@@ -33,8 +33,9 @@ GRAVITY = 9.80665
 #: The four rectangle corners (along-axis sign, across-axis sign).
 CORNERS = np.array([(1.0, 1.0), (-1.0, 1.0), (1.0, -1.0), (-1.0, -1.0)])
 
-#: A piece closer to the floor than this, and approaching, is in contact. [m]
-CONTACT_GAP = 1e-10
+#: A piece closer to the floor than this, and approaching, is in contact:
+#: 1 nm, some 0.5 ns of travel at drop speeds. [m]
+CONTACT_GAP = 1e-9
 #: Pieces within this of the lowest one touch together (flat landing). [m]
 TIE_GAP = 1e-12
 
@@ -58,27 +59,20 @@ def depth_range(half_long, half_wide, round_long, round_wide):
     return low, high
 
 
-def _pieces(theta, omega, profile, corners):
-    """Depth and depth rate of each corner piece: arrays ``(n, pieces)``."""
-    half_long, half_wide, round_long, round_wide = profile
-    s, c = np.sin(theta), np.cos(theta)
+def _ellipse(s, c, round_long, round_wide, rounded):
+    """Support ``E`` of the ellipse part and ``dE/dtheta``.
+
+    Where the two semi-axes are equal (``rounded`` False) ``E`` is exactly
+    the radius; the chunk-wide shortcut gives the same bits as the general
+    formula does for those drops, so results never depend on chunking.
+    """
+    if not np.any(rounded):
+        return round_long, 0.0
     ellipse = np.sqrt((round_long * s) ** 2 + (round_wide * c) ** 2)
     with np.errstate(invalid="ignore", divide="ignore"):
-        ellipse_slope = np.where(ellipse > 0, (round_long ** 2 - round_wide ** 2) * s * c / ellipse, 0.0)
-    along, across = corners[:, 0], corners[:, 1]
-    ls, lc = (half_long * s)[:, None], (half_long * c)[:, None]
-    ws, wc = (half_wide * s)[:, None], (half_wide * c)[:, None]
-    d = ls * along + wc * across + ellipse[:, None]
-    slope = lc * along - ws * across + ellipse_slope[:, None]
-    return d, slope * omega[:, None]
-
-
-def piece_mask(half_wide, corners_used):
-    """Which corner pieces exist: a rectangle with no width has two."""
-    mask = np.ones((half_wide.size, corners_used), dtype=bool)
-    if corners_used == 4:
-        mask[:, 2:] = (half_wide > 0)[:, None]
-    return mask
+        slope = (round_long ** 2 - round_wide ** 2) * s * c / ellipse
+    slope = np.where(rounded & (ellipse > 0), slope, 0.0)
+    return np.where(rounded, ellipse, round_long), slope
 
 
 def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
@@ -101,74 +95,144 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     -------
     time : numpy.ndarray
         Time to contact [s]; NaN where the search failed.
-    weights : numpy.ndarray, shape (n, pieces)
-        1 for each corner piece that touches at that time (two for a flat
-        landing), else 0.
-    corners : numpy.ndarray
-        The corner table the weights refer to.
+    along, across : numpy.ndarray
+        Mean corner signs of the touching pieces: ``(+-1, +-1)`` for one
+        corner, 0 along the axis for a flat landing on both ends.
     """
     n = y.size
-    corners_used = 4 if np.any(profile[1] > 0) else 2
-    corners = CORNERS[:corners_used]
-    mask = piece_mask(profile[1], corners_used)
-    t = np.zeros(n)
+    four = bool(np.any(profile[1] > 0))
+    corners = CORNERS if four else CORNERS[:2]
     out_t = np.full(n, np.nan)
-    out_w = np.zeros((n, corners_used))
-    idx = np.arange(n)
-    # local copies that shrink as bodies finish
-    yy, vv, th, om, dd, dh, mk = y, vy, theta, omega, d2, d_high, mask
-    prof = profile
-    curv = GRAVITY + om ** 2 * dd
+    out_along = np.zeros(n)
+    out_across = np.zeros(n)
+    hl, hw, rl, rw = profile
+    # exact far-field start: a centre above d_high cannot touch before it
+    # falls back to d_high
+    fall = (vy + np.sqrt(np.maximum(vy * vy + 2 * GRAVITY * (y - d_high), 0.0))) / GRAVITY
+    t0 = np.where(y > d_high, fall, 0.0)
+    # every per-body number in one array, so that dropping the bodies that
+    # have found their contact is one gather
+    rows = np.stack([y, vy, theta, omega, d_high, GRAVITY + omega * omega * d2, hl, hw, rl, rw,
+                     (rl != rw).astype(float), np.arange(n, dtype=float), t0])
     for _ in range(max_iterations):
-        if idx.size == 0:
+        if rows.shape[1] == 0:
             break
-        yt = yy + vv * t - 0.5 * GRAVITY * t * t
+        yy, vv, th, om, dh, curv, hl, hw, rl, rw, rounded, idx, t = rows
+        rounded = rounded > 0
+        angle = th + om * t
+        s, c = np.sin(angle), np.cos(angle)
         vt = vv - GRAVITY * t
-        d, rate = _pieces(th + om * t, om, prof, corners)
-        gap = np.where(mk, yt[:, None] - d, np.inf)
-        slope = vt[:, None] - rate
-        lowest = gap.min(axis=1)
-        touching = (gap < CONTACT_GAP) & (slope < 0)
-        hit = touching.any(axis=1)
-        if np.any(hit):
-            tied = (gap <= lowest[:, None] + TIE_GAP) & touching
-            out_t[idx[hit]] = t[hit]
-            out_w[idx[hit]] = tied[hit]
-        # conservative step: first root of gap + slope*tau - curv*tau^2/2
-        steps = (slope + np.sqrt(slope * slope + 2 * curv[:, None] * np.maximum(gap, 0.0))) / curv[:, None]
-        step = np.where(mk, steps, np.inf).min(axis=1)
-        # exact far-field step: the centre above d_high cannot touch before it
+        yt = yy + t * (vv - 0.5 * GRAVITY * t)
+        ellipse, ellipse_slope = _ellipse(s, c, rl, rw, rounded)
+        base_gap = yt - ellipse
+        base_slope = vt - om * ellipse_slope
+        a_gap, a_slope = hl * s, om * hl * c
+        if four:
+            b_gap, b_slope = hw * c, om * hw * s
+        gaps, slopes = [], []
+        for along, across in corners:
+            gap = base_gap - a_gap if along > 0 else base_gap + a_gap
+            slope = base_slope - a_slope if along > 0 else base_slope + a_slope
+            if four:
+                gap = gap - b_gap if across > 0 else gap + b_gap
+                slope = slope + b_slope if across > 0 else slope - b_slope
+            gaps.append(gap)
+            slopes.append(slope)
+        touching = [(g < CONTACT_GAP) & (v < 0) for g, v in zip(gaps, slopes)]
+        hit = touching[0]
+        steps = []
+        for g, v, tk in zip(gaps, slopes, touching):
+            if tk is not hit:
+                hit = hit | tk
+            # first root of g + v tau - curv tau^2 / 2: no piece can touch sooner
+            steps.append((v + np.sqrt(v * v + 2 * curv * np.maximum(g, 0.0))) / curv)
+        step, slope_min = steps[0], slopes[0]
+        for tau, v in zip(steps[1:], slopes[1:]):
+            shorter = tau < step
+            step, slope_min = np.where(shorter, tau, step), np.where(shorter, v, slope_min)
+        # The piece that sets the step is, at t + step, between 0 and
+        # (curv - g) step^2 above the floor (its gap'' lies within
+        # -curv .. curv - 2g): when that is below the contact gap and the
+        # piece still approaches, the contact is at t + step without
+        # another evaluation.
+        spread = curv - GRAVITY
+        sure = (spread * step * step < CONTACT_GAP) & (slope_min + spread * step < 0) & ~hit
+        # exact far-field step: a centre above d_high cannot touch before it
         # falls back to d_high
         above = yt > dh
-        disc = np.sqrt(np.maximum(vt * vt + 2 * GRAVITY * (yt - dh), 0.0))
-        step = np.where(above, np.maximum(step, (vt + disc) / GRAVITY), step)
-        keep = ~hit
-        if not keep.all():
-            idx, t, step = idx[keep], t[keep], step[keep]
-            yy, vv, th, om, dd, dh, mk, curv = (a[keep] for a in (yy, vv, th, om, dd, dh, mk, curv))
-            prof = tuple(p[keep] for p in prof)
-        t = t + step
-    return out_t, out_w, corners
+        if np.any(above):
+            fall = (vt + np.sqrt(np.maximum(vt * vt + 2 * GRAVITY * (yt - dh), 0.0))) / GRAVITY
+            step = np.where(above, np.maximum(step, fall), step)
+            sure &= ~above
+        ended = hit | sure
+        if np.any(ended):
+            lowest = gaps[0]
+            for g in gaps[1:]:
+                lowest = np.minimum(lowest, g)
+            count = np.zeros(int(ended.sum()))
+            sum_along = np.zeros_like(count)
+            sum_across = np.zeros_like(count)
+            for (along, across), g, v, tau, tk in zip(corners, gaps, slopes, steps, touching):
+                # touching now within TIE_GAP of the lowest, or reaching the
+                # floor within TIE_GAP of the first piece's arrival
+                tied = np.where(hit, tk & (g <= lowest + TIE_GAP), (tau - step) * np.abs(v) <= TIE_GAP)[ended]
+                count += tied
+                sum_along += along * tied
+                sum_across += across * tied
+            done = idx[ended].astype(np.int64)
+            out_t[done] = (t + np.where(hit, 0.0, step))[ended]
+            out_along[done] = sum_along / count
+            out_across[done] = sum_across / count
+            keep = ~ended
+            rows = rows[:, keep]
+            step = step[keep]
+            t = rows[12]
+        t += step
+    return out_t, out_along, out_across
 
 
-def _depth_derivatives(theta, profile):
-    """``d``, ``d'`` and ``d''`` of the depth on its smooth parts."""
+TWO_PI = 2.0 * np.pi
+
+
+def sincos_single(theta):
+    """``sin`` and ``cos`` in single precision after a double-precision
+    reduction to ``[-pi, pi]``: absolute error below 3e-7, some fifteen times
+    faster than double precision here. Used only for flight peaks, where it
+    moves a height by under 3e-7 times the body size (1e-8 m for a 2 cm
+    capsule); never for the contact search.
+    """
+    reduced = (theta - TWO_PI * np.rint(theta * (1.0 / TWO_PI))).astype(np.float32)
+    return np.sin(reduced), np.cos(reduced)
+
+
+def depth_at(theta, profile):
+    """Depth of the lowest point below the centre at ``theta`` (single
+    precision trigonometry, see :func:`sincos_single`). [m]"""
     half_long, half_wide, round_long, round_wide = profile
-    s, c = np.sin(theta), np.cos(theta)
-    ellipse = np.sqrt((round_long * s) ** 2 + (round_wide * c) ** 2)
-    stretch = round_long ** 2 - round_wide ** 2
-    with np.errstate(invalid="ignore", divide="ignore"):
-        safe = np.where(ellipse > 0, ellipse, 1.0)
-        e1 = np.where(ellipse > 0, stretch * s * c / safe, 0.0)
-        e2 = np.where(ellipse > 0, (stretch * (c * c - s * s) - e1 * e1) / safe, 0.0)
+    s, c = sincos_single(theta)
+    ellipse, _ = _ellipse(s, c, round_long, round_wide, round_long != round_wide)
+    return half_long * np.abs(s) + half_wide * np.abs(c) + ellipse
+
+
+def _depth_derivatives(theta, profile, rounded):
+    """``d``, ``d'`` and ``d''`` of the depth (one-sided mean at corners)."""
+    half_long, half_wide, round_long, round_wide = profile
+    s, c = sincos_single(theta)
+    ellipse, e1 = _ellipse(s, c, round_long, round_wide, rounded)
+    if np.any(rounded):
+        stretch = round_long ** 2 - round_wide ** 2
+        with np.errstate(invalid="ignore", divide="ignore"):
+            e2 = np.where(rounded, (stretch * (c * c - s * s) - e1 * e1) / ellipse, 0.0)
+    else:
+        e2 = 0.0
     sa, ca = np.abs(s), np.abs(c)
     d = half_long * sa + half_wide * ca + ellipse
     d1 = half_long * np.sign(s) * c - half_wide * np.sign(c) * s + e1
-    d2 = -half_long * sa - half_wide * ca + e2
+    d2 = e2 - half_long * sa - half_wide * ca
     return d, d1, d2
 
 
-def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_steps=4):
+def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_steps=2):
     """Highest centre, lowest-point and top-point heights over a flight.
 
     The heights are those actually reached in ``[0, duration]``, not the
@@ -177,12 +241,14 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_s
 
     The centre peak is exact. The lowest point ``y - d(theta)`` and the top
     point ``y + d(theta)`` can only peak where the centre is within
-    ``d_high - d_low`` of its own peak. In that window the candidates are its
-    ends, the centre's apex and every quarter turn (axis flat or upright,
-    where the depth is known exactly: ``B + b`` or ``A + a``; the corners of
-    the depth sit there). The best candidate is then polished by safeguarded
-    Newton steps on ``h' = 0`` towards its better neighbour, and only kept if
-    higher. Checked against dense sampling in ``tests/test_flight.py``.
+    ``d_high - d_low`` of its own peak. The candidates there are the window's
+    ends, the centre's apex, and the quarter turns (axis flat or upright,
+    where the depth is known exactly, ``B + b`` or ``A + a``, and where its
+    corners sit) nearest the apex on either side: among quarter turns of one
+    kind the depth is the same, so the one nearest the apex is the highest.
+    The best candidate is polished by Newton steps on ``h' = 0`` kept within
+    a quarter turn and the flight; a polished value is only kept if higher.
+    Checked against dense sampling in ``tests/test_flight.py``.
 
     Returns
     -------
@@ -190,68 +256,55 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_s
         Peak heights above the floor. [m]
     """
     half_long, half_wide, round_long, round_wide = profile
+    rounded = round_long != round_wide
     t_apex = np.clip(vy / GRAVITY, 0.0, duration)
     centre = y + vy * t_apex - 0.5 * GRAVITY * t_apex ** 2
     spread = d_high - d_low
-    disc = np.sqrt(np.maximum(vy ** 2 - 2 * GRAVITY * (centre - spread - y), 0.0))
+    disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - spread - y), 0.0))
     t_lo = np.clip((vy - disc) / GRAVITY, 0.0, duration)
     t_hi = np.clip((vy + disc) / GRAVITY, 0.0, duration)
 
-    # quarter turns in the window
-    quarter = 0.5 * np.pi
-    th_a, th_b = theta + omega * t_lo, theta + omega * t_hi
-    k_first = np.ceil(np.minimum(th_a, th_b) / quarter)
-    k_last = np.floor(np.maximum(th_a, th_b) / quarter)
-    turns = np.where(omega != 0, np.maximum(k_last - k_first + 1, 0), 0).astype(np.int64)
-    columns = int(turns.max()) if turns.size else 0
-    k = k_first[:, None] + np.arange(columns)[None, :]
-    valid = np.arange(columns)[None, :] < turns[:, None]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t_q = np.where(valid, (k * quarter - theta[:, None]) / omega[:, None], t_apex[:, None])
-    t_q = np.clip(t_q, t_lo[:, None], t_hi[:, None])
-    upright = np.mod(k, 2) == 1
-    d_q = np.where(upright, (half_long + round_long)[:, None], (half_wide + round_wide)[:, None])
+    def centre_at(t):
+        return y + t * (vy - 0.5 * GRAVITY * t)
 
-    ends = np.stack([t_lo, t_apex, t_hi], axis=1)
-    d_ends = depth_at(theta[:, None] + omega[:, None] * ends, profile, column=True)
-    times = np.concatenate([ends, t_q], axis=1)
-    depths = np.concatenate([d_ends, d_q], axis=1)
-    centre_y = y[:, None] + vy[:, None] * times - 0.5 * GRAVITY * times * times
-    rows = np.arange(y.size)
+    candidates = [(t, depth_at(theta + omega * t, profile)) for t in (t_lo, t_apex, t_hi)]
+    quarter = 0.5 * np.pi
+    spinning = omega != 0
+    safe_omega = np.where(spinning, omega, 1.0)
+    turns_at_apex = (theta + omega * t_apex) / quarter
+    for kind, d_kind in ((0, half_wide + round_wide), (1, half_long + round_long)):
+        # quarter turns of this kind (even: axis flat, odd: upright) either
+        # side of the apex; NaN depth where there is none in the window
+        below = 2 * np.floor((turns_at_apex - kind) / 2) + kind
+        for k in (below, below + 2):
+            t = (k * quarter - theta) / safe_omega
+            ok = spinning & (t >= t_lo) & (t <= t_hi)
+            candidates.append((np.where(ok, t, t_apex), np.where(ok, d_kind, np.nan)))
+    reach = np.where(spinning, quarter / np.abs(safe_omega), t_hi - t_lo)
     peaks = []
     for sign in (-1.0, 1.0):
-        h = centre_y + sign * depths
-        best = np.argmax(h, axis=1)
-        t_best, h_best = times[rows, best], h[rows, best]
-        below = np.where(times < t_best[:, None], times, -np.inf).max(axis=1)
-        above = np.where(times > t_best[:, None], times, np.inf).min(axis=1)
-        below = np.where(np.isfinite(below), below, t_best)
-        above = np.where(np.isfinite(above), above, t_best)
-        # the neighbour side where h rises more steeply out of t_best
-        h_below = _height(y, vy, theta, omega, profile, below, sign)
-        h_above = _height(y, vy, theta, omega, profile, above, sign)
-        lo = np.where(h_above > h_below, t_best, below)
-        hi = np.where(h_above > h_below, above, t_best)
-        t = 0.5 * (lo + hi)
-        for _ in range(newton_steps):
-            d, d1, d2 = _depth_derivatives(theta + omega * t, profile)
+        best_t, best_h = None, None
+        for t, d in candidates:
+            h = centre_at(t) + sign * d
+            if best_t is None:
+                best_t, best_h = t, h
+            else:
+                better = h > best_h  # False against NaN
+                best_t, best_h = np.where(better, t, best_t), np.where(better, h, best_h)
+        lo = np.maximum(best_t - reach, 0.0)
+        hi = np.minimum(best_t + reach, duration)
+        t = best_t
+        for step_no in range(newton_steps + 1):
+            d, d1, d2 = _depth_derivatives(theta + omega * t, profile, rounded)
+            if step_no:
+                best_h = np.maximum(best_h, centre_at(t) + sign * d)
+            if step_no == newton_steps:
+                break
             slope = vy - GRAVITY * t + sign * omega * d1
-            curve = -GRAVITY + sign * omega * omega * d2
-            step = np.where(curve < 0, -slope / np.where(curve < 0, curve, -1.0),
-                            np.where(slope > 0, hi - t, lo - t))
-            t = np.clip(t + step, lo, hi)
-        h_new = _height(y, vy, theta, omega, profile, t, sign)
-        peaks.append(np.maximum(h_best, np.maximum(h_new, np.maximum(h_below, h_above))))
+            curve = sign * omega * omega * d2 - GRAVITY
+            concave = curve < 0
+            newton = -slope / np.where(concave, curve, -1.0)
+            move = np.where(concave, newton, np.where(slope > 0, 0.5, -0.5) * reach)
+            t = np.minimum(np.maximum(t + move, lo), hi)
+        peaks.append(best_h)
     return centre, peaks[0], peaks[1]
-
-
-def depth_at(theta, profile, column=False):
-    """Depth at ``theta``; ``column`` broadcasts per-drop numbers along axis 1."""
-    half_long, half_wide, round_long, round_wide = (p[:, None] for p in profile) if column else profile
-    s, c = np.sin(theta), np.cos(theta)
-    return (half_long * np.abs(s) + half_wide * np.abs(c)
-            + np.sqrt((round_long * s) ** 2 + (round_wide * c) ** 2))
-
-
-def _height(y, vy, theta, omega, profile, t, sign):
-    return y + vy * t - 0.5 * GRAVITY * t * t + sign * depth_at(theta + omega * t, profile)
