@@ -30,7 +30,7 @@ import numpy as np
 from . import flight
 from .flight import GRAVITY
 from .impact import LAW_CODE, impulse_matrix, law_codes, routh_impact
-from .shapes import Shape, depth
+from .shapes import FLAT_TOLERANCE, Shape, depth
 
 #: Why each drop stopped, by the code stored in ``DropResult.status``.
 STATUS = ("impacts", "settled", "resting", "failed")
@@ -311,7 +311,9 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         # contact offset: mean over touching corners (flat landing: the middle)
         hl, hw, rl, rw = prof
         theta = th[ids]
-        s, cs = np.sin(theta), np.cos(theta)
+        # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
+        # upright or flat lands exactly so
+        s, cs = (np.where(np.abs(v) < FLAT_TOLERANCE, 0.0, v) for v in (np.sin(theta), np.cos(theta)))
         ellipse = np.sqrt((rl * s) ** 2 + (rw * cs) ** 2)
         with np.errstate(invalid="ignore", divide="ignore"):
             e_slope = np.where(ellipse > 0, (rl ** 2 - rw ** 2) * s * cs / ellipse, 0.0)

@@ -294,3 +294,49 @@ def make_shape(kind, *, length=0.0, radius, density):
     if kind == "sphere":
         return Sphere(density=density, radius=radius)
     return SHAPES[kind](density=density, length=length, radius=radius)
+
+
+@dataclass(frozen=True)
+class MixedShapes(Shape):
+    """Bodies of different kinds in one array, for batches of mixed shapes.
+
+    Built by :func:`make_shapes`; holds the profile and mass properties of
+    each body as computed by its own class.
+    """
+
+    kinds: tuple = ()
+    parts: tuple = ()
+    kind = "mixed"
+
+    def __post_init__(self):
+        values = {name: np.concatenate([np.broadcast_to(getattr(p, name), np.shape(p.mass)).ravel()
+                                        for p in self.parts]) if self.parts else np.zeros(0)
+                  for name in ("half_long", "half_wide", "round_long", "round_wide", "mass", "inertia")}
+        self._set(**values)
+
+
+def make_shapes(kinds, length, radius, density):
+    """One body per element from the batch-table columns, in input order.
+
+    Returns a :class:`Shape` whose arrays follow the order of ``kinds``.
+    """
+    kinds = np.asarray(kinds, dtype=object)
+    length, radius, density = (np.broadcast_to(np.asarray(v, dtype=float), kinds.shape) for v in (length, radius, density))
+    order = []
+    parts = []
+    for kind in SHAPES:
+        pick = np.flatnonzero(kinds == kind)
+        if pick.size:
+            parts.append(make_shape(kind, length=length[pick], radius=radius[pick], density=density[pick]))
+            order.append(pick)
+    unknown = set(kinds.tolist()) - set(SHAPES)
+    if unknown:
+        raise ValueError(f"shape must be one of {', '.join(SHAPES)}, got {sorted(map(str, unknown))[0]!r}")
+    mixed = MixedShapes(density=1.0, kinds=tuple(SHAPES), parts=tuple(parts))
+    if not parts:
+        return mixed
+    inverse = np.empty(kinds.size, dtype=np.int64)
+    inverse[np.concatenate(order)] = np.arange(kinds.size)
+    for name in ("half_long", "half_wide", "round_long", "round_wide", "mass", "inertia"):
+        object.__setattr__(mixed, name, getattr(mixed, name)[inverse])
+    return mixed

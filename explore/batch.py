@@ -1,0 +1,192 @@
+"""Many drops from a table: validation per row, simulation, the impact table.
+
+The column names here are a contract other programs read; see
+``INPUT_COLUMNS`` and ``OUTPUT_COLUMNS``.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+import sim
+from sim.impact import LAWS, SLIP_HISTORY
+
+from .errors import InputError
+
+#: Input columns, their units, and default values (None: required).
+INPUT_COLUMNS = {
+    "shape": ("capsule | sphere | spheroid | cylinder", None),
+    "length": ("m; capsule: cylindrical part; spheroid, cylinder: full length; sphere: ignored", 0.0),
+    "radius": ("m; capsule: cap; spheroid: equatorial; cylinder, sphere: radius", None),
+    "density": ("kg/m^3", None),
+    "height": ("m, release height of the centre of mass", None),
+    "angle": ("deg, counter-clockwise from +x to the axis", None),
+    "spin": ("rad/s, counter-clockwise positive", 0.0),
+    "vx": ("m/s", 0.0),
+    "vy": ("m/s", 0.0),
+    "restitution": ("-, in [0, 1]", None),
+    "friction": ("-, >= 0", None),
+    "law": ("energetic | poisson | newton", None),
+}
+
+#: Output columns (one row per drop and impact) and their units.
+OUTPUT_COLUMNS = {
+    "drop": "0-based input row",
+    "impact": "1-based",
+    "time": "s since release",
+    "angle": "deg at impact, wrapped to [-180, 180)",
+    "vx": "m/s just after", "vy": "m/s just after", "spin": "rad/s just after",
+    "impulse_normal": "N s", "impulse_tangential": "N s",
+    "energy_before": "J", "energy_after": "J",
+    "peak_centre": "m", "peak_bottom": "m",
+    "peak_top": "m", "flight": "s, flight after this impact",
+    "x": "m, centre at impact", "y": "m, centre at impact",
+    "end": "+1 axis end, -1 other end, 0 middle",
+    "slip": "slip | stick | reversed",
+    "energy_gain": "True where the impact created energy (Newton law)",
+    "bounce": "1-based visible bounce this impact belongs to",
+    "status": "why the drop stopped: impacts | settled | resting | failed",
+    "error": "why the row could not be simulated (empty when it ran)",
+}
+
+
+def read_table(path):
+    """Read a CSV or Parquet table (chosen by the file ending)."""
+    path = Path(path)
+    if not path.exists():
+        raise InputError(f"{path}: no such file")
+    try:
+        if path.suffix.lower() in (".parquet", ".pq"):
+            return pd.read_parquet(path)
+        return pd.read_csv(path)
+    except Exception as exc:  # unreadable file: one line, no traceback
+        raise InputError(f"{path}: cannot read the table ({type(exc).__name__}: {str(exc).splitlines()[0]})")
+
+
+def write_table(frame, path):
+    """Write CSV or Parquet by the file ending; the parent folder is made."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    if path.suffix.lower() in (".parquet", ".pq"):
+        frame.to_parquet(path, index=False)
+    else:
+        frame.to_csv(path, index=False)
+
+
+def _row_errors(frame, law):
+    """Per-row reason a drop cannot be simulated ('' where it can)."""
+    n = len(frame)
+    errors = np.full(n, "", dtype=object)
+
+    def flag(bad, message):
+        bad = np.asarray(bad, dtype=bool) & (errors == "")
+        errors[bad] = [message(i) for i in np.flatnonzero(bad)]
+
+    for column in ("length", "radius", "density", "height", "angle", "spin", "vx", "vy",
+                   "restitution", "friction"):
+        values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+        raw = frame[column].to_numpy()
+        flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {r[i]!r}")
+    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float)
+           for c in ("length", "radius", "density", "height", "restitution", "friction")}
+    kinds = frame["shape"].astype(str).str.strip().str.lower().to_numpy()
+    flag(~np.isin(kinds, list(sim.SHAPES)),
+         lambda i: f"shape must be one of {', '.join(sim.SHAPES)}, got {frame['shape'].iloc[i]!r}")
+    flag(num["radius"] <= 0, lambda i: f"radius must be > 0 m, got {num['radius'][i]}")
+    flag(num["density"] <= 0, lambda i: f"density must be > 0 kg/m^3, got {num['density'][i]}")
+    needs_length = np.isin(kinds, ["spheroid", "cylinder"])
+    flag(needs_length & (num["length"] <= 0), lambda i: f"length must be > 0 m for a {kinds[i]}, got {num['length'][i]}")
+    flag((kinds == "capsule") & (num["length"] < 0), lambda i: f"length must be >= 0 m for a capsule, got {num['length'][i]}")
+    flag((num["restitution"] < 0) | (num["restitution"] > 1),
+         lambda i: f"restitution must be in [0, 1], got {num['restitution'][i]}")
+    flag(num["friction"] < 0, lambda i: f"friction must be >= 0, got {num['friction'][i]}")
+    laws = frame["law"].fillna(law).astype(str).str.strip().str.lower().to_numpy() if "law" in frame else np.full(n, law)
+    flag(~np.isin(laws, LAWS), lambda i: f"law must be one of {', '.join(LAWS)}, got {laws[i]!r}")
+    return errors, kinds, laws
+
+
+def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=32768, progress=None):
+    """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
+
+    Rows that cannot be simulated appear once, with ``impact`` empty and the
+    reason in ``error``; they never stop the batch.
+    """
+    if law not in LAWS:
+        raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
+    frame = frame.copy()
+    missing = [c for c, (_, default) in INPUT_COLUMNS.items() if default is None and c not in frame
+               and not (c == "law")]
+    if missing:
+        raise InputError(f"the drop table lacks the column(s) {', '.join(missing)} "
+                         f"(needs {', '.join(INPUT_COLUMNS)})")
+    for column, (_, default) in INPUT_COLUMNS.items():
+        if column not in frame and default is not None:
+            frame[column] = default
+    if frame.empty:
+        return pd.DataFrame(columns=list(OUTPUT_COLUMNS))
+    errors, kinds, laws = _row_errors(frame, law)
+    ok = errors == ""
+    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float) for c in
+           ("length", "radius", "density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")}
+    good = np.flatnonzero(ok)
+    # a body inside the floor is a per-row error too
+    if good.size:
+        shapes = sim.shapes.make_shapes(kinds[good], num["length"][good], num["radius"][good], num["density"][good])
+        gap = num["height"][good] - shapes.depth(np.radians(num["angle"][good]))
+        inside = gap <= 0
+        errors[good[inside]] = [f"height {num['height'][i]} m puts the body touching or inside the floor "
+                                f"(its lowest point would be at {g:.4g} m)" for i, g in zip(good[inside], gap[inside])]
+        good = good[~inside]
+    tables = []
+    if good.size:
+        shapes = sim.shapes.make_shapes(kinds[good], num["length"][good], num["radius"][good], num["density"][good])
+        release = sim.Release(height=num["height"][good], angle=np.radians(num["angle"][good]),
+                              spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good])
+        contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))
+        result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
+        tables.append(impact_table(result, merge_within, drop_ids=good))
+    bad = np.flatnonzero(errors != "")
+    if bad.size:
+        tables.append(pd.DataFrame({"drop": bad, "error": errors[bad]}))
+    table = pd.concat(tables, ignore_index=True) if tables else pd.DataFrame(columns=list(OUTPUT_COLUMNS))
+    table = table.reindex(columns=list(OUTPUT_COLUMNS))
+    table["error"] = table["error"].fillna("")
+    table = table.sort_values(["drop", "impact"], kind="stable", na_position="first").reset_index(drop=True)
+    table["impact"] = table["impact"].astype("Int64")
+    table["bounce"] = table["bounce"].astype("Int64")
+    table["end"] = table["end"].astype("Int64")
+    return table
+
+
+def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):
+    """One row per drop and impact from a :class:`sim.DropResult`."""
+    n, k = result.time.shape
+    drop_ids = np.arange(n) if drop_ids is None else np.asarray(drop_ids)
+    exists = np.arange(k)[None, :] < result.count[:, None]
+    rows, cols = np.nonzero(exists)
+    trans_b, rot_b, pot = result.energy_before()
+    trans_a, rot_a, _ = result.energy_after()
+    bounces = sim.group_bounces(result, merge_within)
+    pick = (rows, cols)
+    return pd.DataFrame({
+        "drop": drop_ids[rows],
+        "impact": cols + 1,
+        "time": result.time[pick],
+        "angle": (np.degrees(result.theta[pick]) + 180.0) % 360.0 - 180.0,
+        "vx": result.vx[pick], "vy": result.vy[pick], "spin": result.spin[pick],
+        "impulse_normal": result.impulse_normal[pick],
+        "impulse_tangential": result.impulse_tangential[pick],
+        "energy_before": (trans_b + rot_b + pot)[pick],
+        "energy_after": (trans_a + rot_a + pot)[pick],
+        "peak_centre": result.peak_centre[pick], "peak_bottom": result.peak_bottom[pick],
+        "peak_top": result.peak_top[pick], "flight": result.flight[pick],
+        "x": result.x[pick], "y": result.y[pick],
+        "end": result.end[pick],
+        "slip": np.asarray(SLIP_HISTORY, dtype=object)[result.slip[pick]],
+        "energy_gain": result.energy_gain[pick],
+        "bounce": bounces.index[pick],
+        "status": np.asarray(sim.STATUS, dtype=object)[result.status[rows]],
+        "error": "",
+    })

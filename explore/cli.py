@@ -1,0 +1,222 @@
+"""The ``hopscape`` command line.
+
+Exit codes: 0 success, 1 other failure, 2 bad input, 130 interrupted.
+Bad input is reported on one line per problem, never as a traceback.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
+
+SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
+          "can injure; wear eye protection, guard the drop zone, and follow your local safety rules.")
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse with one-line errors and exit code 2."""
+
+    def error(self, message):
+        raise InputError(message if self.prog == "hopscape" else f"{self.prog.split()[-1]}: {message}")
+
+
+def _finite(name):
+    def convert(text):
+        try:
+            value = float(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"must be a number, got {text!r}")
+        if not np.isfinite(value):
+            raise argparse.ArgumentTypeError(f"must be a finite number, got {text!r}")
+        return value
+    return convert
+
+
+def _positive_int(name, low=1):
+    def convert(text):
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"must be a whole number, got {text!r}")
+        if value < low:
+            raise argparse.ArgumentTypeError(f"must be >= {low}, got {value}")
+        return value
+    return convert
+
+
+def build_parser():
+    parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
+                     "rebound above their release height.")
+    sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
+
+    # --- drop --------------------------------------------------------
+    d = sub.add_parser("drop", help="simulate one drop, print its impacts and bounces, draw pictures")
+    d.add_argument("--shape", default="capsule", choices=["capsule", "sphere", "spheroid", "cylinder"])
+    d.add_argument("--length", type=_finite("--length"), default=None,
+                   help="[m] capsule: cylindrical part; spheroid, cylinder: full length (default 0.014)")
+    d.add_argument("--radius", type=_finite("--radius"), default=None,
+                   help="[m] capsule: cap radius; spheroid: equatorial; cylinder, sphere: radius (default 0.0035)")
+    d.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
+                   help="overall length / diameter, instead of --length (uses --radius)")
+    d.add_argument("--density", type=_finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
+    d.add_argument("--mass", type=_finite("--mass"), default=None, help="[kg] total mass, instead of --density")
+    d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help="[-] in [0, 1] (default 0.8)")
+    d.add_argument("--friction", type=_finite("--friction"), default=0.3, help="[-] Coulomb, >= 0 (default 0.3)")
+    d.add_argument("--law", default="energetic", choices=["energetic", "poisson", "newton"])
+    d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
+    d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
+                   help="which point --height is measured to (default centre)")
+    d.add_argument("--angle", type=_finite("--angle"), default=30.0,
+                   help="[deg] from horizontal to the axis, counter-clockwise (default 30)")
+    d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
+    d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
+    d.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0,
+                   help="[ms] impacts closer than this make one visible bounce (default 10)")
+    d.add_argument("--reference", default="centre", choices=["centre", "bottom", "top"],
+                   help="point whose height the rebound ratio compares (default centre)")
+    d.add_argument("--csv", type=Path, default=None, help="write the impact table to this CSV file")
+    d.add_argument("--out", type=Path, default=Path("hopscape-drop"),
+                   help="folder for the pictures (default hopscape-drop)")
+    d.add_argument("--no-plots", action="store_true", help="print only, draw nothing")
+
+    # --- batch -------------------------------------------------------
+    b = sub.add_parser("batch", help="many drops from a CSV or Parquet table")
+    b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
+    b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
+    b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
+    b.add_argument("--law", default="energetic", choices=["energetic", "poisson", "newton"],
+                   help="law for rows without a law column value (default energetic)")
+    b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
+
+    # --- bench -------------------------------------------------------
+    n = sub.add_parser("bench", help="time the kernel on the benchmark population")
+    n.add_argument("--drops", type=_positive_int("--drops"), default=200_000, help="drops to time (default 200000)")
+    n.add_argument("--jobs", type=_positive_int("--jobs"), default=1, help="worker processes (default 1)")
+    n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported")
+    n.add_argument("--json", action="store_true", help="print one JSON object")
+
+    from . import commands  # noqa: F401  (study commands register themselves)
+    commands.register(sub)
+    return parser
+
+
+def main(argv=None):
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+        handler = {"drop": cmd_drop, "batch": cmd_batch, "bench": cmd_bench}.get(args.command)
+        if handler is None:
+            from . import commands
+            handler = commands.HANDLERS[args.command]
+        return handler(args) or EXIT_OK
+    except InputError as exc:
+        for line in exc.messages:
+            print(f"hopscape: error: {line}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("hopscape: interrupted; finished work is kept", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except SystemExit as exc:  # --help
+        return exc.code if isinstance(exc.code, int) else EXIT_OK
+    except Exception as exc:  # noqa: BLE001
+        if os.environ.get("HOPSCAPE_DEBUG"):
+            raise
+        print(f"hopscape: failed: {type(exc).__name__}: {exc} (set HOPSCAPE_DEBUG=1 for the traceback)",
+              file=sys.stderr)
+        return EXIT_FAILURE
+
+
+def _user_value_errors(call):
+    """Run ``call``; a ValueError from the physics is bad input."""
+    try:
+        return call()
+    except ValueError as exc:
+        raise InputError(str(exc)) from None
+
+
+def cmd_drop(args):
+    import sim
+    from .batch import impact_table
+    from .report_text import drop_report
+
+    if args.merge_ms < 0:
+        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    radius = 0.0035 if args.radius is None else args.radius
+
+    def build():
+        if args.aspect_ratio is not None:
+            if args.length is not None:
+                raise ValueError("give --length or --aspect-ratio, not both")
+            cls = sim.SHAPES[args.shape]
+            shape = cls.from_aspect_ratio(args.aspect_ratio, 2 * radius, args.density)
+        else:
+            length = 0.014 if args.length is None else args.length
+            shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density)
+        if args.mass is not None:
+            if not args.mass > 0:
+                raise ValueError(f"--mass must be > 0 kg, got {args.mass}")
+            shape = shape.with_mass(args.mass)
+        release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
+                              vx=args.vx, vy=args.vy, reference=args.height_of)
+        contact = sim.Contact(args.restitution, args.friction, args.law)
+        result = sim.simulate(shape, release, contact, impacts=args.impacts)
+        return shape, result
+
+    shape, result = _user_value_errors(build)
+    bounces = sim.group_bounces(result, args.merge_ms / 1e3)
+    print(drop_report(shape, result, bounces, args.reference))
+    if args.csv is not None:
+        from .batch import write_table
+        write_table(impact_table(result, args.merge_ms / 1e3), args.csv)
+        print(f"\nimpact table written to {args.csv}")
+    if not args.no_plots:
+        from . import plots
+        args.out.mkdir(parents=True, exist_ok=True)
+        paths = [args.out / "strobe.png", args.out / "energy.png", args.out / "bounces.png"]
+        plots.strobe(result, path=paths[0])
+        plots.energy(result, path=paths[1])
+        plots.bounce_heights(result, bounces, reference=args.reference, path=paths[2])
+        print("pictures: " + ", ".join(str(p) for p in paths))
+    print("\n" + SAFETY)
+    return EXIT_OK
+
+
+def cmd_batch(args):
+    from .batch import read_table, run_batch, write_table
+
+    if args.merge_ms < 0:
+        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    frame = read_table(args.drops)
+    start = time.perf_counter()
+    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3)
+    elapsed = time.perf_counter() - start
+    write_table(table, args.out)
+    failed = int((table["error"] != "").sum())
+    print(f"{len(frame)} drops, {int(table['impact'].notna().sum())} impacts in {elapsed:.2f} s; "
+          f"{failed} row(s) could not be simulated (see the error column); written to {args.out}")
+    return EXIT_OK
+
+
+def cmd_bench(args):
+    from .bench import run_bench
+
+    result = run_bench(args.drops, args.jobs, args.repeat)
+    if args.json:
+        print(json.dumps(result))
+    else:
+        print(f"{result['drops']} benchmark drops x {result['impacts']} impacts, {args.jobs} job(s): "
+              f"{result['drops_per_second']:,.0f} drops/s (best of {args.repeat}: {result['seconds']:.3f} s)")
+    return EXIT_OK
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,77 @@
+"""Plain-text tables for the terminal, with units in every header."""
+from __future__ import annotations
+
+import numpy as np
+
+import sim
+from sim.impact import SLIP_HISTORY
+
+
+def wrap_degrees(theta):
+    """Angle in degrees wrapped to [-180, 180)."""
+    return (np.degrees(theta) + 180.0) % 360.0 - 180.0
+
+
+def table(headers, rows):
+    """Right-aligned text table."""
+    cells = [[str(h) for h in headers]] + [[str(c) for c in r] for r in rows]
+    widths = [max(len(r[i]) for r in cells) for i in range(len(headers))]
+    lines = ["  ".join(c.rjust(w) for c, w in zip(r, widths)) for r in cells]
+    lines.insert(1, "  ".join("-" * w for w in widths))
+    return "\n".join(lines)
+
+
+def _end_name(code, kind):
+    if kind in ("sphere", "spheroid"):
+        return "surface"
+    return {1: "end +", -1: "end -", 0: "flat"}[int(code)]
+
+
+def drop_report(shape, result, bounces, reference="centre"):
+    """Impacts, bounces and the energy bound of drop 0, as text."""
+    kind = getattr(shape, "kind", "body")
+    n = int(result.count[0])
+    tb, rb, pb = result.energy_before()
+    ta, ra, pa = result.energy_after()
+    rows = []
+    for j in range(n):
+        rows.append([
+            j + 1, f"{result.time[0, j] * 1e3:.2f}", f"{wrap_degrees(result.theta[0, j]):.1f}",
+            _end_name(result.end[0, j], kind), SLIP_HISTORY[result.slip[0, j]],
+            f"{result.vx[0, j]:+.3f}", f"{result.vy[0, j]:+.3f}", f"{result.spin[0, j]:+.1f}",
+            f"{result.impulse_normal[0, j] * 1e3:.4f}",
+            f"{(tb + rb + pb)[0, j] * 1e3:.4f}", f"{(ta + ra + pa)[0, j] * 1e3:.4f}",
+            f"{result.flight[0, j] * 1e3:.2f}", f"{result.peak_centre[0, j] * 1e3:.2f}",
+            f"{result.peak_bottom[0, j] * 1e3:.2f}",
+            "GAIN" if result.energy_gain[0, j] else "",
+        ])
+    out = [f"{kind}: mass {float(result.mass[0]) * 1e6:.1f} mg, moment of inertia "
+           f"{float(result.inertia[0]) * 1e12:.2f} mg mm^2, aspect ratio {float(np.ravel(shape.aspect_ratio)[0]):.2f}",
+           "", "Impacts (velocities and spin just after)",
+           table(["#", "time [ms]", "angle [deg]", "struck", "slip", "vx [m/s]", "vy [m/s]", "spin [rad/s]",
+                  "Jn [mN s]", "E before [mJ]", "E after [mJ]", "flight [ms]", "peak centre [mm]",
+                  "peak bottom [mm]", ""], rows)]
+    if result.energy_gain[0, :n].any():
+        out.append("GAIN: this impact created kinetic energy (Newton's law with slip reversal; "
+                   "Stronge 1991). Prefer --law energetic.")
+    rel = {r: float(bounces.release_height[r][0]) for r in sim.REFERENCES}
+    brows = []
+    for b in range(int(bounces.count[0])):
+        members = np.flatnonzero(bounces.index[0] == b + 1) + 1
+        brows.append([b + 1, ",".join(map(str, members)),
+                      *(f"{bounces.height[r][0, b] * 1e3:.2f}" for r in sim.REFERENCES),
+                      f"{bounces.ratio[reference][0, b]:.3f}"])
+    out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:.0f} ms apart merged)",
+            table(["bounce", "impacts", "centre [mm]", "bottom [mm]", "top [mm]", f"ratio ({reference})"], brows)]
+    status = sim.STATUS[int(result.status[0])]
+    out += ["",
+            f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "
+            f"top {rel['top'] * 1e3:.2f} mm",
+            f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
+            "(total energy / m g); from rest that is the release height, so only spin or a throw lets the "
+            "centre beat it, while the lowest point can, because at release it hangs below the centre.",
+            f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
+            f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
+            f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
+            f"drop ended: {status} after {n} impact(s)"]
+    return "\n".join(out)
