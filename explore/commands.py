@@ -1,8 +1,117 @@
-"""Study commands (run, check, new); registered on the main parser."""
+"""Study commands: ``run``, ``check`` and ``new``."""
 from __future__ import annotations
+
+import json
+import re
+import time
+from importlib import resources
+from pathlib import Path
+
+from .errors import InputError
 
 HANDLERS = {}
 
+#: Conservative drops per second per job for time estimates (the benchmark
+#: population runs at about 200k/s per core here; studies carry overheads).
+ESTIMATE_RATE = 100_000
+
 
 def register(sub):
-    """Add the study sub-commands to the ``hopscape`` parser."""
+    run = sub.add_parser("run", help="run a study: maps, ranking, picks and report.html")
+    run.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
+    run.add_argument("--out", type=Path, default=None, help="run folder (default runs/<name>)")
+    run.add_argument("--fresh", action="store_true", help="discard earlier results in the run folder")
+    run.add_argument("--jobs", type=int, default=None, help="override run.jobs")
+    run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None)
+    run.add_argument("--scheduler", default=None, help="address of a Dask scheduler (implies --backend dask)")
+    run.add_argument("--quiet", action="store_true", help="no progress bar")
+    check = sub.add_parser("check", help="validate a study file and say what it will run")
+    check.add_argument("study")
+    new = sub.add_parser("new", help="write a commented study template")
+    new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
+    new.add_argument("--out", type=Path, default=None)
+    HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new)
+
+
+def find_study(text):
+    path = Path(text)
+    if path.is_file():
+        return path
+    for candidate in (Path("studies") / f"{text}.yaml", Path("studies") / f"{text}.yml"):
+        if candidate.is_file():
+            return candidate
+    raise InputError(f"{text}: no such study file (looked for {text} and studies/{text}.yaml)")
+
+
+def cmd_check(args):
+    from .plan import count_drops
+    from .study import load_study
+
+    path = find_study(args.study)
+    study = load_study(path)
+    counts = count_drops(study)
+    total = sum(counts.values())
+    estimate = total / (ESTIMATE_RATE * study.run.jobs) + 3.0
+    print(f"{path}: ok - study '{study.name}'")
+    print(f"  gridded: {', '.join(study.gridded()) or 'none'}; distributed: {', '.join(study.random()) or 'none'}")
+    for stage, n in counts.items():
+        print(f"  {stage:>7}: {n:>10,} drops")
+    print(f"  total: {total:,} drops x up to {study.run.impacts} impacts; estimated {estimate:.0f} s "
+          f"with {study.run.jobs} job(s) ({study.run.backend})")
+    return 0
+
+
+def cmd_run(args):
+    from .analysis import analyse
+    from .report import write_report
+    from .runner import run_study
+    from .study import load_study
+
+    path = find_study(args.study)
+    study = load_study(path)
+    if args.jobs is not None and args.jobs < 1:
+        raise InputError(f"--jobs must be >= 1, got {args.jobs}")
+    out = args.out or Path("runs") / study.name
+    start = time.perf_counter()
+    outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,
+                        backend=args.backend, scheduler=args.scheduler, progress=not args.quiet)
+    art = analyse(outcome)
+    seconds = {"sampling": outcome.seconds["sampling"], "simulation": outcome.seconds["simulation"],
+               "loading": outcome.seconds["loading"], "analysis": art.seconds.get("analysis", 0.0),
+               "plotting": art.seconds.get("plotting", 0.0)}
+    t = time.perf_counter()
+    report = write_report(outcome, art, seconds)
+    seconds["report"] = time.perf_counter() - t
+    seconds["total"] = time.perf_counter() - start
+    (outcome.folder / "run.json").write_text(json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
+                                                          "seconds": seconds}, indent=1))
+    print(f"{study.name}: {outcome.total:,} drops ({outcome.simulated:,} simulated now) in {seconds['total']:.1f} s")
+    print("  time: " + ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items() if k != "total"))
+    if art.ranking is not None:
+        col = "ST" if "ST" in art.ranking else "mu_star"
+        top = art.ranking.sort_values(col, ascending=False).head(3)
+        print("  matters most: " + ", ".join(f"{p} ({col} {v:.2f})" for p, v in zip(top["parameter"], top[col])))
+    if art.picks is not None and len(art.picks):
+        best = art.picks.iloc[0]
+        text = f"  best pick: event probability {best['event_probability']:.0%} under tolerance"
+        if "angle_window_low_deg" in best and best["angle_window_low_deg"] == best["angle_window_low_deg"]:
+            text += f", angle window {best['angle_window_low_deg']:g}-{best['angle_window_high_deg']:g} deg"
+        if best["chaotic"]:
+            text += " (chaotic region!)"
+        print(text)
+    print(f"  report: {report}")
+    return 0
+
+
+def cmd_new(args):
+    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_.-]*", args.name):
+        raise InputError(f"name must be letters, digits, '.', '_' or '-', starting with a letter or digit; "
+                         f"got {args.name!r}")
+    out = args.out or Path("studies") / f"{args.name}.yaml"
+    if out.exists():
+        raise InputError(f"{out} exists; choose another name or --out (nothing was overwritten)")
+    text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
+    out.parent.mkdir(parents=True, exist_ok=True)
+    out.write_text(text.replace("name: NAME", f"name: {args.name}"), encoding="utf-8")
+    print(f"wrote {out}; edit it, then: hopscape check {out} && hopscape run {out}")
+    return 0

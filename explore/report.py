@@ -1,0 +1,140 @@
+"""``report.html``: the page a person reads first."""
+from __future__ import annotations
+
+import datetime as _dt
+import html
+import os
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .maps import energy_note, metric_words
+from .study import QUANTITIES, Study
+
+SAFETY = ("Drops from height and heavy, sharp or brittle parts (glass, coated tablets that shatter) can injure "
+          "people nearby: wear eye protection, guard the drop zone, keep hands clear of release jigs, and follow "
+          "your site's safety rules, which take precedence over anything here.")
+
+_CSS = """body{font-family:system-ui,sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#222}
+h1{margin-bottom:0}.sub{color:#555;margin-top:.2em}table{border-collapse:collapse;margin:.6em 0}
+td,th{border:1px solid #ccc;padding:.25em .6em;text-align:right}th{background:#f2f2f2}
+td.l,th.l{text-align:left}.box{border-left:4px solid #E69F00;background:#fff8e6;padding:.6em 1em;margin:1em 0}
+.note{border-left:4px solid #0072B2;background:#eef5fb;padding:.6em 1em;margin:1em 0}
+img{max-width:100%;border:1px solid #ddd;margin:.4em 0}figure{margin:1em 0}figcaption{color:#555;font-size:.9em}"""
+
+
+def _describe(name, q):
+    unit = QUANTITIES[name][1]
+    u = "" if unit == "-" else f" {unit}"
+    if q.kind == "fixed":
+        return "fixed", f"{q.value:g}{u}"
+    if q.kind == "grid":
+        return "grid", f"{q.grid.low:g} to {q.grid.high:g}{u} in {q.grid.steps} steps"
+    if q.kind == "uniform":
+        return "uniform", f"{q.uniform.low:g} to {q.uniform.high:g}{u}"
+    if q.kind == "log_uniform":
+        return "log-uniform", f"{q.log_uniform.low:g} to {q.log_uniform.high:g}{u}"
+    return "normal", f"mean {q.normal.mean:g}{u}, sd {q.normal.sd:g}{u} (kept within the allowed range)"
+
+
+def _table(frame: pd.DataFrame, digits=4):
+    head = "".join(f"<th>{html.escape(str(c))}</th>" for c in frame.columns)
+    rows = []
+    for _, r in frame.iterrows():
+        cells = []
+        for v in r:
+            if isinstance(v, (float, np.floating)):
+                text = "" if np.isnan(v) else f"{v:.{digits}g}"
+                cells.append(f"<td>{text}</td>")
+            else:
+                cells.append(f"<td class=l>{html.escape(str(v))}</td>")
+        rows.append("<tr>" + "".join(cells) + "</tr>")
+    return f"<table><tr>{head}</tr>{''.join(rows)}</table>"
+
+
+def _figures(items, folder):
+    out = []
+    for title, paths, csv in items:
+        png = [p for p in paths if str(p).endswith(".png")] or paths
+        rel = os.path.relpath(png[0], folder)
+        links = " ".join(f'<a href="{html.escape(os.path.relpath(p, folder))}">{Path(p).suffix[1:]}</a>'
+                         for p in list(paths) + [csv])
+        out.append(f'<figure><img src="{html.escape(rel)}" alt="{html.escape(title)}">'
+                   f"<figcaption>{html.escape(title)} - files: {links}</figcaption></figure>")
+    return "\n".join(out)
+
+
+def write_report(outcome, art, seconds) -> Path:
+    study: Study = outcome.study
+    folder = Path(outcome.folder)
+    value_words, event_words = metric_words(study)
+    parts = [f"<!doctype html><html><head><meta charset=utf-8><title>{html.escape(study.name)}</title>"
+             f"<style>{_CSS}</style></head><body>",
+             f"<h1>{html.escape(study.name)}</h1><p class=sub>{html.escape(study.description)}</p>",
+             f"<p class=sub>hopscape study report, {_dt.datetime.now():%Y-%m-%d %H:%M}</p>",
+             f"<div class=box><b>Safety.</b> {html.escape(SAFETY)}</div>"]
+    # summary
+    rows = [("body shape", "", study.body.shape), ("impact law", "", study.contact.law),
+            ("release height measured to", "", study.release.height_of)]
+    for name, q in study.quantities().items():
+        kind, text = _describe(name, q)
+        rows.append((QUANTITIES[name][4], kind, text))
+    summary = pd.DataFrame(rows, columns=["quantity", "how", "values"])
+    tol = study.tolerance
+    parts += ["<h2>Study</h2>", _table(summary),
+              f"<p>Metric: <b>{html.escape(value_words)}</b>; event: {html.escape(event_words)}; goal: "
+              f"{'seek it' if study.metric.goal == 'seek' else 'avoid it'}. Up to {study.run.impacts} impacts per drop; "
+              f"impacts less than {study.run.merge_ms:g} ms apart count as one visible bounce. Release tolerance: "
+              f"angle +-{tol.angle:g} deg, height +-{tol.height * 1e3:g} mm, spin +-{tol.spin:g} rad/s.</p>",
+              f"<div class=note><b>Which heights can beat the release height, and why.</b> "
+              f"{html.escape(energy_note(study))} Impacts only take energy away, so without spin or a throw "
+              "the centre's rebound ratio is at most 1; the lowest point starts below the centre when the body is "
+              "tilted and can end a later bounce higher relative to its own start. A later bounce can beat the "
+              "first when the first impact turns falling speed into spin and a later impact at the other end "
+              "turns that spin back into lift.</div>"]
+    if art.maps:
+        parts += ["<h2>Regime maps</h2>", _figures(art.maps, folder)]
+    if art.curves:
+        parts += ["<h2>Curves</h2>", _figures(art.curves, folder)]
+    if art.robustness:
+        parts += ["<h2>Robustness to release errors</h2>", _figures(art.robustness, folder)]
+    if art.ranking is not None:
+        method = study.analyses.sensitivity.method
+        parts += [f"<h2>Which quantities matter ({'Sobol indices' if method == 'sobol' else 'Morris screening'})</h2>",
+                  _table(art.ranking)]
+        if method == "sobol":
+            parts.append("<p>S1: share of the metric's variance due to the quantity alone; ST: including all its "
+                         "interactions; *_conf: half-width of the 95 % bootstrap interval. A quantity with ST near 0 "
+                         "can be fixed anywhere in its range.</p>")
+        for chart in art.ranking_charts:
+            parts.append(f'<figure><img src="{html.escape(os.path.relpath(chart, folder))}"></figure>')
+        if art.convergence is not None and len(art.convergence):
+            parts.append("<p>Convergence: indices recomputed on a quarter, a half and all of the base samples "
+                         "(sensitivity-convergence.csv). If they still move, raise analyses.sensitivity.samples.</p>")
+    if art.picks is not None:
+        parts += ["<h2>Recommended drop conditions</h2>",
+                  f"<p>Ranked by the probability of the event under the release tolerance "
+                  f"({'highest' if study.metric.goal == 'seek' else 'lowest'} first).</p>", _table(art.picks)]
+        chaotic = art.picks[art.picks["chaotic"]]
+        if len(chaotic):
+            parts.append(f"<div class=box><b>Warning.</b> {len(chaotic)} of these picks sit in a chaotic region: "
+                         "tiny release errors change the outcome. Prefer a calmer pick or a tighter rig.</div>")
+    # counts
+    counts = []
+    for stage, table in outcome.tables.items():
+        status = table["status"].astype(str).value_counts()
+        counts.append({"stage": stage, "drops": len(table), **{f"ended: {k}": int(v) for k, v in status.items()},
+                       "energy-gaining impacts": int(table["energy_gain"].sum())})
+    parts += ["<h2>Counts and run time</h2>", _table(pd.DataFrame(counts).fillna(0))]
+    if any(t["energy_gain"].any() for t in outcome.tables.values()):
+        parts.append("<div class=box>Some drops had an impact that created energy (Newton's law with slip "
+                     "reversal, Stronge 1991). Their results are not physical; use the energetic law.</div>")
+    for note in art.notes:
+        parts.append(f"<p>{html.escape(note)}</p>")
+    split = ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items())
+    parts.append(f"<p>Time: {html.escape(split)}. Drops simulated in this call: {outcome.simulated:,} of "
+                 f"{outcome.total:,} (the rest were already on disk).</p></body></html>")
+    path = folder / "report.html"
+    path.write_text("\n".join(parts), encoding="utf-8")
+    return path

@@ -1,0 +1,168 @@
+"""Run a study: chunks in parallel, each finished chunk saved at once.
+
+Samples -> chunk-sized tasks -> joblib (``return_as="generator_unordered"``)
+-> each finished chunk written atomically as its own Parquet part (temporary
+file, fsync, ``os.replace``) -> a progress bar with drops per second.
+
+Running the same study into the same folder again skips the finished
+chunks, so a run killed at any moment completes on the next call with the
+same table an uninterrupted run gives. A folder holding another study's
+parts is refused (``fresh=True`` starts over).
+"""
+from __future__ import annotations
+
+import contextlib
+import json
+import os
+import shutil
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pandas as pd
+from joblib import Parallel, delayed, parallel_config
+from tqdm.auto import tqdm
+
+from .errors import InputError
+from .metrics import simulate_frame
+from .plan import build_stages
+from .study import Study
+
+
+@dataclass
+class RunOutcome:
+    study: Study
+    folder: Path
+    tables: dict            # stage -> DataFrame (inputs + metrics), in input order
+    plan: object            # the SALib plan, or None
+    seconds: dict = field(default_factory=dict)
+    simulated: int = 0      # drops simulated in this call (the rest were on disk)
+    total: int = 0
+
+
+def _part_name(stage, k):
+    return f"part-{stage}-{k:05d}.parquet"
+
+
+def write_atomic(frame: pd.DataFrame, path: Path):
+    """Write a Parquet file so that it is either whole or absent."""
+    tmp = path.with_name(path.name + f".tmp{os.getpid()}")
+    frame.to_parquet(tmp, index=False)
+    with open(tmp, "rb+") as handle:
+        os.fsync(handle.fileno())
+    os.replace(tmp, path)
+    with contextlib.suppress(OSError):
+        fd = os.open(path.parent, os.O_RDONLY)
+        os.fsync(fd)
+        os.close(fd)
+
+
+def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
+    """Create or reuse the run folder; refuse one that holds another study."""
+    folder = Path(folder)
+    stamp = folder / "fingerprint.json"
+    if fresh and folder.exists():
+        for sub in ("results", "maps"):
+            shutil.rmtree(folder / sub, ignore_errors=True)
+        for name in ("fingerprint.json", "sensitivity.csv", "picks.csv", "report.html", "run.json"):
+            with contextlib.suppress(FileNotFoundError):
+                (folder / name).unlink()
+    if stamp.exists():
+        old = json.loads(stamp.read_text())
+        if old.get("fingerprint") != study.fingerprint():
+            raise InputError(f"{folder} holds results of a different version of study '{old.get('name')}' "
+                             f"(fingerprint {old.get('fingerprint')} vs {study.fingerprint()}); rerun with --fresh "
+                             "to start over, or choose another --out")
+    elif (folder / "results").exists() and any((folder / "results").glob("part-*.parquet")):
+        raise InputError(f"{folder} holds result parts of unknown origin; rerun with --fresh or choose another --out")
+    (folder / "results").mkdir(parents=True, exist_ok=True)
+    for stale in (folder / "results").glob("*.tmp*"):
+        stale.unlink()
+    (folder / "study.yaml").write_text(source_text, encoding="utf-8")
+    stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint()}, indent=1))
+    return folder
+
+
+def _work(study, stage, k, frame):
+    return stage, k, simulate_frame(study, frame)
+
+
+@contextlib.contextmanager
+def _backend(study, jobs, backend, scheduler):
+    if backend == "dask":
+        try:
+            from dask.distributed import Client, LocalCluster
+        except ImportError:
+            raise InputError("run.backend: dask needs the dask extra: pip install 'hopscape[dask]'") from None
+        if scheduler:
+            client = Client(scheduler)
+            cluster = None
+        else:
+            cluster = LocalCluster(n_workers=jobs, threads_per_worker=1, processes=True,
+                                   dashboard_address=None)
+            client = Client(cluster)
+        try:
+            with parallel_config(backend="dask"):
+                yield None
+        finally:
+            client.close()
+            if cluster is not None:
+                cluster.close()
+    else:
+        yield None
+
+
+def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, backend=None,
+              scheduler=None, progress=True) -> RunOutcome:
+    """Simulate every stage of ``study`` into ``folder`` (resuming)."""
+    clock = {"start": time.perf_counter()}
+    folder = prepare_folder(study, Path(folder), source_text, fresh=fresh)
+    jobs = jobs or study.run.jobs
+    backend = backend or study.run.backend
+    scheduler = scheduler or study.run.scheduler
+    if scheduler:
+        backend = "dask"
+    stages, plan = build_stages(study)
+    clock["sampling"] = time.perf_counter() - clock["start"]
+    size = study.run.chunk_size
+    results = folder / "results"
+    tasks, done_drops = [], 0
+    for stage, frame in stages.items():
+        for k, start in enumerate(range(0, len(frame), size)):
+            if (results / _part_name(stage, k)).exists():
+                done_drops += min(size, len(frame) - start)
+            else:
+                tasks.append((stage, k, start))
+    total = sum(len(f) for f in stages.values())
+    t_sim = time.perf_counter()
+    bar = tqdm(total=total, initial=done_drops, unit="drop", unit_scale=True, disable=not progress,
+               desc=f"{study.name}", dynamic_ncols=True, smoothing=0.1)
+    simulated = 0
+    try:
+        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size])
+                 for stage, k, start in tasks)
+        if backend == "sequential" or (jobs == 1 and backend != "dask"):
+            outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size]) for stage, k, start in tasks)
+            for stage, k, frame in outputs:
+                write_atomic(frame, results / _part_name(stage, k))
+                bar.update(len(frame))
+                simulated += len(frame)
+        else:
+            with _backend(study, jobs, backend, scheduler):
+                kwargs = {} if backend == "dask" else {"backend": backend}
+                parallel = Parallel(n_jobs=jobs, return_as="generator_unordered", **kwargs)
+                for stage, k, frame in parallel(calls):
+                    write_atomic(frame, results / _part_name(stage, k))
+                    bar.update(len(frame))
+                    simulated += len(frame)
+    finally:
+        bar.close()
+    clock["simulation"] = time.perf_counter() - t_sim
+    t_load = time.perf_counter()
+    tables = {}
+    for stage, frame in stages.items():
+        parts = sorted(results.glob(f"part-{stage}-*.parquet"))
+        table = pd.concat([pd.read_parquet(p) for p in parts], ignore_index=True) if parts else frame.iloc[:0]
+        tables[stage] = table
+    clock["loading"] = time.perf_counter() - t_load
+    return RunOutcome(study, folder, tables, plan, clock, simulated, total)

@@ -1,0 +1,489 @@
+"""Study files: YAML 1.2 with line tracking into strict pydantic models.
+
+A study file names a study, describes the body, the contact and the
+release, says which quantities are fixed, swept on a grid or drawn from a
+distribution, the metric and the analyses wanted, and how to run. Every
+mistake is reported before anything is simulated, all at once, as
+``file:line:col: field.path: message``.
+
+Units in a study file: metres, kilograms, seconds, degrees for angles,
+rad/s for spin.
+"""
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from pathlib import Path
+from typing import Literal, Optional, Union
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+from ruamel.yaml import YAML
+from ruamel.yaml.error import MarkedYAMLError
+
+from .errors import InputError
+
+#: Every quantity a study can fix, sweep or draw: section, unit, allowed
+#: range (inclusive), axis label. The ranges are plausibility limits for a
+#: drop rig, not physics limits; ``check`` names them in its messages.
+QUANTITIES = {
+    "aspect_ratio": ("body", "-", 0.05, 50.0, "aspect ratio (overall length / diameter)"),
+    "length": ("body", "m", 0.0, 5.0, "length"),
+    "diameter": ("body", "m", 1e-5, 2.0, "diameter"),
+    "density": ("body", "kg/m^3", 1.0, 30000.0, "density"),
+    "restitution": ("contact", "-", 0.0, 1.0, "restitution"),
+    "friction": ("contact", "-", 0.0, 5.0, "friction coefficient"),
+    "height": ("release", "m", 1e-5, 100.0, "release height"),
+    "angle": ("release", "deg", -360.0, 360.0, "release angle"),
+    "spin": ("release", "rad/s", -10000.0, 10000.0, "release spin"),
+    "vx": ("release", "m/s", -100.0, 100.0, "release velocity x"),
+    "vy": ("release", "m/s", -100.0, 100.0, "release velocity y"),
+}
+#: Column name of each quantity in result tables (the unit in the name).
+COLUMN = {name: name if unit == "-" else f"{name}_{unit.replace('/', '_').replace('^', '')}"
+          for name, (_, unit, *_rest) in QUANTITIES.items()}
+
+
+def label(name):
+    """Axis label with unit, e.g. ``release angle [deg]``."""
+    section, unit, low, high, text = QUANTITIES[name]
+    return f"{text} [{unit}]"
+
+
+class Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class Grid(Strict):
+    """Evenly spaced values from ``low`` to ``high`` inclusive."""
+
+    low: float
+    high: float
+    steps: int = Field(ge=2, le=2001)
+
+    @model_validator(mode="after")
+    def _ordered(self):
+        if not self.low < self.high:
+            raise ValueError(f"low must be below high, got low {self.low} and high {self.high}")
+        return self
+
+
+class Uniform(Strict):
+    low: float
+    high: float
+
+    @model_validator(mode="after")
+    def _ordered(self):
+        if not self.low < self.high:
+            raise ValueError(f"low must be below high, got low {self.low} and high {self.high}")
+        return self
+
+
+class LogUniform(Uniform):
+    low: float = Field(gt=0)
+
+
+class Normal(Strict):
+    """Normal around ``mean`` with standard deviation ``sd``; truncated to
+    the quantity's allowed range."""
+
+    mean: float
+    sd: float = Field(gt=0)
+
+
+class Quantity(Strict):
+    """A number (fixed), or exactly one of ``grid``, ``uniform``, ``normal``,
+    ``log_uniform``."""
+
+    value: Optional[float] = None
+    grid: Optional[Grid] = None
+    uniform: Optional[Uniform] = None
+    normal: Optional[Normal] = None
+    log_uniform: Optional[LogUniform] = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _number_is_fixed(cls, data):
+        if isinstance(data, bool):
+            raise ValueError(f"must be a number or a mapping with one of value, grid, uniform, normal, "
+                             f"log_uniform; got {data!r}")
+        if isinstance(data, (int, float)):
+            return {"value": data}
+        return data
+
+    @model_validator(mode="after")
+    def _exactly_one(self):
+        given = [k for k in ("value", "grid", "uniform", "normal", "log_uniform") if getattr(self, k) is not None]
+        if len(given) != 1:
+            raise ValueError("give exactly one of value, grid, uniform, normal, log_uniform"
+                             + (f"; got {', '.join(given)}" if given else ""))
+        if self.value is not None and not math.isfinite(self.value):
+            raise ValueError(f"must be a finite number, got {self.value}")
+        return self
+
+    @property
+    def kind(self):
+        for k in ("value", "grid", "uniform", "normal", "log_uniform"):
+            if getattr(self, k) is not None:
+                return "fixed" if k == "value" else k
+
+    @property
+    def varies(self):
+        return self.kind != "fixed"
+
+    def span(self):
+        """(low, high) the quantity covers; the mean for a normal."""
+        if self.value is not None:
+            return self.value, self.value
+        if self.grid is not None:
+            return self.grid.low, self.grid.high
+        if self.normal is not None:
+            return self.normal.mean, self.normal.mean
+        part = self.uniform or self.log_uniform
+        return part.low, part.high
+
+
+def _check_range(name, q):
+    if q is None:
+        return q
+    _, unit, low, high, _ = QUANTITIES[name]
+    lo, hi = q.span()
+    for v in (lo, hi):
+        if not (low <= v <= high):
+            raise ValueError(f"must lie in [{low:g}, {high:g}] {unit}, got {v:g}")
+    return q
+
+
+class _Section(Strict):
+    @field_validator("*", mode="after")
+    @classmethod
+    def _in_range(cls, value, info):
+        if isinstance(value, Quantity):
+            return _check_range(info.field_name, value)
+        return value
+
+
+class Body(_Section):
+    shape: Literal["capsule", "sphere", "spheroid", "cylinder"] = "capsule"
+    diameter: Quantity
+    aspect_ratio: Optional[Quantity] = None
+    length: Optional[Quantity] = None
+    density: Quantity = Quantity(value=1200.0)
+
+
+class Contact(_Section):
+    law: Literal["energetic", "poisson", "newton"] = "energetic"
+    restitution: Quantity
+    friction: Quantity
+
+
+class Release(_Section):
+    height: Quantity
+    height_of: Literal["centre", "bottom"] = "centre"
+    angle: Quantity
+    spin: Quantity = Quantity(value=0.0)
+    vx: Quantity = Quantity(value=0.0)
+    vy: Quantity = Quantity(value=0.0)
+
+
+class Metric(Strict):
+    """What counts: the rebound ratio of a bounce, or one of two flags."""
+
+    kind: Literal["ratio", "beats_release", "beats_first"] = "ratio"
+    bounce: Union[Literal["later", "first"], int] = "later"
+    reference: Literal["centre", "bottom", "top"] = "centre"
+    goal: Literal["seek", "avoid"] = "seek"
+    threshold: float = Field(default=1.0, gt=0, le=10)
+
+    @field_validator("bounce")
+    @classmethod
+    def _positive(cls, v):
+        if isinstance(v, int) and v < 1:
+            raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v}")
+        return v
+
+
+class MapSpec(Strict):
+    x: Literal[tuple(QUANTITIES)]
+    y: Literal[tuple(QUANTITIES)]
+    formats: list[Literal["png", "svg", "pdf"]] = ["png"]
+
+
+class CurveSpec(Strict):
+    x: Literal[tuple(QUANTITIES)]
+    formats: list[Literal["png", "svg", "pdf"]] = ["png"]
+
+
+class Sensitivity(Strict):
+    method: Literal["sobol", "morris"] = "sobol"
+    samples: int = Field(default=1024, ge=4, le=2 ** 20)
+    second_order: bool = False
+    levels: int = Field(default=4, ge=2, le=16)
+
+    @model_validator(mode="after")
+    def _power_of_two(self):
+        if self.method == "sobol" and self.samples & (self.samples - 1):
+            raise ValueError(f"samples must be a power of two for Sobol sampling, got {self.samples} "
+                             f"(nearest: {2 ** round(math.log2(self.samples))})")
+        return self
+
+
+class Tolerance(Strict):
+    """Release tolerance of the rig, as +- half-widths of uniform errors."""
+
+    angle: float = Field(default=2.0, ge=0, le=90)
+    height: float = Field(default=0.005, ge=0, le=10)
+    spin: float = Field(default=0.0, ge=0, le=1000)
+    draws: int = Field(default=32, ge=2, le=4096)
+
+
+class Picks(Strict):
+    count: int = Field(default=5, ge=1, le=100)
+    target: float = Field(default=0.8, gt=0, le=1)
+    chaotic_spread: float = Field(default=0.1, gt=0, le=10)
+
+
+class Analyses(Strict):
+    maps: list[MapSpec] = []
+    curves: list[CurveSpec] = []
+    draws: int = Field(default=16, ge=1, le=4096)
+    robustness: bool = True
+    sensitivity: Optional[Sensitivity] = None
+    picks: Optional[Picks] = None
+
+
+class RunSettings(Strict):
+    jobs: int = Field(default=2, ge=1, le=512)
+    backend: Literal["loky", "threading", "sequential", "dask"] = "loky"
+    scheduler: Optional[str] = None
+    chunk_size: int = Field(default=20000, ge=100, le=1_000_000)
+    seed: int = Field(default=1, ge=1, le=2 ** 32 - 1)
+    impacts: int = Field(default=6, ge=1, le=50)
+    merge_ms: float = Field(default=10.0, ge=0, le=1000)
+
+
+class Study(Strict):
+    name: str = Field(pattern=r"^[A-Za-z0-9][A-Za-z0-9_.-]*$", max_length=80)
+    description: str = ""
+    body: Body
+    contact: Contact
+    release: Release
+    metric: Metric = Metric()
+    tolerance: Tolerance = Tolerance()
+    analyses: Analyses = Analyses()
+    run: RunSettings = RunSettings()
+
+    # ------------------------------------------------------------------
+    def quantity(self, name):
+        section = QUANTITIES[name][0]
+        return getattr(getattr(self, section), name)
+
+    def quantities(self):
+        """All quantities given (name -> Quantity), in a fixed order."""
+        out = {}
+        for name in QUANTITIES:
+            q = self.quantity(name)
+            if q is not None:
+                out[name] = q
+        return out
+
+    def gridded(self):
+        return [n for n, q in self.quantities().items() if q.kind == "grid"]
+
+    def random(self):
+        return [n for n, q in self.quantities().items() if q.kind in ("uniform", "normal", "log_uniform")]
+
+    def varying(self):
+        return [n for n, q in self.quantities().items() if q.varies]
+
+    def fingerprint(self):
+        """Hash of everything that decides the numbers (not jobs or backend)."""
+        data = self.model_dump(mode="json")
+        for key in ("jobs", "backend", "scheduler"):
+            data["run"].pop(key)
+        return hashlib.sha256(json.dumps(data, sort_keys=True).encode()).hexdigest()[:16]
+
+
+def cross_check(study: Study):
+    """Settings that contradict each other: list of (field path, message)."""
+    problems = []
+    body = study.body
+    if body.shape == "sphere":
+        for name in ("aspect_ratio", "length"):
+            if getattr(body, name) is not None:
+                problems.append((("body", name), f"a sphere has no {name}; remove it"))
+    else:
+        given = [n for n in ("aspect_ratio", "length") if getattr(body, n) is not None]
+        if len(given) != 1:
+            problems.append((("body",), f"a {body.shape} needs exactly one of aspect_ratio or length"
+                             + (f"; got {' and '.join(given)}" if given else "")))
+        if body.aspect_ratio is not None and body.shape == "capsule" and body.aspect_ratio.span()[0] < 1:
+            problems.append((("body", "aspect_ratio"), "a capsule's aspect ratio must be >= 1 "
+                             f"(it is at least a sphere), got {body.aspect_ratio.span()[0]:g}"))
+        if body.length is not None and body.shape in ("spheroid", "cylinder") and body.length.span()[0] <= 0:
+            problems.append((("body", "length"), f"a {body.shape}'s length must be > 0 m"))
+    gridded = study.gridded()
+    for i, m in enumerate(study.analyses.maps):
+        for axis in ("x", "y"):
+            name = getattr(m, axis)
+            if name not in gridded:
+                problems.append((("analyses", "maps", i, axis), f"{name} is not swept on a grid; map axes must "
+                                 f"be grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
+        if m.x == m.y:
+            problems.append((("analyses", "maps", i, "y"), "x and y must differ"))
+    for i, c in enumerate(study.analyses.curves):
+        if c.x not in gridded:
+            problems.append((("analyses", "curves", i, "x"), f"{c.x} is not swept on a grid; curve axes must be "
+                             f"grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
+    sens = study.analyses.sensitivity
+    if sens is not None and len(study.varying()) < 2:
+        problems.append((("analyses", "sensitivity"), "needs at least two quantities that vary (grid or "
+                         f"distribution), got {len(study.varying())}"))
+    if (study.analyses.picks is not None or study.analyses.robustness) and not gridded:
+        problems.append((("analyses", "picks" if study.analyses.picks is not None else "robustness"),
+                         "picks and the robustness map need at least one grid quantity"))
+    if isinstance(study.metric.bounce, int) and study.metric.bounce > study.run.impacts:
+        problems.append((("metric", "bounce"), f"bounce {study.metric.bounce} can never be seen with "
+                         f"run.impacts {study.run.impacts}; raise run.impacts"))
+    if study.run.scheduler is not None and study.run.backend != "dask":
+        problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
+    cells = grid_cells(study)
+    total = cells * max(study.analyses.draws if study.random() else 1, 1)
+    if total > 20_000_000:
+        problems.append((("analyses", "draws"), f"the grid needs {total:,} drops (over the 20,000,000 limit); "
+                         "use fewer steps or draws"))
+    return problems
+
+
+def grid_cells(study):
+    cells = 1
+    for name in study.gridded():
+        cells *= study.quantity(name).grid.steps
+    return cells
+
+
+# ----------------------------------------------------------------------
+# loading
+
+
+def _position(data, loc):
+    """Line and column (1-based) of the deepest part of ``loc`` in ``data``."""
+    line, col = 1, 1
+    node = data
+    for key in loc:
+        lc = getattr(node, "lc", None)
+        try:
+            if isinstance(key, int) and isinstance(node, list):
+                if lc is not None and key < len(node):
+                    line, col = lc.item(key)
+                    line, col = line + 1, col + 1
+                node = node[key]
+            elif hasattr(node, "keys") and key in node:
+                if lc is not None:
+                    kl, kc = lc.key(key)
+                    line, col = kl + 1, kc + 1
+                node = node[key]
+            else:
+                break
+        except Exception:  # noqa: BLE001 - positions are a courtesy
+            break
+    return line, col
+
+
+def _duplicates(yaml, text):
+    """All duplicate keys, as (line, col, message); ruamel stops at the first."""
+    found = []
+    try:
+        root = yaml.compose(text)
+    except MarkedYAMLError:
+        return found
+    stack = [root]
+    while stack:
+        node = stack.pop()
+        if node is None:
+            continue
+        if node.id == "mapping":
+            seen = {}
+            for key, value in node.value:
+                k = getattr(key, "value", None)
+                if k in seen:
+                    found.append((key.start_mark.line + 1, key.start_mark.column + 1,
+                                  f"{k}: duplicate key (first given on line {seen[k]})"))
+                else:
+                    seen[k] = key.start_mark.line + 1
+                stack.append(value)
+        elif node.id == "sequence":
+            stack.extend(node.value)
+    return found
+
+
+def _loc_text(loc):
+    parts = []
+    for item in loc:
+        if isinstance(item, int):
+            parts.append(f"[{item}]")
+        else:
+            parts.append(("." if parts else "") + str(item))
+    return "".join(parts) or "(top level)"
+
+
+def load_study(path) -> Study:
+    """Read and validate a study file; raise :class:`InputError` with every
+    problem as ``file:line:col: field: message``."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"{path}: no such study file")
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{path}: cannot read the study file ({exc})")
+    return parse_study(text, str(path))
+
+
+def parse_study(text, filename="<study>") -> Study:
+    yaml = YAML(typ="rt")
+    yaml.version = (1, 2)
+    yaml.allow_duplicate_keys = True
+    messages = [f"{filename}:{ln}:{col}: {msg}" for ln, col, msg in _duplicates(YAML(typ="rt"), text)]
+    try:
+        data = yaml.load(text)
+    except MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
+        problem = exc.problem or exc.context or "YAML syntax error"
+        raise InputError(messages + [f"{filename}:{line}:{col}: YAML syntax error: {problem}"])
+    if data is None:
+        raise InputError(messages + [f"{filename}:1:1: the study file is empty; start from `hopscape new NAME`"])
+    if not hasattr(data, "keys"):
+        raise InputError(messages + [f"{filename}:1:1: a study file must be a mapping of sections "
+                                     f"(name, body, contact, release, ...), got a {type(data).__name__}"])
+    try:
+        study = Study.model_validate(_plain(data))
+    except ValidationError as exc:
+        for err in exc.errors():
+            loc = tuple(err["loc"])
+            line, col = _position(data, loc)
+            msg = err["msg"].removeprefix("Value error, ")
+            if err["type"] == "extra_forbidden":
+                msg = "unknown field (check the spelling; `hopscape new` writes every field)"
+            elif err["type"] == "missing":
+                msg = "required field is missing"
+            elif "input" in err and err["type"] not in ("value_error",) and "got" not in msg:
+                msg = f"{msg}, got {err['input']!r}"
+            messages.append(f"{filename}:{line}:{col}: {_loc_text(loc)}: {msg}")
+        raise InputError(messages)
+    for loc, msg in cross_check(study):
+        line, col = _position(data, loc)
+        messages.append(f"{filename}:{line}:{col}: {_loc_text(loc)}: {msg}")
+    if messages:
+        raise InputError(messages)
+    return study
+
+
+def _plain(node):
+    """ruamel containers to plain dicts and lists (pydantic wants those)."""
+    if hasattr(node, "keys"):
+        return {str(k): _plain(v) for k, v in node.items()}
+    if isinstance(node, list):
+        return [_plain(v) for v in node]
+    return node
