@@ -65,7 +65,7 @@ def analyse(outcome: RunOutcome) -> Artefacts:
             ranked = sensitivity.sobol_analyze(plan, y)
             if isinstance(ranked, tuple):
                 ranked, art.second_order = ranked
-            art.convergence = sensitivity.sobol_convergence(plan, y)
+            art.convergence = sensitivity.sobol_convergence(plan, y, full=ranked)
         else:
             ranked = sensitivity.morris_analyze(plan, y)
         art.ranking = ranked

@@ -54,7 +54,7 @@ from __future__ import annotations
 
 import math
 import numbers
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -383,7 +383,7 @@ class SobolPlan:
     base_samples: int
     second_order: bool
     seed: int
-    unit: np.ndarray
+    unit: np.ndarray = field(repr=False)
 
     def __post_init__(self):
         object.__setattr__(self, "names", _names(self.names))
@@ -432,7 +432,7 @@ class MorrisPlan:
     trajectories: int
     levels: int
     seed: int
-    unit: np.ndarray
+    unit: np.ndarray = field(repr=False)
 
     def __post_init__(self):
         object.__setattr__(self, "names", _names(self.names))
@@ -713,7 +713,7 @@ def sobol_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAU
     return indices, pairs
 
 
-def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAULT_RESAMPLES):
+def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAULT_RESAMPLES, full=None):
     """S1 and ST recomputed on the first N/4, N/2 and all N base samples.
 
     A prefix of 2^k points of a scrambled Sobol' sequence is itself a
@@ -730,6 +730,9 @@ def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=D
     confidence_level, seed, num_resamples
         As in :func:`sobol_analyze`; every level uses the same bootstrap
         seed.
+    full : pandas.DataFrame, optional
+        The table :func:`sobol_analyze` already gave for all N with the same
+        settings; reused for the last level instead of a second bootstrap.
 
     Returns
     -------
@@ -744,10 +747,14 @@ def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=D
     confidence_level = _confidence(confidence_level)
     num_resamples = _integer("num_resamples", num_resamples, 2)
     seed = _analysis_seed(plan, seed)
-    full = plan.base_samples
-    levels = [n for n in (full // 4, full // 2, full) if n >= 2]
+    n_full = plan.base_samples
+    levels = [n for n in (n_full // 4, n_full // 2, n_full) if n >= 2]
     frames = []
     for base in levels:
+        if base == plan.base_samples and full is not None:
+            frames.append(pd.DataFrame({"base_samples": base, "parameter": list(full["parameter"]),
+                                        **{c: full[c].to_numpy() for c in ("S1", "S1_conf", "ST", "ST_conf")}}))
+            continue
         part = y[: base * plan.rows_per_base_sample]
         result = _sobol_indices(plan.names, part, plan.second_order, confidence_level, num_resamples, seed)
         frames.append(pd.DataFrame({
