@@ -40,7 +40,7 @@ def outline(profile, x, y, theta, points=90):
     return x + c * bx - s * by, y + s * bx + c * by
 
 
-def strobe(result, drop=0, frames=40, path=None, title=None):
+def strobe(result, drop=0, frames=26, path=None, title=None):
     """Outlines of the body at regular times, shaded by time."""
     count = int(result.count[drop])
     end = float(result.time[drop, count - 1] + result.flight[drop, count - 1]) if count else 0.3
@@ -52,7 +52,8 @@ def strobe(result, drop=0, frames=40, path=None, title=None):
     size = 2 * float(sim.flight.depth_range(*profile)[1])
     # spread the outlines sideways by time when the body barely travels, so
     # that they do not pile up; the axis label says so
-    spread = max(0.0, (1.6 * height - travel) / max(end, 1e-9)) if travel < 1.6 * height else 0.0
+    wide = max(2.5 * height, 3 * size)
+    spread = max(0.0, (wide - travel) / max(end, 1e-9)) if travel < wide else 0.0
     fig, ax = plt.subplots(figsize=(9, 5), constrained_layout=True)
     cmap = plt.get_cmap("viridis")
     for i, t in enumerate(times):
@@ -106,6 +107,9 @@ def energy(result, drop=0, path=None, samples=2000):
     return _finish(fig, path)
 
 
+POINT = {"centre": "centre", "bottom": "lowest point", "top": "top point"}
+
+
 def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     """Height of each bounce against the release height and the energy bound."""
     heights = bounces.height[reference][drop]
@@ -118,13 +122,13 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     ax.bar(idx, heights[:count] * MM, color=colors, edgecolor="k")
     for i, r in zip(idx, ratios):
         ax.annotate(f"{r:.2f}", (i, heights[i - 1] * MM), ha="center", va="bottom", fontsize=8)
-    ax.axhline(release * MM, color=OKABE_ITO["blue"], ls="--", label=f"release height of the {reference} (ratio 1)")
+    ax.axhline(release * MM, color=OKABE_ITO["blue"], ls="--", label=f"release height of the {POINT[reference]} (ratio 1)")
     if reference == "centre":
         ax.axhline(result.energy_bound[drop] * MM, color=OKABE_ITO["red"], ls=":",
                    label="energy bound: highest the centre could ever rise")
     ax.set_xticks(idx)
     ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:.0f} ms merged)")
-    ax.set_ylabel(f"peak height of the {reference} [mm]")
+    ax.set_ylabel(f"peak height of the {POINT[reference]} [mm]")
     ax.set_title("Bounce heights (numbers: rebound ratio)")
     ax.legend(fontsize=8, loc="upper right")
     ax.set_ylim(0, max(release, float(np.nanmax(heights[:count])) if count else release,
