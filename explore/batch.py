@@ -147,6 +147,10 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))
         result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
         tables.append(impact_table(result, merge_within, drop_ids=good))
+        never = result.count == 0
+        if never.any():  # the contact search gave up before the first impact
+            tables.append(pd.DataFrame({"drop": good[never], "status": "failed",
+                                        "error": "the contact search did not converge before the first impact"}))
     bad = np.flatnonzero(errors != "")
     if bad.size:
         tables.append(pd.DataFrame({"drop": bad, "error": errors[bad]}))

@@ -125,7 +125,6 @@ IMPACT_FIELDS = {
     "x": "m, centre at impact",
     "y": "m, centre at impact",
     "theta": "rad, at impact",
-    "vx_before": "m/s", "vy_before": "m/s", "spin_before": "rad/s",
     "vx": "m/s, just after", "vy": "m/s, just after", "spin": "rad/s, just after",
     "impulse_normal": "N s", "impulse_tangential": "N s",
     "flight": "s, flight after this impact",
@@ -133,6 +132,9 @@ IMPACT_FIELDS = {
     "peak_bottom": "m, highest lowest point in the flight after",
     "peak_top": "m, highest top point in the flight after",
 }
+#: Derived on demand (``DropResult`` properties): velocities just before
+#: each impact, from the previous state and the exact flight in between.
+BEFORE_FIELDS = {"vx_before": "m/s", "vy_before": "m/s", "spin_before": "rad/s"}
 IMPACT_CODES = {
     "end": "+1 the end the axis points to, -1 the other, 0 middle (flat or round)",
     "slip": "0 slip, 1 stick, 2 reversed (sim.impact.SLIP_HISTORY)",
@@ -166,6 +168,31 @@ class DropResult:
             return impacts[name]
         raise AttributeError(name)
 
+    # velocities just before each impact: the flight keeps vx and spin, and
+    # vy falls by g * flight (the very expressions the kernel used, so the
+    # values are bit for bit those it saw)
+    def _before(self, name, release_name):
+        after = self.impacts[name]
+        first = np.broadcast_to(self.release[release_name], (after.shape[0],))[:, None]
+        return np.concatenate([first, after[:, :-1]], axis=1)
+
+    @property
+    def vx_before(self):
+        """Velocity x of the centre just before each impact. [m/s]"""
+        return self._before("vx", "vx")
+
+    @property
+    def spin_before(self):
+        """Spin just before each impact. [rad/s]"""
+        return self._before("spin", "spin")
+
+    @property
+    def vy_before(self):
+        """Velocity y of the centre just before each impact. [m/s]"""
+        previous = self._before("vy", "vy")
+        flights = np.concatenate([self.impacts["time"][:, :1], self.impacts["flight"][:, :-1]], axis=1)
+        return previous - GRAVITY * flights
+
     # energies ---------------------------------------------------------
     def _energy(self, vx, vy, spin, y):
         m, inertia = self.mass[:, None], self.inertia[:, None]
@@ -174,7 +201,7 @@ class DropResult:
     def energy_before(self):
         """Translational, rotational, potential energy just before each impact. [J]"""
         i = self.impacts
-        return self._energy(i["vx_before"], i["vy_before"], i["spin_before"], i["y"])
+        return self._energy(self.vx_before, self.vy_before, self.spin_before, i["y"])
 
     def energy_after(self):
         """Translational, rotational, potential energy just after each impact. [J]"""
@@ -209,7 +236,8 @@ def _broadcast(shape, release, contact):
         shape.mass, shape.inertia, *shape.profile, centre_y, release.angle, release.spin,
         release.vx, release.vy, contact.restitution, contact.friction)
     n = arrays[0].size
-    arrays = [np.ascontiguousarray(a, dtype=float).reshape(n) for a in arrays]
+    # views, not copies: a scalar broadcast to a million drops costs nothing
+    arrays = [np.asarray(a, dtype=float).reshape(n) for a in arrays]
     laws = law_codes(contact.law, n)
     return arrays, laws
 
@@ -331,7 +359,6 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         ke_before = 0.5 * m_i * (v_x ** 2 + v_y ** 2) + 0.5 * in_i * w ** 2
         ke_after = 0.5 * m_i * (v_x2 ** 2 + v_y2 ** 2) + 0.5 * in_i * w2 ** 2
         rec = {"time": t[ids], "x": x[ids], "y": y[ids], "theta": theta,
-               "vx_before": v_x, "vy_before": v_y, "spin_before": w,
                "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t}
         for name, value in rec.items():
             out[name][ids, j] = value
