@@ -364,7 +364,9 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             out[name][ids, j] = value
         out["slip"][ids, j] = slip
         out["energy_gain"][ids, j] = ke_after > ke_before * (1 + 1e-12)
-        out["end"][ids, j] = np.where(np.abs(along) < 0.5, 0, np.sign(along)).astype(np.int8)
+        # a piece with along = +1 lies A sin(theta) BELOW the centre: it is the
+        # end at -L/2 on the axis
+        out["end"][ids, j] = np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)
         count[ids] = j + 1
         vx[ids], vy[ids], om[ids] = v_x2, v_y2, w2
         # does it fly on?

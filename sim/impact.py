@@ -119,10 +119,16 @@ def routh_impact(tangential_velocity, normal_velocity, k_tt, k_nn, k_tn,
         p_newton1 = (u_target - u_n0) / b1
         p_newton = np.where((b1 > 0) & (p_newton1 <= p_s), p_newton1, p_s + (u_target - u_s) / b2)
 
-        # Energetic: W(p_f) = (1 - e^2) W(p_c); in phase 1 this is (1 + e) p_c
+        # Energetic: W(p_f) = (1 - e^2) W(p_c). With compression ending in
+        # phase 1 and restitution too, that is (1 + e) p_c; with compression
+        # ending in phase 2, W = W_c + b2 (p - p_c)^2 / 2 there, so
+        # p_f = p_c + e sqrt(-2 W_c / b2); otherwise restitution starts in
+        # phase 1 and ends in phase 2 (written without cancellation).
         w_target = (1 - e ** 2) * w_c
-        q = (-u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * (w_target - w_s), 0.0))) / b2
-        p_energy = np.where(in_phase1 & (p_poisson <= p_s), p_poisson, p_s + q)
+        p_phase2 = p_c2 + e * np.sqrt(np.maximum(-2 * w_c / b2, 0.0))
+        excess = np.maximum(w_target - w_s, 0.0)
+        q = 2 * excess / (u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * excess, 0.0)))
+        p_energy = np.where(in_phase1, np.where(p_poisson <= p_s, p_poisson, p_s + q), p_phase2)
 
         p_f = np.select([law == LAW_CODE["energetic"], law == LAW_CODE["poisson"]],
                         [p_energy, p_poisson], p_newton)

@@ -1,0 +1,357 @@
+"""Exact flights: the search for the next contact and the flight peaks.
+
+The reference everywhere is brute force: the floor gap
+``y(t) - d(theta(t))`` and the heights of the centre, lowest point and top
+point, evaluated on very fine time grids from the closed-form flight
+(x, y parabolic, theta linear in t) with the depth formulas of physics notes
+section 2 written out here. Grazing contacts that dip below the floor for
+only 1e-5 s or 1e-6 s are constructed analytically (physics notes
+section 5: they exist, about 2 per 10^6 random flights, and must never be
+skipped).
+"""
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from scipy.optimize import brentq, minimize_scalar
+
+import sim
+from sim import flight
+
+G = sim.GRAVITY
+
+
+def notes_depth(kind, theta, length, radius):
+    """Depth of the lowest point below the centre, physics notes section 2."""
+    s, c = np.sin(theta), np.cos(theta)
+    if kind == "capsule":
+        return length / 2 * np.abs(s) + radius
+    if kind == "spheroid":
+        return np.sqrt((length / 2 * s) ** 2 + (radius * c) ** 2)
+    if kind == "cylinder":
+        return length / 2 * np.abs(s) + radius * np.abs(c)
+    return radius + 0.0 * theta
+
+
+class Flight:
+    """One body in flight, with the engine's inputs and brute-force views."""
+
+    def __init__(self, kind, length, radius, y, vy, theta, omega):
+        self.kind, self.length, self.radius = kind, length, radius
+        self.y, self.vy, self.theta, self.omega = y, vy, theta, omega
+        shape = sim.make_shape(kind, length=length, radius=radius, density=1000.0)
+        self.profile = tuple(np.atleast_1d(np.asarray(p, dtype=float)) for p in shape.profile)
+        self.size = float(sum(p[0] for p in self.profile))  # A + B + a + b
+
+    def arrays(self):
+        state = (self.y, self.vy, self.theta, self.omega)
+        return tuple(np.atleast_1d(np.asarray(v, dtype=float)) for v in state)
+
+    def next_contact(self):
+        d2 = flight.curvature_bound(*self.profile)
+        _, d_high = flight.depth_range(*self.profile)
+        return float(flight.next_contact(*self.arrays(), self.profile, d2, d_high)[0][0])
+
+    def peaks(self, duration):
+        d_low, d_high = flight.depth_range(*self.profile)
+        out = flight.flight_peaks(*self.arrays(), np.atleast_1d(float(duration)), self.profile, d_low, d_high)
+        return tuple(float(v[0]) for v in out)
+
+    def centre(self, t):
+        return self.y + self.vy * t - 0.5 * G * t * t
+
+    def depth(self, t):
+        return notes_depth(self.kind, self.theta + self.omega * t, self.length, self.radius)
+
+    def gap(self, t):
+        return self.centre(t) - self.depth(t)
+
+    def bottom(self, t):
+        return self.centre(t) - self.depth(t)
+
+    def top(self, t):
+        return self.centre(t) + self.depth(t)
+
+    def must_touch_by(self):
+        """Time by which the centre has fallen to the smallest depth: the
+        body is certainly touching then."""
+        d_min = {"capsule": self.radius, "sphere": self.radius,
+                 "spheroid": min(self.length / 2, self.radius),
+                 "cylinder": min(self.length / 2, self.radius)}[self.kind]
+        return (self.vy + np.sqrt(self.vy ** 2 + 2 * G * (self.y - d_min))) / G
+
+
+def dense_max(height, duration, samples=200_001):
+    """Highest value of ``height(t)`` on [0, duration] by brute force.
+
+    A uniform grid, then the four best local maxima of the grid each
+    re-sampled twice more (2001 points over four cells): the final cell is
+    duration * 2e-14, so the result is within |h'| * cell (< 1e-13 m here)
+    of the true maximum, kinked or smooth.
+    """
+    t = np.linspace(0.0, duration, samples)
+    h = height(t)
+    peaks = np.flatnonzero(np.r_[True, (h[1:-1] >= h[:-2]) & (h[1:-1] >= h[2:]), True])
+    best = float(h.max())
+    cell0 = duration / (samples - 1)
+    for i in peaks[np.argsort(h[peaks])[-4:]]:
+        lo, hi = t[i] - 2 * cell0, t[i] + 2 * cell0
+        for _ in range(2):
+            lo, hi = max(lo, 0.0), min(hi, duration)
+            tt = np.linspace(lo, hi, 2001)
+            hh = height(tt)
+            j = int(np.argmax(hh))
+            best = max(best, float(hh[j]))
+            cell = (hi - lo) / 2000
+            lo, hi = tt[j] - 2 * cell, tt[j] + 2 * cell
+    return best
+
+
+# --------------------------------------------------------------------------
+# random flights
+# --------------------------------------------------------------------------
+
+@st.composite
+def flights(draw, min_vy=-3.0):
+    kind = draw(st.sampled_from(["capsule", "cylinder", "spheroid", "sphere"]))
+    radius = draw(st.floats(1e-3, 1e-2))
+    length = radius * draw(st.floats(0.2, 6.0))
+    theta = draw(st.floats(-np.pi, np.pi))
+    omega = draw(st.one_of(st.just(0.0), st.floats(-300.0, 300.0, allow_subnormal=False)))
+    vy = draw(st.floats(min_vy, 3.0))
+    clearance = 10 ** draw(st.floats(-7.0, -0.5))  # 0.1 um .. 0.3 m above the floor
+    y = float(notes_depth(kind, theta, length, radius)) + clearance
+    return Flight(kind, length, radius, y, vy, theta, omega)
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(flights())
+def test_next_contact_is_the_first_root(body):
+    # Brute force: the gap on 2e5 points up to the time the body must touch.
+    # The returned time may never be later than the first negative sample,
+    # and the gap there must be ~0: the search declares contact within
+    # sim.flight.CONTACT_GAP (1e-9 m now) of the floor while approaching, from above, so
+    # gap in [0, CONTACT_GAP] up to rounding of the heights (1e-13 m allowed,
+    # heights are < 1 m).
+    t_contact = body.next_contact()
+    assert np.isfinite(t_contact)
+    end = body.must_touch_by()
+    t = np.linspace(0.0, end, 200_001)
+    # "negative" beyond rounding of the heights (1e-13 m, as below)
+    negative = np.flatnonzero(body.gap(t) < -1e-13)
+    if negative.size:
+        assert t_contact <= t[negative[0]]
+    assert t_contact <= end * (1 + 1e-12)
+    assert -1e-13 <= body.gap(t_contact) <= flight.CONTACT_GAP + 1e-13
+
+
+def test_next_contact_batch_equals_one_by_one():
+    # The search advances many bodies together; a body's answer must not
+    # depend on its neighbours (bit for bit), including mixed shapes in one
+    # batch (four-corner pieces then also run for the round shapes).
+    rng = np.random.default_rng(7)
+    bodies = []
+    for i in range(120):
+        kind = ["capsule", "cylinder", "spheroid", "sphere"][i % 4]
+        radius = rng.uniform(1e-3, 1e-2)
+        length = radius * rng.uniform(0.2, 6.0)
+        theta = rng.uniform(-np.pi, np.pi)
+        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.5)
+        bodies.append(Flight(kind, length, radius, y, rng.uniform(-3, 3), theta, rng.uniform(-300, 300)))
+    singles = np.array([b.next_contact() for b in bodies])
+    profile = tuple(np.concatenate([b.profile[k] for b in bodies]) for k in range(4))
+    state = [np.array([b.arrays()[k][0] for b in bodies]) for k in range(4)]
+    d2 = flight.curvature_bound(*profile)
+    _, d_high = flight.depth_range(*profile)
+    batch = flight.next_contact(*state, profile, d2, d_high)[0]
+    assert np.array_equal(batch, singles)
+    # and per kind (one shape class per batch, as sim.simulate runs it)
+    for k in range(4):
+        pick = slice(k, None, 4)
+        sub = flight.next_contact(*(s[pick] for s in state), tuple(p[pick] for p in profile),
+                                  d2[pick], d_high[pick])[0]
+        assert np.array_equal(sub, singles[pick])
+
+
+# --------------------------------------------------------------------------
+# constructed grazing flights
+# --------------------------------------------------------------------------
+
+def deepest_angle(kind, length, radius):
+    """Angle where the depth has a smooth maximum (the point sweeping
+    lowest): the cap under the centre, the rim corner on the diagonal, the
+    spheroid's end."""
+    if kind == "cylinder":
+        return np.arctan2(length / 2, radius)
+    return np.pi / 2
+
+
+def grazing_flight(kind, length, radius, omega, dip, duration):
+    """A flight whose deepest point clips the floor by ``dip`` [m].
+
+    The centre starts at its apex (vy = 0) and the body turns at ``omega``
+    so that the deepest angle comes round at t0 = 0.8 theta_max / omega,
+    before any other part could come close. With ``dip`` None it is set so
+    the gap stays negative for about ``duration`` [s]; a negative dip is a
+    near miss. Returns the flight, the time of the deepest approach (scipy's
+    bounded minimiser on the closed-form gap) and a half-width around it
+    that stays clear of the depth's kinks.
+    """
+    theta_max = deepest_angle(kind, length, radius)
+    # angular distance from theta_max to the nearest kink of d(theta)
+    clear = min(theta_max, np.pi / 2 - theta_max) if kind == "cylinder" else np.pi / 2
+    t0 = 0.8 * theta_max / omega
+    theta0 = theta_max - omega * t0
+    probe = Flight(kind, length, radius, 0.0, 0.0, theta0, omega)
+    half = 0.6 * clear / omega
+    lowest = minimize_scalar(probe.gap, bounds=(t0 - half, t0 + half), method="bounded",
+                             options={"xatol": 1e-15}).x
+    assert abs(lowest - t0) < 0.5 * half  # a true interior minimum
+    h = 1e-5
+    curvature = (probe.gap(lowest + h) - 2 * probe.gap(lowest) + probe.gap(lowest - h)) / h ** 2
+    assert curvature > 0
+    if dip is None:
+        dip = 0.5 * curvature * (duration / 2) ** 2
+    y0 = -dip - probe.gap(lowest)
+    body = Flight(kind, length, radius, y0, 0.0, theta0, omega)
+    return body, lowest, 0.5 * half
+
+
+GRAZES = [
+    # kind, length, radius, spin [rad/s], time below the floor [s]
+    ("capsule", 0.012, 0.0035, 200.0, 1e-5),
+    ("capsule", 0.012, 0.0035, 1000.0, 1e-6),
+    ("capsule", 0.004, 0.002, 150.0, 1e-5),
+    ("cylinder", 0.004, 0.005, 300.0, 1e-5),
+    ("cylinder", 0.03, 0.002, 800.0, 1e-6),
+    ("spheroid", 0.02, 0.004, 400.0, 1e-5),
+]
+
+
+@pytest.mark.parametrize("kind, length, radius, omega, duration", GRAZES)
+def test_grazing_contact_is_found(kind, length, radius, omega, duration):
+    body, lowest, half = grazing_flight(kind, length, radius, omega, None, duration)
+    enter = brentq(body.gap, lowest - half, lowest, xtol=1e-16)
+    leave = brentq(body.gap, lowest, lowest + half, xtol=1e-16)
+    # the construction really is a graze of about the intended length, and
+    # nothing touches before it (2e5-point check of the gap)
+    assert 0.8 * duration < leave - enter < 1.25 * duration
+    t = np.linspace(0.0, enter, 200_001)[:-1]
+    assert body.gap(t).min() > 0
+    # the search must stop inside [first time within CONTACT_GAP, enter]:
+    # it declares contact when a piece is within CONTACT_GAP and approaching
+    t_contact = body.next_contact()
+    early = brentq(lambda s: body.gap(s) - flight.CONTACT_GAP, lowest - half, enter, xtol=1e-16)
+    assert early - 1e-12 <= t_contact <= enter + 1e-12
+    assert t_contact < leave
+    # ... and so must a whole drop released in that state
+    shape = sim.make_shape(kind, length=length, radius=radius, density=1000.0)
+    result = sim.simulate(shape, sim.Release(height=body.y, angle=body.theta, spin=omega),
+                          sim.Contact(0.5, 0.3), impacts=1)
+    assert early - 1e-12 <= result.time[0, 0] <= enter + 1e-12
+
+
+@pytest.mark.parametrize("kind, length, radius, omega, duration", GRAZES)
+def test_near_miss_is_not_a_contact(kind, length, radius, omega, duration):
+    # Same flights raised to clear the floor by 1e-9 m (ten times the contact
+    # gap): the search must pass the near miss and return the later, real
+    # contact, still never after a sampled negative gap.
+    body, lowest, half = grazing_flight(kind, length, radius, omega, -1e-9, duration)
+    assert body.gap(lowest) == pytest.approx(1e-9, rel=1e-3)
+    t_contact = body.next_contact()
+    assert t_contact > lowest
+    t = np.linspace(0.0, t_contact * 1.5, 400_001)
+    negative = np.flatnonzero(body.gap(t) < -1e-13)
+    assert negative.size and t_contact <= t[negative[0]]
+    assert -1e-13 <= body.gap(t_contact) <= flight.CONTACT_GAP + 1e-13
+
+
+# --------------------------------------------------------------------------
+# flight peaks
+# --------------------------------------------------------------------------
+
+def single_precision_allowance(body):
+    # flight_peaks evaluates sin/cos in single precision after a double
+    # reduction (documented in sim.flight.sincos_single: absolute error
+    # < 3e-7), which moves a depth by < 3e-7 (A + B + a + b); twice that,
+    # plus rounding of the centre height (1e-12 m).
+    return 6e-7 * body.size + 1e-12
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(flights(min_vy=-1.0), st.one_of(st.just(1.0), st.floats(0.01, 1.0)))
+def test_flight_peaks_centre_exact_and_never_above_reached(body, fraction):
+    # Flights up to the next contact (or a fraction of it: flight_peaks is
+    # defined for any duration). The centre peak is a closed form: rounding
+    # only. The lowest- and top-point peaks must be heights actually
+    # reached: never above the brute-force maximum by more than the
+    # engine's documented single-precision allowance.
+    duration = body.next_contact() * fraction
+    centre, bottom, top = body.peaks(duration)
+    assert centre == pytest.approx(dense_max(body.centre, duration), abs=1e-12)
+    assert bottom <= dense_max(body.bottom, duration) + single_precision_allowance(body)
+    assert top <= dense_max(body.top, duration) + single_precision_allowance(body)
+
+
+def test_flight_peaks_without_spin_are_exact():
+    # No spin: the depth is constant, so both peaks sit at the centre's
+    # apex (or the flight's end): closed form, up to the single-precision
+    # allowance.
+    for kind, theta in (("capsule", 0.7), ("cylinder", 1.1), ("spheroid", -0.4)):
+        body = Flight(kind, 0.012, 0.004, 0.05, 1.2, theta, 0.0)
+        duration = body.next_contact()
+        apex = body.centre(min(1.2 / G, duration))
+        d = float(body.depth(0.0))
+        centre, bottom, top = body.peaks(duration)
+        assert centre == pytest.approx(apex, abs=1e-12)
+        assert bottom == pytest.approx(apex - d, abs=single_precision_allowance(body))
+        assert top == pytest.approx(apex + d, abs=single_precision_allowance(body))
+
+
+PEAK_BUG = ("flight_peaks misses the true peak of the lowest point / top point when it "
+            "lies inside a half turn away from every candidate (window ends, apex, "
+            "quarter turns) and the three Newton polishes from the best candidate do not "
+            "reach it: underestimates of up to 3 mm seen (cylinder top), 0.4 mm (capsule "
+            "bottom); about 1 in 10 spinning cylinder flights miss the top peak by > 1e-6 m")
+
+# Peak accuracy asked of the engine: 1e-6 m (a thousandth of a millimetre,
+# far below any measured bounce height); its documented single-precision
+# allowance is < 2e-8 m for these bodies, well inside that.
+PEAK_TOLERANCE = 1e-6
+
+
+@pytest.mark.xfail(strict=True, reason=PEAK_BUG)
+@pytest.mark.parametrize("kind, length, radius, y, vy, theta, omega, which", [
+    # found by dense sampling while writing this suite
+    ("capsule", 0.007106468724158611, 0.0015000052803466838, 0.004166545837841054,
+     1.6626317734289318, 2.2967477844211848, 49.749132905543945, "bottom"),
+    ("cylinder", 0.03811382982197448, 0.00867368359200123, 0.019477632633078903,
+     0.9165843202092478, -1.5196115794247353, -54.08886856822542, "top"),
+])
+def test_flight_peaks_regression_cases(kind, length, radius, y, vy, theta, omega, which):
+    body = Flight(kind, length, radius, y, vy, theta, omega)
+    duration = body.next_contact()
+    _, bottom, top = body.peaks(duration)
+    reported = {"bottom": bottom, "top": top}[which]
+    assert reported == pytest.approx(dense_max(getattr(body, which), duration), abs=PEAK_TOLERANCE)
+
+
+@pytest.mark.xfail(strict=True, reason=PEAK_BUG)
+def test_flight_peaks_reach_the_true_peak():
+    # A fixed random population of flights (numpy seed, so the outcome is
+    # reproducible) up to their next contact: every reported lowest- and
+    # top-point peak within PEAK_TOLERANCE of the brute-force maximum.
+    rng = np.random.default_rng(2024)
+    worst = 0.0
+    for i in range(160):
+        kind = ["capsule", "cylinder", "spheroid", "sphere"][i % 4]
+        radius = 10 ** rng.uniform(-3, -2)
+        length = radius * rng.uniform(0.2, 6.0)
+        theta = rng.uniform(-np.pi, np.pi)
+        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.7)
+        body = Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, rng.uniform(-300, 300))
+        duration = body.next_contact()
+        _, bottom, top = body.peaks(duration)
+        for reported, height in ((bottom, body.bottom), (top, body.top)):
+            worst = max(worst, abs(reported - dense_max(height, duration, samples=50_001)))
+    assert worst <= PEAK_TOLERANCE
