@@ -232,23 +232,41 @@ def _depth_derivatives(theta, profile, rounded):
     return d, d1, d2
 
 
-def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_steps=2):
+def _breakpoints(profile):
+    """Angles in [0, pi) where the depth has its corners and turning points,
+    and the exact depth there: flat (0), the rectangle's diagonal (theta*),
+    upright (pi/2), the other diagonal (pi - theta*). Between two
+    consecutive breakpoints both parts of the depth are monotone."""
+    half_long, half_wide, round_long, round_wide = profile
+    hyp = np.hypot(half_long, half_wide)
+    diagonal = np.arctan2(half_long, half_wide)  # where A|sin| + B|cos| peaks
+    with np.errstate(invalid="ignore", divide="ignore"):
+        d_diag = np.where(hyp > 0, hyp + np.hypot(round_long * half_long, round_wide * half_wide) / hyp,
+                          half_wide + round_wide)
+    angles = np.stack([np.zeros_like(diagonal), diagonal, np.full_like(diagonal, 0.5 * np.pi), np.pi - diagonal])
+    depths = np.stack([half_wide + round_wide, d_diag, half_long + round_long, d_diag])
+    return angles, depths
+
+
+def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps=6, intervals=7):
     """Highest centre, lowest-point and top-point heights over a flight.
 
     The heights are those actually reached in ``[0, duration]``, not the
     ballistic apex: a flight that strikes again on the way up peaks at its
     end.
 
-    The centre peak is exact. The lowest point ``y - d(theta)`` and the top
-    point ``y + d(theta)`` can only peak where the centre is within
-    ``d_high - d_low`` of its own peak. The candidates there are the window's
-    ends, the centre's apex, and the quarter turns (axis flat or upright,
-    where the depth is known exactly, ``B + b`` or ``A + a``, and where its
-    corners sit) nearest the apex on either side: among quarter turns of one
-    kind the depth is the same, so the one nearest the apex is the highest.
-    The best candidate is polished by Newton steps on ``h' = 0`` kept within
-    a quarter turn and the flight; a polished value is only kept if higher.
-    Checked against dense sampling in ``tests/test_flight.py``.
+    The centre peak is exact. For the lowest point ``y - d(theta)`` and the
+    top point ``y + d(theta)``: the flight is cut at the breakpoints of the
+    depth (axis flat, upright, or along the rectangle's diagonal), where the
+    depth is known exactly and between which it is monotone. On each piece
+    ``max y`` (exact, the centre is a parabola) plus the larger (top) or
+    minus the smaller (bottom) end depth bounds the height from above. Pieces
+    of one kind share their depth bounds, so only the pieces nearest the
+    apex can hold the peak: the one holding the apex and the three on either
+    side (four kinds of piece) bound every other. They are polished in order of their bound, by Newton steps on
+    ``h' = 0`` kept inside a bracket that always moves uphill, until no
+    unpolished piece's bound exceeds the best height found. Checked against
+    dense sampling in ``tests/test_flight.py``.
 
     Returns
     -------
@@ -267,44 +285,87 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, newton_s
     def centre_at(t):
         return y + t * (vy - 0.5 * GRAVITY * t)
 
-    candidates = [(t, depth_at(theta + omega * t, profile)) for t in (t_lo, t_apex, t_hi)]
-    quarter = 0.5 * np.pi
-    spinning = omega != 0
+    angles, depths = _breakpoints(profile)
+    # below 1e-9 rad/s the depth moves by under 1e-9 of the body size over a
+    # second of flight: count it as not spinning (the apex is the peak)
+    spinning = np.abs(omega) > 1e-9
     safe_omega = np.where(spinning, omega, 1.0)
-    turns_at_apex = (theta + omega * t_apex) / quarter
-    for kind, d_kind in ((0, half_wide + round_wide), (1, half_long + round_long)):
-        # quarter turns of this kind (even: axis flat, odd: upright) either
-        # side of the apex; NaN depth where there is none in the window
-        below = 2 * np.floor((turns_at_apex - kind) / 2) + kind
-        for k in (below, below + 2):
-            t = (k * quarter - theta) / safe_omega
-            ok = spinning & (t >= t_lo) & (t <= t_hi)
-            candidates.append((np.where(ok, t, t_apex), np.where(ok, d_kind, np.nan)))
-    reach = np.where(spinning, quarter / np.abs(safe_omega), t_hi - t_lo)
+    # breakpoint index k (4 per half turn) at or below the angle at the apex
+    phase = theta + omega * t_apex
+    period = np.floor(phase / np.pi)
+    within = phase - period * np.pi
+    j = (within[None, :] >= angles).sum(axis=0) - 1
+    base = 4 * period + j
+
+    def breakpoint(k):
+        q = np.floor(k / 4)
+        r = (k - 4 * q).astype(np.int64)
+        return (q * np.pi + np.take_along_axis(angles, r[None, :], 0)[0],
+                np.take_along_axis(depths, r[None, :], 0)[0])
+
+    half = intervals // 2
+    marks = [breakpoint(base + i) for i in range(-half, half + 2)]
+    times = [(ang - theta) / safe_omega for ang, _ in marks]
+    pieces = []  # (lo, hi, d_a, d_b) per piece, clipped to the window
+    for i in range(intervals):
+        (t_a, (_, d_a)), (t_b, (_, d_b)) = (times[i], marks[i]), (times[i + 1], marks[i + 1])
+        lo = np.maximum(np.minimum(t_a, t_b), t_lo)
+        hi = np.minimum(np.maximum(t_a, t_b), t_hi)
+        pieces.append((lo, hi, d_a, d_b))
+    # breakpoints inside the window are exact candidates, free of trigonometry
+    exact = [(t, d, spinning & (t >= t_lo) & (t <= t_hi)) for t, (_, d) in zip(times, marks)]
+
+    d_ends = [depth_at(theta + omega * t, profile) for t in (t_lo, t_apex, t_hi)]
     peaks = []
     for sign in (-1.0, 1.0):
-        best_t, best_h = None, None
-        for t, d in candidates:
-            h = centre_at(t) + sign * d
-            if best_t is None:
-                best_t, best_h = t, h
-            else:
-                better = h > best_h  # False against NaN
-                best_t, best_h = np.where(better, t, best_t), np.where(better, h, best_h)
-        lo = np.maximum(best_t - reach, 0.0)
-        hi = np.minimum(best_t + reach, duration)
-        t = best_t
-        for step_no in range(newton_steps + 1):
-            d, d1, d2 = _depth_derivatives(theta + omega * t, profile, rounded)
-            if step_no:
-                best_h = np.maximum(best_h, centre_at(t) + sign * d)
-            if step_no == newton_steps:
+        best = np.maximum.reduce([centre_at(t) + sign * d for t, d in zip((t_lo, t_apex, t_hi), d_ends)])
+        for t, d, inside in exact:
+            best = np.where(inside, np.maximum(best, centre_at(t) + sign * d), best)
+        bounds = []
+        for lo, hi, d_a, d_b in pieces:
+            exists = spinning & (hi > lo)
+            y_top = centre_at(np.clip(t_apex, lo, hi))
+            bound = y_top + (np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b))
+            bounds.append(np.where(exists, bound, -np.inf))
+        bounds = np.stack(bounds)
+        los = np.stack([p[0] for p in pieces])
+        his = np.stack([p[1] for p in pieces])
+        # a body that does not spin keeps its depth: the apex is the peak
+        for _ in range(intervals):
+            pick = np.argmax(bounds, axis=0)
+            cols = np.arange(y.size)
+            open_ = bounds[pick, cols] > best + 1e-12
+            if not open_.any():
                 break
-            slope = vy - GRAVITY * t + sign * omega * d1
-            curve = sign * omega * omega * d2 - GRAVITY
-            concave = curve < 0
-            newton = -slope / np.where(concave, curve, -1.0)
-            move = np.where(concave, newton, np.where(slope > 0, 0.5, -0.5) * reach)
-            t = np.minimum(np.maximum(t + move, lo), hi)
-        peaks.append(best_h)
+            sel = np.flatnonzero(open_)
+            p_sel = pick[sel]
+            bounds[p_sel, sel] = -np.inf
+            found = _polish(y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
+                            rounded[sel] if np.ndim(rounded) else rounded,
+                            los[p_sel, sel], his[p_sel, sel], sign, polish_steps)
+            best[sel] = np.maximum(best[sel], found)
+        peaks.append(best)
     return centre, peaks[0], peaks[1]
+
+
+def _polish(y, vy, theta, omega, profile, rounded, lo, hi, sign, steps):
+    """Highest ``y +- d`` on ``[lo, hi]``: Newton on ``h' = 0`` where ``h`` is
+    concave, otherwise halving towards the uphill side; the bracket only
+    ever shrinks towards where ``h`` rises, so it ends at a local maximum
+    or an end. Returns the best height seen inside (the caller has the
+    ends: breakpoints or window edges)."""
+    best = -np.inf
+    t = 0.5 * (lo + hi)
+    for _ in range(steps):
+        d, d1, d2 = _depth_derivatives(theta + omega * t, profile, rounded)
+        h = y + t * (vy - 0.5 * GRAVITY * t) + sign * d
+        best = np.maximum(best, h)
+        slope = vy - GRAVITY * t + sign * omega * d1
+        curve = sign * omega * omega * d2 - GRAVITY
+        lo = np.where(slope > 0, t, lo)
+        hi = np.where(slope > 0, hi, t)
+        newton = t - slope / np.where(curve < 0, curve, -1.0)
+        inside = (curve < 0) & (newton > lo) & (newton < hi)
+        t = np.where(inside, newton, 0.5 * (lo + hi))
+    d = depth_at(theta + omega * t, profile)
+    return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)

@@ -80,15 +80,7 @@ def test_mirrored_release_gives_mirrored_drop(shape):
         assert np.allclose(a.impacts[name], sign * b.impacts[name], rtol=1e-9, atol=1e-9 * scale), name
 
 
-MIRROR_PEAK_BUG = pytest.mark.xfail(strict=True, reason=(
-    "mirror symmetry of peak_bottom / peak_top broken by the flight_peaks bug (see "
-    "tests/test_flight.py): the mirrored flight takes another candidate path and misses "
-    "the true peak differently, by up to 1.1 mm (cylinder top), 0.15 mm (capsule bottom)"))
-
-
-@pytest.mark.parametrize("shape", [pytest.param(MIRROR_SHAPES[0], marks=MIRROR_PEAK_BUG),
-                                   pytest.param(MIRROR_SHAPES[1], marks=MIRROR_PEAK_BUG),
-                                   MIRROR_SHAPES[2]])
+@pytest.mark.parametrize("shape", MIRROR_SHAPES)
 def test_mirrored_release_gives_mirrored_peaks(shape):
     # The lowest and top points of mirrored flights reach the same heights.
     # Allowance: the engine evaluates peaks with single-precision sin/cos
@@ -232,10 +224,7 @@ def test_density_cancels(other_density, tolerance):
 
 @pytest.mark.parametrize("other_density", [
     2000.0,
-    pytest.param(1300.0, marks=pytest.mark.xfail(strict=True, reason=(
-        "flight_peaks bug (see tests/test_flight.py): a state that differs only by "
-        "rounding (1e-11) makes flight_peaks take another candidate path; peak_bottom "
-        "then jumps by up to 0.38 mm (5 of 6000 flights, benchmark seed 4)"))),
+    1300.0,
 ])
 def test_density_cancels_in_peaks(other_density):
     # Same drops as above: the lowest/top-point peaks must agree too. Exact

@@ -308,19 +308,12 @@ def test_flight_peaks_without_spin_are_exact():
         assert top == pytest.approx(apex + d, abs=single_precision_allowance(body))
 
 
-PEAK_BUG = ("flight_peaks misses the true peak of the lowest point / top point when it "
-            "lies inside a half turn away from every candidate (window ends, apex, "
-            "quarter turns) and the three Newton polishes from the best candidate do not "
-            "reach it: underestimates of up to 3 mm seen (cylinder top), 0.4 mm (capsule "
-            "bottom); about 1 in 10 spinning cylinder flights miss the top peak by > 1e-6 m")
-
 # Peak accuracy asked of the engine: 1e-6 m (a thousandth of a millimetre,
 # far below any measured bounce height); its documented single-precision
 # allowance is < 2e-8 m for these bodies, well inside that.
 PEAK_TOLERANCE = 1e-6
 
 
-@pytest.mark.xfail(strict=True, reason=PEAK_BUG)
 @pytest.mark.parametrize("kind, length, radius, y, vy, theta, omega, which", [
     # found by dense sampling while writing this suite
     ("capsule", 0.007106468724158611, 0.0015000052803466838, 0.004166545837841054,
@@ -336,7 +329,6 @@ def test_flight_peaks_regression_cases(kind, length, radius, y, vy, theta, omega
     assert reported == pytest.approx(dense_max(getattr(body, which), duration), abs=PEAK_TOLERANCE)
 
 
-@pytest.mark.xfail(strict=True, reason=PEAK_BUG)
 def test_flight_peaks_reach_the_true_peak():
     # A fixed random population of flights (numpy seed, so the outcome is
     # reproducible) up to their next contact: every reported lowest- and
