@@ -68,7 +68,8 @@ def analyse(outcome: RunOutcome) -> Artefacts:
             art.convergence = sensitivity.sobol_convergence(plan, y, full=ranked)
         else:
             ranked = sensitivity.morris_analyze(plan, y)
-        art.ranking = ranked
+        art.ranking = ranked.sort_values("rank").reset_index(drop=True)
+        ranked = art.ranking
         ranked.to_csv(folder / "sensitivity.csv", index=False)
         if art.second_order is not None:
             art.second_order.to_csv(folder / "sensitivity-second-order.csv", index=False)
