@@ -190,17 +190,17 @@ class Metric(Strict):
     """What counts: the rebound ratio of a bounce, or one of two flags."""
 
     kind: Literal["ratio", "beats_release", "beats_first"] = "ratio"
-    bounce: Union[Literal["later", "first"], int] = "later"
+    bounce: Union[int, str] = "later"
     reference: Literal["centre", "bottom", "top"] = "centre"
     goal: Literal["seek", "avoid"] = "seek"
     threshold: float = Field(default=1.0, gt=0, le=10)
 
-    @field_validator("bounce")
+    @field_validator("bounce", mode="before")
     @classmethod
-    def _positive(cls, v):
-        if isinstance(v, int) and v < 1:
-            raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v}")
-        return v
+    def _bounce(cls, v):
+        if v in ("later", "first") or (isinstance(v, int) and not isinstance(v, bool) and v >= 1):
+            return v
+        raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v!r}")
 
 
 class MapSpec(Strict):
@@ -304,55 +304,105 @@ class Study(Strict):
         return hashlib.sha256(json.dumps(data, sort_keys=True).encode()).hexdigest()[:16]
 
 
-def cross_check(study: Study):
-    """Settings that contradict each other: list of (field path, message)."""
+def _get(data, *path):
+    for key in path:
+        if isinstance(data, dict) and key in data:
+            data = data[key]
+        elif isinstance(data, list) and isinstance(key, int) and 0 <= key < len(data):
+            data = data[key]
+        else:
+            return None
+    return data
+
+
+def _kind(q):
+    """'grid', 'fixed', a distribution name, or None for an unreadable quantity."""
+    if isinstance(q, (int, float)) and not isinstance(q, bool):
+        return "fixed"
+    if isinstance(q, dict):
+        keys = [k for k in ("value", "grid", "uniform", "normal", "log_uniform") if k in q]
+        return ("fixed" if keys[0] == "value" else keys[0]) if len(keys) == 1 else None
+    return None
+
+
+def _low(q):
+    if isinstance(q, (int, float)) and not isinstance(q, bool):
+        return float(q)
+    kind = _kind(q)
+    part = _get(q, kind) if kind not in (None, "fixed") else None
+    value = _get(q, "value") if kind == "fixed" else (_get(part, "low") if kind != "normal" else _get(part, "mean"))
+    return float(value) if isinstance(value, (int, float)) and not isinstance(value, bool) else None
+
+
+def cross_check(data):
+    """Settings that contradict each other, read from the plain file data so
+    that they are found even when some fields are invalid: a list of
+    (field path, message)."""
     problems = []
-    body = study.body
-    if body.shape == "sphere":
+    if not isinstance(data, dict):
+        return problems
+    body = _get(data, "body") or {}
+    shape = _get(body, "shape") or "capsule"
+    if shape == "sphere":
         for name in ("aspect_ratio", "length"):
-            if getattr(body, name) is not None:
+            if _get(body, name) is not None:
                 problems.append((("body", name), f"a sphere has no {name}; remove it"))
-    else:
-        given = [n for n in ("aspect_ratio", "length") if getattr(body, n) is not None]
+    elif shape in ("capsule", "spheroid", "cylinder") and isinstance(body, dict):
+        given = [n for n in ("aspect_ratio", "length") if _get(body, n) is not None]
         if len(given) != 1:
-            problems.append((("body",), f"a {body.shape} needs exactly one of aspect_ratio or length"
+            problems.append((("body",), f"a {shape} needs exactly one of aspect_ratio or length"
                              + (f"; got {' and '.join(given)}" if given else "")))
-        if body.aspect_ratio is not None and body.shape == "capsule" and body.aspect_ratio.span()[0] < 1:
+        low = _low(_get(body, "aspect_ratio"))
+        if shape == "capsule" and low is not None and low < 1:
             problems.append((("body", "aspect_ratio"), "a capsule's aspect ratio must be >= 1 "
-                             f"(it is at least a sphere), got {body.aspect_ratio.span()[0]:g}"))
-        if body.length is not None and body.shape in ("spheroid", "cylinder") and body.length.span()[0] <= 0:
-            problems.append((("body", "length"), f"a {body.shape}'s length must be > 0 m"))
-    gridded = study.gridded()
-    for i, m in enumerate(study.analyses.maps):
+                             f"(it is at least a sphere), got {low:g}"))
+        low = _low(_get(body, "length"))
+        if shape in ("spheroid", "cylinder") and low is not None and low <= 0:
+            problems.append((("body", "length"), f"a {shape}'s length must be > 0 m, got {low:g}"))
+    kinds = {name: _kind(_get(data, QUANTITIES[name][0], name)) for name in QUANTITIES}
+    gridded = [n for n, k in kinds.items() if k == "grid"]
+    varying = [n for n, k in kinds.items() if k not in (None, "fixed")]
+    analyses = _get(data, "analyses") or {}
+    for i, m in enumerate(_get(analyses, "maps") or []):
         for axis in ("x", "y"):
-            name = getattr(m, axis)
-            if name not in gridded:
+            name = _get(m, axis)
+            if name in QUANTITIES and name not in gridded:
                 problems.append((("analyses", "maps", i, axis), f"{name} is not swept on a grid; map axes must "
                                  f"be grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
-        if m.x == m.y:
+        if _get(m, "x") is not None and _get(m, "x") == _get(m, "y"):
             problems.append((("analyses", "maps", i, "y"), "x and y must differ"))
-    for i, c in enumerate(study.analyses.curves):
-        if c.x not in gridded:
-            problems.append((("analyses", "curves", i, "x"), f"{c.x} is not swept on a grid; curve axes must be "
+    for i, c in enumerate(_get(analyses, "curves") or []):
+        name = _get(c, "x")
+        if name in QUANTITIES and name not in gridded:
+            problems.append((("analyses", "curves", i, "x"), f"{name} is not swept on a grid; curve axes must be "
                              f"grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
-    sens = study.analyses.sensitivity
-    if sens is not None and len(study.varying()) < 2:
+    if _get(analyses, "sensitivity") is not None and len(varying) < 2:
         problems.append((("analyses", "sensitivity"), "needs at least two quantities that vary (grid or "
-                         f"distribution), got {len(study.varying())}"))
-    if (study.analyses.picks is not None or study.analyses.robustness) and not gridded:
-        problems.append((("analyses", "picks" if study.analyses.picks is not None else "robustness"),
-                         "picks and the robustness map need at least one grid quantity"))
-    if isinstance(study.metric.bounce, int) and study.metric.bounce > study.run.impacts:
-        problems.append((("metric", "bounce"), f"bounce {study.metric.bounce} can never be seen with "
-                         f"run.impacts {study.run.impacts}; raise run.impacts"))
-    if study.run.scheduler is not None and study.run.backend != "dask":
+                         f"distribution), got {len(varying)}"))
+    wants_picks = _get(analyses, "picks") is not None
+    wants_robust = _get(analyses, "robustness") is not False
+    if (wants_picks or wants_robust) and not gridded:
+        problems.append((("analyses", "picks" if wants_picks else "robustness"),
+                         "picks and the robustness map need at least one grid quantity (set robustness: false "
+                         "for a ranking-only study)"))
+    bounce = _get(data, "metric", "bounce")
+    impacts = _get(data, "run", "impacts")
+    impacts = impacts if isinstance(impacts, int) else RunSettings().impacts
+    if isinstance(bounce, int) and not isinstance(bounce, bool) and bounce > impacts:
+        problems.append((("metric", "bounce"), f"bounce {bounce} can never be seen with run.impacts {impacts}; "
+                         "raise run.impacts"))
+    if _get(data, "run", "scheduler") is not None and _get(data, "run", "backend") != "dask":
         problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
+    return problems
+
+
+def check_size(study: Study):
     cells = grid_cells(study)
     total = cells * max(study.analyses.draws if study.random() else 1, 1)
     if total > 20_000_000:
-        problems.append((("analyses", "draws"), f"the grid needs {total:,} drops (over the 20,000,000 limit); "
-                         "use fewer steps or draws"))
-    return problems
+        return [(("analyses", "draws"), f"the grid needs {total:,} drops (over the 20,000,000 limit); "
+                 "use fewer steps or draws")]
+    return []
 
 
 def grid_cells(study):
@@ -397,9 +447,9 @@ def _duplicates(yaml, text):
         root = yaml.compose(text)
     except MarkedYAMLError:
         return found
-    stack = [root]
+    stack = [(root, ())]
     while stack:
-        node = stack.pop()
+        node, path = stack.pop()
         if node is None:
             continue
         if node.id == "mapping":
@@ -408,12 +458,13 @@ def _duplicates(yaml, text):
                 k = getattr(key, "value", None)
                 if k in seen:
                     found.append((key.start_mark.line + 1, key.start_mark.column + 1,
-                                  f"{k}: duplicate key (first given on line {seen[k]})"))
+                                  f"{_loc_text(path + (k,))}: duplicate key (first given on line {seen[k]})"))
                 else:
                     seen[k] = key.start_mark.line + 1
-                stack.append(value)
+                stack.append((value, path + (k,)))
         elif node.id == "sequence":
-            stack.extend(node.value)
+            stack.extend((v, path + (i,)) for i, v in enumerate(node.value))
+    found.sort()
     return found
 
 
@@ -455,29 +506,81 @@ def parse_study(text, filename="<study>") -> Study:
     if data is None:
         raise InputError(messages + [f"{filename}:1:1: the study file is empty; start from `hopscape new NAME`"])
     if not hasattr(data, "keys"):
+        kind = "list" if isinstance(data, list) else "number" if isinstance(data, (int, float)) else "text"
         raise InputError(messages + [f"{filename}:1:1: a study file must be a mapping of sections "
-                                     f"(name, body, contact, release, ...), got a {type(data).__name__}"])
+                                     f"(name, body, contact, release, ...), got a {kind}"])
+    plain = _plain(data)
+    found = []  # (line, col, text)
+    study = None
     try:
-        study = Study.model_validate(_plain(data))
+        study = Study.model_validate(plain)
     except ValidationError as exc:
         for err in exc.errors():
             loc = tuple(err["loc"])
             line, col = _position(data, loc)
-            msg = err["msg"].removeprefix("Value error, ")
-            if err["type"] == "extra_forbidden":
-                msg = "unknown field (check the spelling; `hopscape new` writes every field)"
-            elif err["type"] == "missing":
-                msg = "required field is missing"
-            elif "input" in err and err["type"] not in ("value_error",) and "got" not in msg:
-                msg = f"{msg}, got {err['input']!r}"
-            messages.append(f"{filename}:{line}:{col}: {_loc_text(loc)}: {msg}")
-        raise InputError(messages)
-    for loc, msg in cross_check(study):
+            found.append((line, col, f"{_loc_text(loc)}: {_message(err)}"))
+    for loc, msg in cross_check(plain) + (check_size(study) if study is not None else []):
         line, col = _position(data, loc)
-        messages.append(f"{filename}:{line}:{col}: {_loc_text(loc)}: {msg}")
+        found.append((line, col, f"{_loc_text(loc)}: {msg}"))
+    messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
     if messages:
         raise InputError(messages)
     return study
+
+
+_BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
+
+
+def _field_bounds(loc):
+    """(ge/gt, le/lt) declared on the model field at ``loc``, if any."""
+    model, info = Study, None
+    for key in loc:
+        if isinstance(key, int):
+            continue
+        fields = getattr(model, "model_fields", {})
+        if key not in fields:
+            return None
+        info = fields[key]
+        annotation = info.annotation
+        model = next((a for a in getattr(annotation, "__args__", (annotation,))
+                      if isinstance(a, type) and issubclass(a, BaseModel)), None)
+        if model is None:
+            model = annotation
+    if info is None:
+        return None
+    low = high = None
+    for meta in info.metadata:
+        for name, side in (("ge", "["), ("gt", "(")):
+            if getattr(meta, name, None) is not None:
+                low = (side, getattr(meta, name))
+        for name, side in (("le", "]"), ("lt", ")")):
+            if getattr(meta, name, None) is not None:
+                high = (side, getattr(meta, name))
+    return low, high
+
+
+def _message(err):
+    msg = err["msg"].removeprefix("Value error, ")
+    kind = err["type"]
+    if kind == "extra_forbidden":
+        return "unknown field (check the spelling; `hopscape new` writes every field)"
+    if kind == "missing":
+        return "required field is missing"
+    if kind in _BOUND_WORDS:
+        bounds = _field_bounds(tuple(err["loc"]))
+        if bounds:
+            low, high = bounds
+            num = lambda v: str(v) if isinstance(v, int) else f"{v:g}"  # noqa: E731
+            if low and high:
+                text = f"in {low[0]}{num(low[1])}, {num(high[1])}{high[0]}"
+            elif low:
+                text = (">= " if low[0] == "[" else "> ") + num(low[1])
+            else:
+                text = ("<= " if high[0] == "]" else "< ") + num(high[1])
+            return f"must be {text}, got {err['input']!r}"
+    if "input" in err and kind != "value_error" and "got" not in msg:
+        return f"{msg}, got {err['input']!r}"
+    return msg
 
 
 def _plain(node):
