@@ -89,7 +89,12 @@ def build_parser():
     d.add_argument("--no-plots", action="store_true", help="print only, draw nothing")
 
     # --- batch -------------------------------------------------------
-    b = sub.add_parser("batch", help="many drops from a CSV or Parquet table")
+    from .batch import INPUT_COLUMNS
+    columns = "; ".join(f"{c} [{u}]" + (" (optional)" if d is not None else "")
+                        for c, (u, d) in INPUT_COLUMNS.items())
+    b = sub.add_parser("batch", help="many drops from a CSV or Parquet table",
+                       description="Input columns, one row per drop: " + columns + ". Heights are of the centre "
+                       "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
     b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
@@ -196,6 +201,11 @@ def cmd_batch(args):
     if args.merge_ms < 0:
         raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
     frame = read_table(args.drops)
+    from .batch import INPUT_COLUMNS
+    unknown = [c for c in frame.columns if c not in INPUT_COLUMNS]
+    if unknown:
+        print(f"hopscape: note: ignoring column(s) {', '.join(map(str, unknown))} (known: {', '.join(INPUT_COLUMNS)})",
+              file=sys.stderr)
     start = time.perf_counter()
     table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3)
     elapsed = time.perf_counter() - start
@@ -203,6 +213,8 @@ def cmd_batch(args):
     failed = int((table["error"] != "").sum())
     print(f"{len(frame)} drops, {int(table['impact'].notna().sum())} impacts in {elapsed:.2f} s; "
           f"{failed} row(s) could not be simulated (see the error column); written to {args.out}")
+    if len(frame) and failed == len(frame):
+        raise InputError(f"no row of {args.drops} could be simulated; the reasons are in the error column of {args.out}")
     return EXIT_OK
 
 

@@ -106,7 +106,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
             cs = ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="black", linewidths=1.0)
             legend.append(plt.Line2D([], [], color="black", lw=1.5,
-                                     label=f"best later bounce = {study.metric.threshold:g} x release height"))
+                                     label=f"mean best later bounce = {study.metric.threshold:g} x release height"))
         _, _, first = _grid(cells, x, y, "beats_first_probability")
         if np.nanmin(first) < 0.5 < np.nanmax(first):
             ax.contour(xs, ys, first, levels=[0.5], colors="white", linewidths=2.0, linestyles="--")
@@ -146,7 +146,7 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     ax.plot(frame[col], frame["median_value"], color="#0072B2", lw=2, label="median")
     if study.metric.kind == "ratio":
         ax.axhline(study.metric.threshold, color="#D55E00", ls="--",
-                   label=f"{study.metric.threshold:g} x release height")
+                   label=f"ratio {study.metric.threshold:g}: the release height (left axis)")
     ax2 = ax.twinx()
     ax2.plot(frame[col], frame["event_probability"], color="#009E73", lw=1.2, ls=":")
     ax2.set_ylim(0, 1.02)
@@ -155,9 +155,9 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     ax.set_xlabel(label(x))
     ax.set_ylabel("rebound ratio [-]" if study.metric.kind == "ratio" else "fraction of drops [-]")
     fig.text(0.01, 0.005, _wrap(f"Metric: {value_words}. {energy_note(study)}", 130), fontsize=7, va="bottom")
-    fig.get_layout_engine().set(rect=(0, 0.05, 1, 0.95))
+    fig.get_layout_engine().set(rect=(0, 0.08, 1, 0.92))
     ax.set_ylim(bottom=0)
-    ax.legend(fontsize=8, loc="upper left")
+    ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, frameon=False)
     ax.set_title(f"{study.name}: metric against {label(x)}", fontsize=11)
     return _save(fig, base, formats), base.with_suffix(".csv")
 

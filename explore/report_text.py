@@ -73,5 +73,7 @@ def drop_report(shape, result, bounces, reference="centre"):
             f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
             f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
             f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
-            f"drop ended: {status} after {n} impact(s)"]
+            f"the drop ended after {n} impact(s): " + {"impacts": "the impact limit (--impacts) was reached",
+                                                       "settled": "it settled", "resting": "it came to rest in contact",
+                                                       "failed": "the contact search failed"}[status]]
     return "\n".join(out)

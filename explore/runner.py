@@ -70,16 +70,19 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
     if stamp.exists():
         old = json.loads(stamp.read_text())
         if old.get("fingerprint") != study.fingerprint():
-            raise InputError(f"{folder} holds results of a different version of study '{old.get('name')}' "
-                             f"(fingerprint {old.get('fingerprint')} vs {study.fingerprint()}); rerun with --fresh "
-                             "to start over, or choose another --out")
+            from .study import changed_fields
+            changed = changed_fields(old.get("numbers", {}), study.numbers()) if "numbers" in old else []
+            what = f"changed: {', '.join(changed[:6])}" if changed else "the study changed"
+            raise InputError(f"{folder} holds results of another version of study '{old.get('name')}' ({what}); "
+                             "rerun with --fresh to start over, or choose another --out")
     elif (folder / "results").exists() and any((folder / "results").glob("part-*.parquet")):
         raise InputError(f"{folder} holds result parts of unknown origin; rerun with --fresh or choose another --out")
     (folder / "results").mkdir(parents=True, exist_ok=True)
     for stale in (folder / "results").glob("*.tmp*"):
         stale.unlink()
     (folder / "study.yaml").write_text(source_text, encoding="utf-8")
-    stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint()}, indent=1))
+    stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint(),
+                                 "numbers": study.numbers()}, indent=1))
     return folder
 
 
@@ -156,6 +159,7 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
                     bar.update(len(frame))
                     simulated += len(frame)
     finally:
+        bar.refresh()
         bar.close()
     clock["simulation"] = time.perf_counter() - t_sim
     t_load = time.perf_counter()

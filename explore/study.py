@@ -109,6 +109,9 @@ class Quantity(Strict):
                              f"log_uniform; got {data!r}")
         if isinstance(data, (int, float)):
             return {"value": data}
+        if not isinstance(data, dict):
+            raise ValueError("must be a number, or a mapping with one of grid, uniform, normal, log_uniform "
+                             f"(see `hopscape new`); got {data!r}")
         return data
 
     @model_validator(mode="after")
@@ -150,7 +153,8 @@ def _check_range(name, q):
     lo, hi = q.span()
     for v in (lo, hi):
         if not (low <= v <= high):
-            raise ValueError(f"must lie in [{low:g}, {high:g}] {unit}, got {v:g}")
+            unit_text = "" if unit == "-" else f" {unit}"
+            raise ValueError(f"must lie in [{low:g}, {high:g}]{unit_text}, got {v:g}")
     return q
 
 
@@ -296,12 +300,31 @@ class Study(Strict):
     def varying(self):
         return [n for n, q in self.quantities().items() if q.varies]
 
-    def fingerprint(self):
-        """Hash of everything that decides the numbers (not jobs or backend)."""
+    def numbers(self):
+        """Everything that decides the simulated drops, as plain data: not the
+        description, jobs, backend, scheduler, nor the maps, curves and picks
+        (those only read the drops)."""
         data = self.model_dump(mode="json")
+        data.pop("description")
         for key in ("jobs", "backend", "scheduler"):
             data["run"].pop(key)
-        return hashlib.sha256(json.dumps(data, sort_keys=True).encode()).hexdigest()[:16]
+        for key in ("maps", "curves", "picks"):
+            data["analyses"].pop(key)
+        return data
+
+    def fingerprint(self):
+        """Hash of :meth:`numbers`."""
+        return hashlib.sha256(json.dumps(self.numbers(), sort_keys=True).encode()).hexdigest()[:16]
+
+
+def changed_fields(old, new, path=()):
+    """Dotted paths where two :meth:`Study.numbers` dicts differ."""
+    if isinstance(old, dict) and isinstance(new, dict):
+        out = []
+        for key in sorted(set(old) | set(new)):
+            out += changed_fields(old.get(key), new.get(key), path + (key,))
+        return out
+    return [] if old == new else [".".join(map(str, path))]
 
 
 def _get(data, *path):

@@ -275,8 +275,10 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     gap0 = y0 - depth(th0, hl, hw, rl, rw)
     if np.any(gap0 <= 0):
         i = int(np.argmax(gap0 <= 0))
-        raise ValueError(f"release height puts the body touching or inside the floor "
-                         f"(lowest point at {gap0[i]:.6g} m for drop {i}); raise it above 0")
+        where = f" for drop {i}" if gap0.size > 1 else ""
+        raise ValueError(f"release height puts the body touching or inside the floor{where}: its lowest point "
+                         f"would be at {gap0[i]:.6g} m; raise the centre by more than {-gap0[i]:.6g} m or give the "
+                         "height of the lowest point")
     n = mass.size
     k = int(impacts)
     out = {name: np.full((n, k), np.nan) for name in IMPACT_FIELDS}

@@ -1,0 +1,516 @@
+"""Study files: every mistake is reported before anything is simulated.
+
+The contract (explore/study.py): problems come all at once, one line each,
+as ``file:line:col: field.path: message``, on stderr behind
+``hopscape: error:``, with exit code 2 and never a traceback. The line and
+column numbers are checked against the test YAML itself: ``where`` finds the
+line holding a unique snippet and the column of the key on that line, so a
+test fails if a message points anywhere else.
+"""
+import re
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+import explore.metrics
+import explore.runner
+import sim
+from explore.cli import main
+
+# A valid, small study. Every test below breaks it in one or more places.
+GOOD = """\
+name: probe
+description: a small valid study the tests break on purpose
+body:
+  shape: capsule
+  diameter: 0.006
+  aspect_ratio: {grid: {low: 2.0, high: 5.0, steps: 4}}
+  density: 1150
+contact:
+  restitution: {uniform: {low: 0.8, high: 0.95}}
+  friction: 0.2
+release:
+  height: 0.01
+  angle: {grid: {low: 0, high: 90, steps: 5}}
+analyses:
+  draws: 4
+  maps:
+    - {x: angle, y: aspect_ratio}
+run:
+  jobs: 1
+  impacts: 3
+"""
+
+
+def where(text, snippet, key=None):
+    """(line, col), 1-based, of ``key`` on the one line of ``text`` that
+    contains ``snippet`` (the start of the line's content when key is None)."""
+    lines = [i for i, line in enumerate(text.splitlines()) if snippet in line]
+    assert len(lines) == 1, f"test YAML: {snippet!r} must be on exactly one line"
+    line = text.splitlines()[lines[0]]
+    col = line.index(key) if key is not None else len(line) - len(line.lstrip())
+    return lines[0] + 1, col + 1
+
+
+def check(path, capsys):
+    """Run ``hopscape check`` in-process: (exit code, stdout, stderr lines)."""
+    code = main(["check", str(path)])
+    out, err = capsys.readouterr()
+    return code, out, err.splitlines()
+
+
+def write(tmp_path, text, name="study.yaml"):
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def assert_clean_errors(err_lines, expected_count=None):
+    """Every stderr line is a one-line error; no traceback."""
+    assert err_lines, "expected error lines on stderr"
+    for line in err_lines:
+        assert line.startswith("hopscape: error: "), line
+    assert not any("Traceback" in line for line in err_lines)
+    if expected_count is not None:
+        assert len(err_lines) == expected_count, "\n".join(err_lines)
+
+
+def message_at(err_lines, path, line, col, field):
+    """The one message reported at file:line:col for ``field``."""
+    prefix = f"hopscape: error: {path}:{line}:{col}: {field}: "
+    hits = [e for e in err_lines if e.startswith(prefix)]
+    assert len(hits) == 1, f"no single message starting {prefix!r} in:\n" + "\n".join(err_lines)
+    return hits[0][len(prefix):]
+
+
+# --------------------------------------------------------------------------
+# the good study, and the template
+# --------------------------------------------------------------------------
+
+def test_good_study_is_accepted_and_counted(tmp_path, capsys):
+    # 4 aspect ratios x 5 angles = 20 cells; 4 draws over the distributed
+    # restitution -> 80 grid drops; robustness is on by default with 32
+    # toleranced draws per cell -> 640 robust drops.
+    path = write(tmp_path, GOOD)
+    code, out, err = check(path, capsys)
+    assert code == 0 and err == []
+    assert "ok - study 'probe'" in out
+    assert re.search(r"grid:\s+80 drops", out)
+    assert re.search(r"robust:\s+640 drops", out)
+    assert "total: 720 drops x up to 3 impacts" in out
+
+
+def test_new_writes_a_template_that_check_accepts(tmp_path, capsys):
+    out_path = tmp_path / "sub" / "mine.yaml"
+    assert main(["new", "mine", "--out", str(out_path)]) == 0
+    capsys.readouterr()
+    text = out_path.read_text(encoding="utf-8")
+    assert "name: mine" in text and "name: NAME" not in text
+    code, out, err = check(out_path, capsys)
+    assert code == 0 and err == []
+    assert "ok - study 'mine'" in out
+    # the template grids aspect ratio (26 steps) x angle (46 steps) = 1196
+    # cells, 16 draws each; 32 toleranced draws per cell; Sobol with 1024
+    # base samples over 4 varying quantities = 1024 x (4 + 2) rows.
+    assert re.search(r"grid:\s+19,136 drops", out)
+    assert re.search(r"robust:\s+38,272 drops", out)
+    assert re.search(r"sobol:\s+6,144 drops", out)
+
+
+def test_new_refuses_to_overwrite(tmp_path, capsys):
+    out_path = tmp_path / "mine.yaml"
+    out_path.write_text("precious: true\n", encoding="utf-8")
+    code = main(["new", "mine", "--out", str(out_path)])
+    _, err = capsys.readouterr()
+    assert code == 2
+    assert_clean_errors(err.splitlines(), 1)
+    assert "exists" in err and "nothing was overwritten" in err
+    assert out_path.read_text(encoding="utf-8") == "precious: true\n"
+
+
+def test_new_without_out_writes_into_studies_and_refuses_a_bad_name(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    assert main(["new", "fresh-one"]) == 0
+    assert (tmp_path / "studies" / "fresh-one.yaml").is_file()
+    capsys.readouterr()
+    assert main(["new", "has space"]) == 2
+    _, err = capsys.readouterr()
+    assert_clean_errors(err.splitlines(), 1)
+    assert "'has space'" in err
+    assert not (tmp_path / "studies" / "has space.yaml").exists()
+
+
+def test_run_by_name_finds_studies_folder_of_the_working_directory(tmp_path, monkeypatch, capsys):
+    # A tiny study (one grid axis of 3 angles, nothing random, no robustness).
+    text = GOOD.replace("name: probe", "name: tiny") \
+               .replace("  aspect_ratio: {grid: {low: 2.0, high: 5.0, steps: 4}}", "  aspect_ratio: 3.0") \
+               .replace("  restitution: {uniform: {low: 0.8, high: 0.95}}", "  restitution: 0.9") \
+               .replace("steps: 5}}", "steps: 3}}") \
+               .replace("  maps:\n    - {x: angle, y: aspect_ratio}\n", "  robustness: false\n")
+    (tmp_path / "studies").mkdir()
+    (tmp_path / "studies" / "tiny.yaml").write_text(text, encoding="utf-8")
+    monkeypatch.chdir(tmp_path)
+    assert main(["run", "tiny", "--quiet"]) == 0
+    out, err = capsys.readouterr()
+    assert "tiny: 3 drops (3 simulated now)" in out
+    folder = tmp_path / "runs" / "tiny"          # the default --out
+    assert (folder / "study.yaml").read_text(encoding="utf-8") == text
+    assert (folder / "report.html").is_file()
+    assert sorted(p.name for p in (folder / "results").glob("part-*.parquet")) == ["part-grid-00000.parquet"]
+
+
+def test_run_by_name_that_does_not_exist_is_bad_input(tmp_path, monkeypatch, capsys):
+    (tmp_path / "studies").mkdir()
+    monkeypatch.chdir(tmp_path)
+    assert main(["run", "nosuch", "--quiet"]) == 2
+    _, err = capsys.readouterr()
+    assert_clean_errors(err.splitlines(), 1)
+    assert "nosuch: no such study file" in err and "studies/nosuch.yaml" in err
+    assert not (tmp_path / "runs").exists()
+
+
+# --------------------------------------------------------------------------
+# field mistakes: all reported at once, at the right line and column
+# --------------------------------------------------------------------------
+
+MANY_MISTAKES = """\
+name: probe
+colour: red
+body:
+  shape: capsule
+  diameter: 0.006
+  aspect_ratio: {grid: {low: 5.0, high: 2.0, steps: 4}}
+  density: 1150
+  density: 1200
+contact:
+  restitution: 1.5
+  friction: 0.2
+  friction: 0.3
+release:
+  height: 0.01
+  angle: {grid: {low: 0, high: 90, steps: many}}
+analyses:
+  draws: 4
+  sensitivity: {method: sobol, samples: 1000}
+run:
+  impacts: 3
+  seed: two
+"""
+
+
+@pytest.fixture
+def many(tmp_path, capsys):
+    path = write(tmp_path, MANY_MISTAKES, "many.yaml")
+    code, out, err = check(path, capsys)
+    return path, code, out, err
+
+
+def test_all_field_mistakes_reported_at_once_with_exit_2(many):
+    path, code, out, err = many
+    assert code == 2
+    assert out == ""
+    # 2 duplicates + unknown key + low>high + out of range + wrong type
+    # (steps) + Sobol samples + wrong type (seed) = 8 problems, 8 lines.
+    assert_clean_errors(err, 8)
+    assert all(line.startswith(f"hopscape: error: {path}:") for line in err)
+
+
+def test_unknown_key(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "colour: red")
+    msg = message_at(err, path, line, col, "colour")
+    assert "unknown field" in msg
+
+
+def test_two_duplicate_keys_are_both_reported(many):
+    path, _, _, err = many
+    text = MANY_MISTAKES
+    for key, first, second in (("density", "density: 1150", "density: 1200"),
+                               ("friction", "friction: 0.2", "friction: 0.3")):
+        line, col = where(text, second)
+        first_line, _ = where(text, first)
+        hits = [e for e in err if e.startswith(f"hopscape: error: {path}:{line}:{col}: ")]
+        assert len(hits) == 1, err
+        assert f"{key}: duplicate key (first given on line {first_line})" in hits[0]
+
+
+def test_duplicate_key_message_names_the_field_path(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "friction: 0.3")
+    message_at(err, path, line, col, "contact.friction")
+
+
+def test_wrong_type_in_a_flow_mapping(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "steps: many", "steps")
+    msg = message_at(err, path, line, col, "release.angle.grid.steps")
+    assert "valid integer" in msg and "'many'" in msg
+
+
+def test_wrong_type_in_a_block_mapping(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "seed: two")
+    msg = message_at(err, path, line, col, "run.seed")
+    assert "valid integer" in msg and "'two'" in msg
+
+
+def test_value_out_of_range_names_the_allowed_range_and_the_value(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "restitution: 1.5")
+    msg = message_at(err, path, line, col, "contact.restitution")
+    assert "[0, 1]" in msg and "1.5" in msg
+
+
+def test_low_above_high(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "high: 2.0", "grid")
+    msg = message_at(err, path, line, col, "body.aspect_ratio.grid")
+    assert "low must be below high" in msg and "5.0" in msg and "2.0" in msg
+
+
+def test_sobol_samples_not_a_power_of_two(many):
+    path, _, _, err = many
+    line, col = where(MANY_MISTAKES, "samples: 1000", "sensitivity")
+    msg = message_at(err, path, line, col, "analyses.sensitivity")
+    assert "power of two" in msg and "1000" in msg and "nearest: 1024" in msg
+
+
+def test_setting_out_of_range_names_the_violated_bound_and_the_value(tmp_path, capsys):
+    text = GOOD + "tolerance: {angle: 120}\n"
+    path = write(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    line, col = where(text, "angle: 120", "angle: 120")
+    msg = message_at(err, path, line, col, "tolerance.angle")
+    assert "90" in msg and "120" in msg
+
+
+def test_setting_out_of_range_names_both_ends_of_the_range(tmp_path, capsys):
+    path = write(tmp_path, GOOD + "tolerance: {angle: 120}\n")
+    _, _, err = check(path, capsys)
+    assert re.search(r"\b0\b", err[0].split("tolerance.angle:")[1]), err[0]
+
+
+def test_range_of_a_grid_quantity_checks_both_ends(tmp_path, capsys):
+    text = GOOD.replace("angle: {grid: {low: 0, high: 90, steps: 5}}", "angle: {grid: {low: 0, high: 400, steps: 5}}")
+    path = write(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    line, col = where(text, "high: 400", "angle")
+    msg = message_at(err, path, line, col, "release.angle")
+    assert "[-360, 360] deg" in msg and "400" in msg
+
+
+def test_missing_required_field_points_at_its_section(tmp_path, capsys):
+    text = GOOD.replace("  friction: 0.2\n", "")
+    path = write(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    line, col = where(text, "contact:")
+    assert "required field is missing" in message_at(err, path, line, col, "contact.friction")
+
+
+def test_wrong_bounce_is_one_message_under_its_field_path(tmp_path, capsys):
+    text = GOOD + "metric: {bounce: second}\n"
+    path = write(tmp_path, text)
+    _, _, err = check(path, capsys)
+    assert len(err) == 1, err
+    line, col = where(text, "bounce: second", "bounce")
+    msg = message_at(err, path, line, col, "metric.bounce")
+    assert "'second'" in msg
+
+
+# --------------------------------------------------------------------------
+# contradicting settings
+# --------------------------------------------------------------------------
+
+CONTRADICTIONS = """\
+name: probe
+body:
+  shape: sphere
+  diameter: 0.006
+  aspect_ratio: 3.0
+contact:
+  restitution: 0.9
+  friction: 0.2
+release:
+  height: 0.01
+  angle: {grid: {low: 0, high: 90, steps: 5}}
+  spin: {uniform: {low: 0, high: 10}}
+metric:
+  bounce: 5
+analyses:
+  maps:
+    - {x: angle, y: spin}
+run:
+  impacts: 3
+  scheduler: tcp://127.0.0.1:8786
+"""
+
+
+@pytest.fixture
+def contradictions(tmp_path, capsys):
+    path = write(tmp_path, CONTRADICTIONS, "contra.yaml")
+    return (path,) + check(path, capsys)
+
+
+def test_all_contradictions_reported_at_once(contradictions):
+    path, code, out, err = contradictions
+    assert code == 2 and out == ""
+    assert_clean_errors(err, 4)
+
+
+def test_map_axis_not_gridded(contradictions):
+    path, _, _, err = contradictions
+    line, col = where(CONTRADICTIONS, "{x: angle, y: spin}", "y: spin")
+    msg = message_at(err, path, line, col, "analyses.maps[0].y")
+    assert "spin is not swept on a grid" in msg and "gridded here: angle" in msg
+
+
+def test_sphere_with_aspect_ratio(contradictions):
+    path, _, _, err = contradictions
+    line, col = where(CONTRADICTIONS, "aspect_ratio: 3.0")
+    assert "a sphere has no aspect_ratio" in message_at(err, path, line, col, "body.aspect_ratio")
+
+
+def test_scheduler_without_dask_backend(contradictions):
+    path, _, _, err = contradictions
+    line, col = where(CONTRADICTIONS, "scheduler: tcp")
+    assert "needs backend: dask" in message_at(err, path, line, col, "run.scheduler")
+
+
+def test_bounce_number_above_impacts(contradictions):
+    path, _, _, err = contradictions
+    line, col = where(CONTRADICTIONS, "bounce: 5")
+    msg = message_at(err, path, line, col, "metric.bounce")
+    assert "bounce 5" in msg and "run.impacts 3" in msg
+
+
+def test_scheduler_with_dask_backend_is_fine(tmp_path, capsys):
+    # the same setting is accepted once the backend agrees (nothing connects
+    # to the address during check)
+    text = GOOD.replace("run:\n", "run:\n  backend: dask\n  scheduler: tcp://127.0.0.1:8786\n")
+    code, _, err = check(write(tmp_path, text), capsys)
+    assert code == 0 and err == []
+
+
+def test_field_mistakes_and_contradictions_reported_together(tmp_path, capsys):
+    text = GOOD.replace("run:\n", "run:\n  scheduler: tcp://127.0.0.1:8786\n").replace("  friction: 0.2\n",
+                                                                                      "  friction: 0.2\n  colour: red\n")
+    path = write(tmp_path, text)
+    _, _, err = check(path, capsys)
+    assert any("contact.colour: unknown field" in e for e in err)
+    assert any("run.scheduler: a scheduler address needs backend: dask" in e for e in err)
+
+
+# --------------------------------------------------------------------------
+# files that are not studies at all
+# --------------------------------------------------------------------------
+
+@pytest.mark.parametrize("text", ["", "# only a comment\n\n"])
+def test_empty_file(tmp_path, capsys, text):
+    path = write(tmp_path, text)
+    code, out, err = check(path, capsys)
+    assert code == 2 and out == ""
+    assert_clean_errors(err, 1)
+    assert err[0] == f"hopscape: error: {path}:1:1: the study file is empty; start from `hopscape new NAME`"
+
+
+def test_file_that_is_a_list(tmp_path, capsys):
+    path = write(tmp_path, "- name: a\n- name: b\n")
+    code, out, err = check(path, capsys)
+    assert code == 2 and out == ""
+    assert_clean_errors(err, 1)
+    assert err[0].startswith(f"hopscape: error: {path}:1:1: a study file must be a mapping")
+
+
+def test_file_that_is_a_list_says_list(tmp_path, capsys):
+    _, _, err = check(write(tmp_path, "- name: a\n- name: b\n"), capsys)
+    assert "CommentedSeq" not in err[0] and "list" in err[0]
+
+
+SYNTAX = """\
+name: probe
+body:
+  shape: [capsule
+  diameter: 0.006
+"""
+
+
+def test_yaml_syntax_error(tmp_path, capsys):
+    # The flow sequence opened on line 3 is never closed; the parser finds
+    # the ':' after 'diameter' on line 4 where it expected ',' or ']'.
+    path = write(tmp_path, SYNTAX)
+    code, out, err = check(path, capsys)
+    assert code == 2 and out == ""
+    assert_clean_errors(err, 1)
+    line, col = where(SYNTAX, "diameter: 0.006", ":")
+    assert err[0].startswith(f"hopscape: error: {path}:{line}:{col}: YAML syntax error: ")
+    assert "expected ',' or ']'" in err[0]
+
+
+def test_yaml_syntax_error_tab_indent(tmp_path, capsys):
+    text = "name: probe\nbody:\n\tshape: capsule\n"
+    path = write(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    assert err[0].startswith(f"hopscape: error: {path}:3:1: YAML syntax error: ")
+
+
+def test_missing_file(tmp_path, capsys):
+    path = tmp_path / "nothere.yaml"
+    code, out, err = check(path, capsys)
+    assert code == 2 and out == ""
+    assert_clean_errors(err, 1)
+    assert f"{path}: no such study file" in err[0]
+
+
+# --------------------------------------------------------------------------
+# before any simulation, and no traceback from the real command
+# --------------------------------------------------------------------------
+
+def test_bad_study_is_refused_before_any_simulation(tmp_path, capsys, monkeypatch):
+    calls = []
+
+    def forbidden(*args, **kwargs):
+        calls.append(args)
+        raise AssertionError("simulated a drop of an invalid study")
+
+    monkeypatch.setattr(explore.metrics, "simulate_frame", forbidden)
+    monkeypatch.setattr(explore.runner, "simulate_frame", forbidden)
+    monkeypatch.setattr(sim, "simulate", forbidden)
+    path = write(tmp_path, MANY_MISTAKES, "many.yaml")
+    out_dir = tmp_path / "out"
+    code = main(["run", str(path), "--out", str(out_dir), "--quiet"])
+    _, err = capsys.readouterr()
+    assert code == 2
+    assert_clean_errors(err.splitlines(), 8)
+    assert calls == []
+    assert not out_dir.exists()
+
+
+def _hopscape():
+    script = Path(sys.executable).with_name("hopscape")
+    return [str(script)] if script.exists() else [shutil.which("hopscape")]
+
+
+def test_real_command_reports_without_traceback(tmp_path):
+    text = MANY_MISTAKES + "name: again\nx: 1\n"
+    path = write(tmp_path, text, "many.yaml")
+    proc = subprocess.run(_hopscape() + ["check", str(path)], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 2
+    assert proc.stdout == ""
+    lines = proc.stderr.splitlines()
+    assert "Traceback" not in proc.stderr
+    # 8 mistakes of MANY_MISTAKES, a duplicate 'name' and an unknown 'x'
+    assert len(lines) == 10, proc.stderr
+    assert all(re.match(rf"hopscape: error: {re.escape(str(path))}:\d+:\d+: ", line) for line in lines)
+    line, col = where(text, "x: 1")
+    assert f"{path}:{line}:{col}: x: unknown field" in proc.stderr
