@@ -75,6 +75,15 @@ def write_table(frame, path):
         frame.to_csv(path, index=False)
 
 
+def _shown(value):
+    """A cell as the user wrote it: 'nan', 'empty', or the text."""
+    if value is None or (isinstance(value, float) and np.isnan(value)):
+        return "an empty cell or nan"
+    if isinstance(value, (float, np.floating)):
+        return repr(float(value))
+    return repr(str(value))
+
+
 def _row_errors(frame, law):
     """Per-row reason a drop cannot be simulated ('' where it can)."""
     n = len(frame)
@@ -88,7 +97,7 @@ def _row_errors(frame, law):
                    "restitution", "friction"):
         values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
         raw = frame[column].to_numpy()
-        flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {r[i]!r}")
+        flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
     num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float)
            for c in ("length", "radius", "density", "height", "restitution", "friction")}
     kinds = frame["shape"].astype(str).str.strip().str.lower().to_numpy()

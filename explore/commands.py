@@ -40,7 +40,8 @@ def find_study(text):
     for candidate in (Path("studies") / f"{text}.yaml", Path("studies") / f"{text}.yml"):
         if candidate.is_file():
             return candidate
-    raise InputError(f"{text}: no such study file (looked for {text} and studies/{text}.yaml)")
+    looked = f"{text}" if text.endswith((".yaml", ".yml")) else f"{text} and studies/{text}.yaml"
+    raise InputError(f"{text}: no such study file (looked for {looked})")
 
 
 def cmd_check(args):

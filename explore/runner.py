@@ -47,10 +47,15 @@ def _part_name(stage, k):
 def write_atomic(frame: pd.DataFrame, path: Path):
     """Write a Parquet file so that it is either whole or absent."""
     tmp = path.with_name(path.name + f".tmp{os.getpid()}")
-    frame.to_parquet(tmp, index=False)
-    with open(tmp, "rb+") as handle:
-        os.fsync(handle.fileno())
-    os.replace(tmp, path)
+    try:
+        frame.to_parquet(tmp, index=False)
+        with open(tmp, "rb+") as handle:
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    except BaseException:  # Ctrl-C included: leave no half-written file behind
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
     with contextlib.suppress(OSError):
         fd = os.open(path.parent, os.O_RDONLY)
         os.fsync(fd)
@@ -80,6 +85,12 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
     (folder / "results").mkdir(parents=True, exist_ok=True)
     for stale in (folder / "results").glob("*.tmp*"):
         stale.unlink()
+    if not source_text.strip():  # called from Python: record the validated study itself
+        from ruamel.yaml import YAML
+        import io
+        buffer = io.StringIO()
+        YAML(typ="safe", pure=True).dump(study.model_dump(mode="json", exclude_none=True), buffer)
+        source_text = "# written by hopscape from the validated study\n" + buffer.getvalue()
     (folder / "study.yaml").write_text(source_text, encoding="utf-8")
     stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint(),
                                  "numbers": study.numbers()}, indent=1))

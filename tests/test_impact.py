@@ -162,8 +162,8 @@ def test_laws_agree_without_friction():
     # Physics notes section 4 [Stronge 2000]: without friction u_n is one
     # linear function of p, so Newton, Poisson and the energetic law all give
     # p_f = (1 + e) p_c. Newton and Poisson agree to 5e-16; the energetic
-    # root loses digits as e -> 0 (4e-12 seen at e = 2e-5; the e = 0 limit
-    # is the xfail test below), hence 1e-10.
+    # law takes a square root that loses digits as e -> 0 (seen 4e-12 at
+    # e = 2e-5 before its closed form was rewritten), hence 1e-10.
     mass, inertia, r_x, r_y, u_t, u_n, e, _ = random_impacts(2000, seed=11)
     k = impulse_matrix(mass, inertia, r_x, r_y)
     results = [impulses(u_t, u_n, k, e, 0.0, law) for law in LAW_NAMES]

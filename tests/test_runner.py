@@ -330,9 +330,6 @@ def test_interrupted_part_write_leaves_no_part(tmp_path, monkeypatch):
     assert not target.exists()
 
 
-@pytest.mark.xfail(strict=True, raises=AssertionError, reason="write_atomic does not remove its temporary file when interrupted, so Ctrl-C "
-                   "during a part write (about 1 run in 7 with 2000-drop chunks) leaves results/part-*.parquet.tmpPID "
-                   "until the next run cleans it")
 def test_interrupted_part_write_leaves_no_temporary_file(tmp_path, monkeypatch):
     frame = pd.DataFrame({"cell": np.arange(5), "value": np.linspace(0, 1, 5)})
 
@@ -390,8 +387,6 @@ def test_parts_without_fingerprint_are_refused(small_reference, tmp_path):
         run(SMALL, tmp_path, backend="sequential")
 
 
-@pytest.mark.xfail(strict=True, raises=InputError, reason="run_study called from Python without source_text writes an EMPTY study.yaml "
-                   "into the run folder, so the folder no longer records which study made its results")
 def test_run_from_python_records_the_study(tmp_path):
     study = parse_study(SMALL)
     run_study(study, tmp_path, backend="sequential", progress=False)
