@@ -130,6 +130,9 @@ def main(argv=None):
     except KeyboardInterrupt:
         print("hopscape: interrupted; finished work is kept", file=sys.stderr)
         return EXIT_INTERRUPTED
+    except BrokenPipeError:  # output piped into `head` and the like
+        sys.stderr.close()
+        return EXIT_OK
     except SystemExit as exc:  # --help
         return exc.code if isinstance(exc.code, int) else EXIT_OK
     except Exception as exc:  # noqa: BLE001
