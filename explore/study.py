@@ -54,20 +54,6 @@ class Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True)
 
 
-class Grid(Strict):
-    """Evenly spaced values from ``low`` to ``high`` inclusive."""
-
-    low: float
-    high: float
-    steps: int = Field(ge=2, le=2001)
-
-    @model_validator(mode="after")
-    def _ordered(self):
-        if not self.low < self.high:
-            raise ValueError(f"low must be below high, got low {self.low} and high {self.high}")
-        return self
-
-
 class Uniform(Strict):
     low: float
     high: float
@@ -77,6 +63,12 @@ class Uniform(Strict):
         if not self.low < self.high:
             raise ValueError(f"low must be below high, got low {self.low} and high {self.high}")
         return self
+
+
+class Grid(Uniform):
+    """Evenly spaced values from ``low`` to ``high`` inclusive."""
+
+    steps: int = Field(ge=2, le=2001)
 
 
 class LogUniform(Uniform):
