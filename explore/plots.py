@@ -126,11 +126,15 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     if reference == "centre":
         ax.axhline(result.energy_bound[drop] * MM, color=OKABE_ITO["red"], ls=":",
                    label="energy bound: highest the centre could ever rise")
+    import matplotlib.patches as mpatches
+    handles, _ = ax.get_legend_handles_labels()
+    handles += [mpatches.Patch(color=OKABE_ITO["orange"], label="above the release height"),
+                mpatches.Patch(color=OKABE_ITO["sky"], label="below the release height")]
     ax.set_xticks(idx)
     ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:.0f} ms merged)")
     ax.set_ylabel(f"peak height of the {POINT[reference]} [mm]")
     ax.set_title("Bounce heights (numbers: rebound ratio)")
-    ax.legend(fontsize=8, loc="upper right")
+    ax.legend(handles=handles, fontsize=8, loc="upper right")
     ax.set_ylim(0, max(release, float(np.nanmax(heights[:count])) if count else release,
                        result.energy_bound[drop] if reference == "centre" else 0) * MM * 1.15)
     return _finish(fig, path)
