@@ -75,6 +75,31 @@ def _ellipse(s, c, round_long, round_wide, rounded):
     return np.where(rounded, ellipse, round_long), slope
 
 
+def sincos(angle):
+    """``sin`` and ``cos`` from one ``tan`` of the half angle.
+
+    ``s = 2q / (1 + q^2)``, ``c = (1 - q^2) / (1 + q^2)`` with
+    ``q = tan(angle / 2)`` (the tangent half-angle substitution). NumPy's
+    double-precision ``tan`` is vectorised (SIMD) while its ``sin`` and
+    ``cos`` are not: this is some five times faster here, with errors of a
+    few units in the last place (below 4e-15 absolute, checked in
+    ``tests/test_flight.py`` against ``np.sin``/``np.cos``). ``q`` never
+    overflows: no double is closer to a pole of ``tan`` than about 1e-16,
+    so ``|q| < 1e17`` and ``q^2 < 1e34``.
+    """
+    q = np.tan(0.5 * angle)
+    q2 = q * q
+    inv = 1.0 / (1.0 + q2)
+    return (q + q) * inv, (1.0 - q2) * inv
+
+
+def _pick(mask, a, b):
+    """``np.where(mask, a, b)`` for finite ``a`` and ``b``, exactly, without
+    branches (``np.where`` costs ~7 ns per element on an unpredictable mask
+    here; this ~2)."""
+    return a * mask + b * ~mask
+
+
 def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     """Time to the first contact of each body with the floor ``y = 0``.
 
@@ -106,149 +131,165 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     out_along = np.zeros(n)
     out_across = np.zeros(n)
     hl, hw, rl, rw = profile
+    rounded_any = bool(np.any(rl != rw))
     # exact far-field start: a centre above d_high cannot touch before it
     # falls back to d_high
     fall = (vy + np.sqrt(np.maximum(vy * vy + 2 * GRAVITY * (y - d_high), 0.0))) / GRAVITY
-    t0 = np.where(y > d_high, fall, 0.0)
+    t0 = fall * (y > d_high)
+    curv = GRAVITY + omega * omega * d2
     # every per-body number in one array, so that dropping the bodies that
     # have found their contact is one gather
-    rows = np.stack([y, vy, theta, omega, d_high, GRAVITY + omega * omega * d2, hl, hw, rl, rw,
-                     (rl != rw).astype(float), np.arange(n, dtype=float), t0])
+    rows = np.stack([y, vy, theta, omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
+                     hl, omega * hl, hw, omega * hw, rl, rw, (rl != rw).astype(float),
+                     np.arange(n, dtype=float), t0])
+    T = 16  # the row holding the time
     for _ in range(max_iterations):
         if rows.shape[1] == 0:
             break
-        yy, vv, th, om, dh, curv, hl, hw, rl, rw, rounded, idx, t = rows
-        rounded = rounded > 0
-        angle = th + om * t
-        s, c = np.sin(angle), np.cos(angle)
-        vt = vv - GRAVITY * t
-        yt = yy + t * (vv - 0.5 * GRAVITY * t)
-        ellipse, ellipse_slope = _ellipse(s, c, rl, rw, rounded)
-        base_gap = yt - ellipse
-        base_slope = vt - om * ellipse_slope
-        a_gap, a_slope = hl * s, om * hl * c
+        yy, vv, th, om, dh, curv2, inv_curv, spread, hl, om_hl, hw, om_hw, rl, rw, rounded, idx, t = rows
+        s, c = sincos(th + om * t)
+        gt = GRAVITY * t
+        vt = vv - gt
+        yt = yy + t * (vv - 0.5 * gt)
+        if rounded_any:
+            ellipse, ellipse_slope = _ellipse(s, c, rl, rw, rounded > 0)
+            base_gap = yt - ellipse
+            base_slope = vt - om * ellipse_slope
+        else:
+            base_gap, base_slope = yt - rl, vt
+        a_gap, a_slope = hl * s, om_hl * c
         if four:
-            b_gap, b_slope = hw * c, om * hw * s
-        gaps, slopes = [], []
-        for along, across in corners:
-            gap = base_gap - a_gap if along > 0 else base_gap + a_gap
-            slope = base_slope - a_slope if along > 0 else base_slope + a_slope
-            if four:
-                gap = gap - b_gap if across > 0 else gap + b_gap
-                slope = slope + b_slope if across > 0 else slope - b_slope
-            gaps.append(gap)
-            slopes.append(slope)
+            b_gap, b_slope = hw * c, om_hw * s
+            lo_gap, hi_gap = base_gap - a_gap, base_gap + a_gap
+            lo_slope, hi_slope = base_slope - a_slope, base_slope + a_slope
+            gaps = [lo_gap - b_gap, hi_gap - b_gap, lo_gap + b_gap, hi_gap + b_gap]
+            slopes = [lo_slope + b_slope, hi_slope + b_slope, lo_slope - b_slope, hi_slope - b_slope]
+        else:
+            gaps = [base_gap - a_gap, base_gap + a_gap]
+            slopes = [base_slope - a_slope, base_slope + a_slope]
         touching = [(g < CONTACT_GAP) & (v < 0) for g, v in zip(gaps, slopes)]
         hit = touching[0]
-        steps = []
-        for g, v, tk in zip(gaps, slopes, touching):
-            if tk is not hit:
-                hit = hit | tk
-            # first root of g + v tau - curv tau^2 / 2: no piece can touch sooner
-            steps.append((v + np.sqrt(v * v + 2 * curv * np.maximum(g, 0.0))) / curv)
+        for tk in touching[1:]:
+            hit = hit | tk
+        # first root of g + v tau - curv tau^2 / 2: no piece can touch sooner
+        steps = [(v + np.sqrt(v * v + curv2 * np.maximum(g, 0.0))) * inv_curv for g, v in zip(gaps, slopes)]
         step, slope_min = steps[0], slopes[0]
         for tau, v in zip(steps[1:], slopes[1:]):
             shorter = tau < step
-            step, slope_min = np.where(shorter, tau, step), np.where(shorter, v, slope_min)
+            step, slope_min = np.minimum(tau, step), _pick(shorter, v, slope_min)
         # The piece that sets the step is, at t + step, between 0 and
         # (curv - g) step^2 above the floor (its gap'' lies within
         # -curv .. curv - 2g): when that is below the contact gap and the
         # piece still approaches, the contact is at t + step without
         # another evaluation.
-        spread = curv - GRAVITY
         sure = (spread * step * step < CONTACT_GAP) & (slope_min + spread * step < 0) & ~hit
         # exact far-field step: a centre above d_high cannot touch before it
         # falls back to d_high
         above = yt > dh
-        if np.any(above):
-            fall = (vt + np.sqrt(np.maximum(vt * vt + 2 * GRAVITY * (yt - dh), 0.0))) / GRAVITY
-            step = np.where(above, np.maximum(step, fall), step)
+        if above.any():
+            fall = (vt + np.sqrt(np.maximum(vt * vt + 2 * GRAVITY * (yt - dh), 0.0))) * (1.0 / GRAVITY)
+            step = np.maximum(step, fall * above)
             sure &= ~above
         ended = hit | sure
-        if np.any(ended):
-            lowest = gaps[0]
-            for g in gaps[1:]:
-                lowest = np.minimum(lowest, g)
-            count = np.zeros(int(ended.sum()))
-            sum_along = np.zeros_like(count)
-            sum_across = np.zeros_like(count)
-            for (along, across), g, v, tau, tk in zip(corners, gaps, slopes, steps, touching):
+        if ended.any():
+            done = np.flatnonzero(ended)
+            hit_d, step_d = hit[done], step[done]
+            gaps_d = [g[done] for g in gaps]
+            lowest = np.minimum.reduce(gaps_d) if len(gaps_d) > 1 else gaps_d[0]
+            count = np.zeros(done.size)
+            sum_along = np.zeros(done.size)
+            sum_across = np.zeros(done.size)
+            for (along, across), g, v, tau, tk in zip(corners, gaps_d, slopes, steps, touching):
                 # touching now within TIE_GAP of the lowest, or reaching the
                 # floor within TIE_GAP of the first piece's arrival
-                tied = np.where(hit, tk & (g <= lowest + TIE_GAP), (tau - step) * np.abs(v) <= TIE_GAP)[ended]
+                tied = np.where(hit_d, tk[done] & (g <= lowest + TIE_GAP),
+                                (tau[done] - step_d) * np.abs(v[done]) <= TIE_GAP)
                 count += tied
                 sum_along += along * tied
                 sum_across += across * tied
-            done = idx[ended].astype(np.int64)
-            out_t[done] = (t + np.where(hit, 0.0, step))[ended]
-            out_along[done] = sum_along / count
-            out_across[done] = sum_across / count
-            keep = ~ended
-            rows = rows[:, keep]
-            step = step[keep]
-            t = rows[12]
+            where = idx[done].astype(np.int64)
+            out_t[where] = t[done] + step_d * ~hit_d
+            out_along[where] = sum_along / count
+            out_across[where] = sum_across / count
+            keep = np.flatnonzero(~ended)
+            rows = rows.take(keep, axis=1)
+            step = step.take(keep)
+            t = rows[T]
         t += step
     return out_t, out_along, out_across
 
 
-TWO_PI = 2.0 * np.pi
-
-
-def sincos_single(theta):
-    """``sin`` and ``cos`` in single precision after a double-precision
-    reduction to ``[-pi, pi]``: absolute error below 3e-7, some fifteen times
-    faster than double precision here. Used only for flight peaks, where it
-    moves a height by under 3e-7 times the body size (1e-8 m for a 2 cm
-    capsule); never for the contact search.
-    """
-    reduced = (theta - TWO_PI * np.rint(theta * (1.0 / TWO_PI))).astype(np.float32)
-    return np.sin(reduced), np.cos(reduced)
-
-
-def depth_at(theta, profile):
-    """Depth of the lowest point below the centre at ``theta`` (single
-    precision trigonometry, see :func:`sincos_single`). [m]"""
+def _depth_terms(angle, profile, rounded, rounded_any, four, derivatives=True):
+    """Depth ``d`` of the lowest point and, with ``derivatives``, ``d'`` and
+    ``d''`` (one-sided mean at the corners) at ``angle``. [m]"""
     half_long, half_wide, round_long, round_wide = profile
-    s, c = sincos_single(theta)
-    ellipse, _ = _ellipse(s, c, round_long, round_wide, round_long != round_wide)
-    return half_long * np.abs(s) + half_wide * np.abs(c) + ellipse
-
-
-def _depth_derivatives(theta, profile, rounded):
-    """``d``, ``d'`` and ``d''`` of the depth (one-sided mean at corners)."""
-    half_long, half_wide, round_long, round_wide = profile
-    s, c = sincos_single(theta)
-    ellipse, e1 = _ellipse(s, c, round_long, round_wide, rounded)
-    if np.any(rounded):
+    s, c = sincos(angle)
+    sa = np.abs(s)
+    if rounded_any:
+        ellipse, e1 = _ellipse(s, c, round_long, round_wide, rounded)
+    else:
+        ellipse, e1 = round_long, 0.0
+    rect = half_long * sa + half_wide * np.abs(c) if four else half_long * sa
+    d = rect + ellipse
+    if not derivatives:
+        return d
+    d1 = half_long * np.sign(s) * c + e1
+    if four:
+        d1 = d1 - half_wide * np.sign(c) * s
+    d2 = -rect
+    if rounded_any:
         stretch = round_long ** 2 - round_wide ** 2
         with np.errstate(invalid="ignore", divide="ignore"):
-            e2 = np.where(rounded, (stretch * (c * c - s * s) - e1 * e1) / ellipse, 0.0)
-    else:
-        e2 = 0.0
-    sa, ca = np.abs(s), np.abs(c)
-    d = half_long * sa + half_wide * ca + ellipse
-    d1 = half_long * np.sign(s) * c - half_wide * np.sign(c) * s + e1
-    d2 = e2 - half_long * sa - half_wide * ca
+            e2 = (stretch * (c * c - s * s) - e1 * e1) / ellipse
+        d2 = d2 + _pick(rounded & (ellipse > 0), np.nan_to_num(e2), 0.0)
     return d, d1, d2
 
 
-def _breakpoints(profile):
+def depth_at(theta, profile):
+    """Depth of the lowest point below the centre at ``theta`` [m]: the
+    same value as :func:`sim.shapes.depth`, with :func:`sincos`."""
+    hl, hw, rl, rw = profile
+    rounded = rl != rw
+    return _depth_terms(theta, profile, rounded, bool(np.any(rounded)), bool(np.any(hw > 0)), False)
+
+
+def _breakpoints(profile, four):
     """Angles in [0, pi) where the depth has its corners and turning points,
     and the exact depth there: flat (0), the rectangle's diagonal (theta*),
-    upright (pi/2), the other diagonal (pi - theta*). Between two
-    consecutive breakpoints both parts of the depth are monotone."""
+    upright (pi/2), the other diagonal (pi - theta*); without a flat face
+    (``half_wide`` 0 in the whole batch) the diagonals are upright, so only
+    flat and upright remain. Between two consecutive breakpoints both parts
+    of the depth are monotone."""
     half_long, half_wide, round_long, round_wide = profile
+    flat, upright = half_wide + round_wide, half_long + round_long
+    if not four:
+        return [0.0, 0.5 * np.pi], [flat, upright]
     hyp = np.hypot(half_long, half_wide)
     diagonal = np.arctan2(half_long, half_wide)  # where A|sin| + B|cos| peaks
     with np.errstate(invalid="ignore", divide="ignore"):
-        d_diag = np.where(hyp > 0, hyp + np.hypot(round_long * half_long, round_wide * half_wide) / hyp,
-                          half_wide + round_wide)
-    angles = np.stack([np.zeros_like(diagonal), diagonal, np.full_like(diagonal, 0.5 * np.pi), np.pi - diagonal])
-    depths = np.stack([half_wide + round_wide, d_diag, half_long + round_long, d_diag])
-    return angles, depths
+        d_diag = hyp + np.hypot(round_long * half_long, round_wide * half_wide) / np.where(hyp > 0, hyp, 1.0)
+    d_diag = np.where(hyp > 0, d_diag, flat)
+    return [0.0, diagonal, 0.5 * np.pi, np.pi - diagonal], [flat, d_diag, upright, d_diag]
 
 
-def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps=6, intervals=7):
+def _largest(rows):
+    """Row index and value of the largest entry of each column of a short
+    stack (``np.argmax(axis=0)`` costs ~40 ns per column here, this ~14)."""
+    top = rows[0].copy()
+    which = np.zeros(top.size, dtype=np.intp)
+    for i in range(1, rows.shape[0]):
+        larger = rows[i] > top
+        np.maximum(top, rows[i], out=top)
+        which += larger * (i - which)
+    return which, top
+
+
+#: Stands for "no such piece" in the piece bounds (finite, so that masks can
+#: be applied by arithmetic). [m]
+NO_PIECE = -1e30
+
+
+def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps=6):
     """Highest centre, lowest-point and top-point heights over a flight.
 
     The heights are those actually reached in ``[0, duration]``, not the
@@ -256,116 +297,118 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     end.
 
     The centre peak is exact. For the lowest point ``y - d(theta)`` and the
-    top point ``y + d(theta)``: the flight is cut at the breakpoints of the
-    depth (axis flat, upright, or along the rectangle's diagonal), where the
-    depth is known exactly and between which it is monotone. On each piece
-    ``max y`` (exact, the centre is a parabola) plus the larger (top) or
-    minus the smaller (bottom) end depth bounds the height from above. Pieces
-    of one kind share their depth bounds, so only the pieces nearest the
-    apex can hold the peak: the one holding the apex and the three on either
-    side (four kinds of piece) bound every other. They are polished in order of their bound, by Newton steps on
-    ``h' = 0`` kept inside a bracket that always moves uphill, until no
-    unpolished piece's bound exceeds the best height found. Checked against
-    dense sampling in ``tests/test_flight.py``.
+    top point ``y + d(theta)``: only the window where the centre is within
+    ``d_high - d_low`` of its highest can hold a peak. The window is cut at
+    the breakpoints of the depth (axis flat, upright, or along the
+    rectangle's diagonal; :func:`_breakpoints`), where the depth is known
+    exactly and between which it is monotone. On each piece ``max y``
+    (exact, the centre is a parabola) plus the larger (top) or minus the
+    smaller (bottom) end depth bounds the height from above. Pieces of one
+    kind (K kinds per half turn) share their depth bounds, and ``max y``
+    falls away from the apex, so a piece is bounded by the nearer one of its
+    kind: the half turn holding the apex and one on either side hold every
+    candidate. Candidates are polished in order of their bound, by Newton
+    steps on ``h' = 0`` kept inside a bracket that always moves uphill,
+    until no unpolished piece's bound exceeds the best height found.
+    Checked against dense sampling in ``tests/test_flight.py``.
 
     Returns
     -------
     centre, bottom, top : numpy.ndarray
         Peak heights above the floor. [m]
     """
-    half_long, half_wide, round_long, round_wide = profile
-    rounded = round_long != round_wide
-    t_apex = np.clip(vy / GRAVITY, 0.0, duration)
-    centre = y + vy * t_apex - 0.5 * GRAVITY * t_apex ** 2
+    hl, hw, rl, rw = profile
+    four = bool(np.any(hw > 0))
+    rounded = rl != rw
+    rounded_any = bool(np.any(rounded))
+    n = y.size
+    t_apex = np.clip(vy * (1.0 / GRAVITY), 0.0, duration)
+    centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
     spread = d_high - d_low
     disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - spread - y), 0.0))
-    t_lo = np.clip((vy - disc) / GRAVITY, 0.0, duration)
-    t_hi = np.clip((vy + disc) / GRAVITY, 0.0, duration)
+    t_lo = np.clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_hi = np.clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
 
     def centre_at(t):
         return y + t * (vy - 0.5 * GRAVITY * t)
 
-    angles, depths = _breakpoints(profile)
+    offsets, depths = _breakpoints(profile, four)
+    kinds = len(offsets)
     # below 1e-9 rad/s the depth moves by under 1e-9 of the body size over a
     # second of flight: count it as not spinning (the apex is the peak)
     spinning = np.abs(omega) > 1e-9
-    safe_omega = np.where(spinning, omega, 1.0)
-    # breakpoint index k (4 per half turn) at or below the angle at the apex
-    phase = theta + omega * t_apex
-    period = np.floor(phase / np.pi)
-    within = phase - period * np.pi
-    j = (within[None, :] >= angles).sum(axis=0) - 1
-    base = 4 * period + j
-
-    def breakpoint(k):
-        q = np.floor(k / 4)
-        r = (k - 4 * q).astype(np.int64)
-        return (q * np.pi + np.take_along_axis(angles, r[None, :], 0)[0],
-                np.take_along_axis(depths, r[None, :], 0)[0])
-
-    half = intervals // 2
-    marks = [breakpoint(base + i) for i in range(-half, half + 2)]
-    times = [(ang - theta) / safe_omega for ang, _ in marks]
+    inv_omega = spinning / (omega + ~spinning)
+    # the half turn holding the apex, and one on either side
+    first = (np.floor((theta + omega * t_apex) * (1.0 / np.pi)) - 1.0) * np.pi
+    times, marks = [], []
+    for turn in range(3):
+        for offset, depth in zip(offsets, depths):
+            times.append((first + (turn * np.pi + offset) - theta) * inv_omega)
+            marks.append(depth)
+    times.append((first + 3 * np.pi - theta) * inv_omega)
+    marks.append(depths[0])
     pieces = []  # (lo, hi, d_a, d_b) per piece, clipped to the window
-    for i in range(intervals):
-        (t_a, (_, d_a)), (t_b, (_, d_b)) = (times[i], marks[i]), (times[i + 1], marks[i + 1])
+    for i in range(3 * kinds):
+        t_a, t_b = times[i], times[i + 1]
         lo = np.maximum(np.minimum(t_a, t_b), t_lo)
         hi = np.minimum(np.maximum(t_a, t_b), t_hi)
-        pieces.append((lo, hi, d_a, d_b))
-    # breakpoints inside the window are exact candidates, free of trigonometry
-    exact = [(t, d, spinning & (t >= t_lo) & (t <= t_hi)) for t, (_, d) in zip(times, marks)]
+        pieces.append((lo, hi, marks[i], marks[i + 1]))
+    los = np.stack([p[0] for p in pieces])
+    his = np.stack([p[1] for p in pieces])
 
-    d_ends = [depth_at(theta + omega * t, profile) for t in (t_lo, t_apex, t_hi)]
+    ends = (t_lo, t_apex, t_hi)
+    d_ends = [depth_at(theta + omega * t, profile) for t in ends]
+    y_ends = [centre_at(t) for t in ends]
+    # breakpoints inside the window are exact candidates, free of trigonometry
+    inside = [spinning & (t >= t_lo) & (t <= t_hi) for t in times]
+    y_marks = [centre_at(t) for t in times]
     peaks = []
     for sign in (-1.0, 1.0):
-        best = np.maximum.reduce([centre_at(t) + sign * d for t, d in zip((t_lo, t_apex, t_hi), d_ends)])
-        for t, d, inside in exact:
-            best = np.where(inside, np.maximum(best, centre_at(t) + sign * d), best)
-        bounds = []
-        for lo, hi, d_a, d_b in pieces:
+        best = np.maximum.reduce([yc + sign * d for yc, d in zip(y_ends, d_ends)])
+        for yc, d, m in zip(y_marks, marks, inside):
+            best = np.maximum(best, (yc + sign * d) * m + NO_PIECE * ~m)
+        bounds = np.empty((len(pieces), n))
+        for row, (lo, hi, d_a, d_b) in zip(bounds, pieces):
             exists = spinning & (hi > lo)
-            y_top = centre_at(np.clip(t_apex, lo, hi))
-            bound = y_top + (np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b))
-            bounds.append(np.where(exists, bound, -np.inf))
-        bounds = np.stack(bounds)
-        los = np.stack([p[0] for p in pieces])
-        his = np.stack([p[1] for p in pieces])
-        # a body that does not spin keeps its depth: the apex is the peak
-        for _ in range(intervals):
-            pick = np.argmax(bounds, axis=0)
-            cols = np.arange(y.size)
-            open_ = bounds[pick, cols] > best + 1e-12
-            if not open_.any():
+            end_depth = np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b)
+            row[...] = (centre_at(np.clip(t_apex, lo, hi)) + end_depth) * exists + NO_PIECE * ~exists
+        for _ in range(len(pieces)):
+            pick, top = _largest(bounds)
+            sel = np.flatnonzero(top > best + 1e-12)
+            if sel.size == 0:
                 break
-            sel = np.flatnonzero(open_)
             p_sel = pick[sel]
-            bounds[p_sel, sel] = -np.inf
+            bounds[p_sel, sel] = NO_PIECE
             found = _polish(y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
-                            rounded[sel] if np.ndim(rounded) else rounded,
+                            rounded[sel] if rounded_any else rounded, rounded_any, four,
                             los[p_sel, sel], his[p_sel, sel], sign, polish_steps)
             best[sel] = np.maximum(best[sel], found)
         peaks.append(best)
     return centre, peaks[0], peaks[1]
 
 
-def _polish(y, vy, theta, omega, profile, rounded, lo, hi, sign, steps):
+def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, sign, steps):
     """Highest ``y +- d`` on ``[lo, hi]``: Newton on ``h' = 0`` where ``h`` is
     concave, otherwise halving towards the uphill side; the bracket only
     ever shrinks towards where ``h`` rises, so it ends at a local maximum
     or an end. Returns the best height seen inside (the caller has the
     ends: breakpoints or window edges)."""
-    best = -np.inf
+    best = np.full(y.size, NO_PIECE)
     t = 0.5 * (lo + hi)
+    omega2 = sign * omega * omega
+    sign_omega = sign * omega
     for _ in range(steps):
-        d, d1, d2 = _depth_derivatives(theta + omega * t, profile, rounded)
-        h = y + t * (vy - 0.5 * GRAVITY * t) + sign * d
-        best = np.maximum(best, h)
-        slope = vy - GRAVITY * t + sign * omega * d1
-        curve = sign * omega * omega * d2 - GRAVITY
-        lo = np.where(slope > 0, t, lo)
-        hi = np.where(slope > 0, hi, t)
-        newton = t - slope / np.where(curve < 0, curve, -1.0)
-        inside = (curve < 0) & (newton > lo) & (newton < hi)
-        t = np.where(inside, newton, 0.5 * (lo + hi))
-    d = depth_at(theta + omega * t, profile)
+        d, d1, d2 = _depth_terms(theta + omega * t, profile, rounded, rounded_any, four)
+        gt = GRAVITY * t
+        best = np.maximum(best, y + t * (vy - 0.5 * gt) + sign * d)
+        slope = vy - gt + sign_omega * d1
+        curve = omega2 * d2 - GRAVITY
+        up = slope > 0
+        lo = _pick(up, t, lo)
+        hi = _pick(up, hi, t)
+        # a finite stand-in where h is not concave (no Newton step there)
+        newton = t - slope / np.minimum(curve, -1e-3 * GRAVITY)
+        newton_ok = (curve < 0) & (newton > lo) & (newton < hi)
+        t = _pick(newton_ok, newton, 0.5 * (lo + hi))
+    d = _depth_terms(theta + omega * t, profile, rounded, rounded_any, four, False)
     return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)
