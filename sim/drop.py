@@ -343,7 +343,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         theta = th[ids]
         # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
         # upright or flat lands exactly so
-        s, cs = (np.where(np.abs(v) < FLAT_TOLERANCE, 0.0, v) for v in (np.sin(theta), np.cos(theta)))
+        s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
         ellipse = np.sqrt((rl * s) ** 2 + (rw * cs) ** 2)
         with np.errstate(invalid="ignore", divide="ignore"):
             e_slope = np.where(ellipse > 0, (rl ** 2 - rw ** 2) * s * cs / ellipse, 0.0)
