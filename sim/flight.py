@@ -411,16 +411,18 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     y_ends = [centre_at(t) for t in ends]
     # breakpoints inside the window are exact candidates, free of trigonometry
     inside = [spinning & (t >= t_lo) & (t <= t_hi) for t in times]
-    y_marks = [centre_at(t) for t in times]
+    y_marks = [centre_at(t) * m + NO_PIECE * ~m for t, m in zip(times, inside)]
+    # adding this sends a piece that does not exist to NO_PIECE (and adds -0.0
+    # to one that does)
+    missing = [NO_PIECE * ~(spinning & (hi > lo)) for lo, hi, *_ in pieces]
     peaks = []
     for sign in (-1.0, 1.0):
         best = np.maximum.reduce([yc + sign * d for yc, d in zip(y_ends, d_ends)])
-        for yc, d, m in zip(y_marks, marks, inside):
-            best = np.maximum(best, (yc + sign * d) * m + NO_PIECE * ~m)
+        for yc, d in zip(y_marks, marks):
+            best = np.maximum(best, yc + sign * d)
         bounds = np.empty((len(pieces), n))
         starts = np.empty((len(pieces), n))
         for i, (lo, hi, t_a, t_b, d_a, d_b, kind) in enumerate(pieces):
-            exists = spinning & (hi > lo)
             if concave and sign < 0:
                 # below the chord: y - d <= y - (d_a + k (t - t_a))
                 slope_a, slope_b, span = slopes[kind]
@@ -450,20 +452,25 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
                 middle = 0.5 * (lo + hi)
                 start = _pick(rounded, middle, start) if concave else middle
                 bound = _pick(rounded, loose, bound) if concave else loose
-            bounds[i] = bound * exists + NO_PIECE * ~exists
-            starts[i] = start * exists
+            np.add(bound, missing[i], out=bounds[i])
+            starts[i] = start
+        # best only rises and bounds only fall, so a body with no open piece
+        # left is done: later rounds look only at the bodies just polished
+        candidates, stack, floor = None, bounds, best
         for _ in range(len(pieces)):
-            pick, top = _largest(bounds)
-            sel = np.flatnonzero(top > best + 1e-12)
-            if sel.size == 0:
+            pick, top = _largest(stack)
+            open_ = np.flatnonzero(top > floor + 1e-12)
+            if open_.size == 0:
                 break
-            p_sel = pick[sel]
+            sel = open_ if candidates is None else candidates[open_]
+            p_sel = pick[open_]
             bounds[p_sel, sel] = NO_PIECE
             found = _polish(y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
                             rounded[sel] if rounded_any else rounded, rounded_any, four,
                             los[p_sel, sel], his[p_sel, sel], starts[p_sel, sel], sign,
                             polish_steps[sign > 0])
             best[sel] = np.maximum(best[sel], found)
+            candidates, stack, floor = sel, bounds[:, sel], best[sel]
         peaks.append(best)
     return centre, peaks[0], peaks[1]
 
