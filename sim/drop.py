@@ -28,6 +28,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import flight
+from ._memory import keep_freed_memory
 from .flight import GRAVITY
 from .impact import LAW_CODE, impulse_matrix, law_codes, routh_impact
 from .shapes import FLAT_TOLERANCE, Shape, depth
@@ -270,6 +271,7 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         raise ValueError(f"impacts must be >= 1, got {impacts}")
     if chunk_size < 1:
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
+    keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
     mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu = arrays
     gap0 = y0 - depth(th0, hl, hw, rl, rw)
