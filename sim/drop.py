@@ -301,48 +301,75 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
                e, mu, laws, out, status, count):
-    """Simulate one chunk, writing into the views ``out``, ``status``, ``count``."""
+    """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
+
+    The drops still in the air are kept as compact arrays (``live``), and
+    are gathered only when some drop leaves: in most chunks none does
+    before its last impact, so nothing is gathered at all.
+    """
     n = mass.size
-    d2 = flight.curvature_bound(*profile)
     d_low, d_high = flight.depth_range(*profile)
-    t = np.zeros(n)
-    x = np.zeros(n)
-    y, th, om, vx, vy = y0.copy(), th0.copy(), om0.copy(), vx0.copy(), vy0.copy()
     rest_energy = mass * GRAVITY * d_low
-    energy0 = 0.5 * mass * (vx ** 2 + vy ** 2) + 0.5 * inertia * om ** 2 + mass * GRAVITY * y - rest_energy
-    flying = np.arange(n)        # drops whose next flight is searched
-    impacting = np.ones(n, bool)  # of those, which strike again after it
+    live = {
+        "index": np.arange(n), "t": np.zeros(n), "x": np.zeros(n), "y": y0.copy(), "vx": vx0.copy(),
+        "vy": vy0.copy(), "th": th0.copy(), "om": om0.copy(), "mass": mass, "inertia": inertia,
+        "hl": profile[0], "hw": profile[1], "rl": profile[2], "rw": profile[3], "e": e, "mu": mu,
+        "law": laws, "d2": flight.curvature_bound(*profile), "d_low": d_low, "d_high": d_high,
+        "rest_energy": rest_energy,
+        "energy0": (0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * GRAVITY * y0
+                    - rest_energy),
+        # strikes again after the next flight (False: settled, flight only)
+        "impacting": np.ones(n, bool),
+    }
+
+    def keep(rows, mask):
+        where = np.flatnonzero(mask)
+        return {name: a.take(where) for name, a in rows.items()}
+
+    def put(name, j, rows, value):
+        # every drop of the chunk still live: a plain column write
+        if rows["index"].size == n:
+            out[name][:, j] = value
+        else:
+            out[name][rows["index"], j] = value
+
     for j in range(k + 1):
-        if flying.size == 0:
+        if live["index"].size == 0:
             break
-        ids = flying
-        prof = tuple(p[ids] for p in profile)
-        tau, along, across = flight.next_contact(y[ids], vy[ids], th[ids], om[ids], prof, d2[ids], d_high[ids])
+        prof = (live["hl"], live["hw"], live["rl"], live["rw"])
+        tau, along, across = flight.next_contact(live["y"], live["vy"], live["th"], live["om"], prof,
+                                                 live["d2"], live["d_high"])
         failed = np.isnan(tau)
+        any_failed = bool(failed.any())
         if j > 0:
-            good = ~failed
-            g = ids[good]
-            out["flight"][g, j - 1] = tau[good]
-            c, b, tp = flight.flight_peaks(y[g], vy[g], th[g], om[g], tau[good],
-                                           tuple(p[good] for p in prof), d_low[g], d_high[g])
-            out["peak_centre"][g, j - 1] = c
-            out["peak_bottom"][g, j - 1] = b
-            out["peak_top"][g, j - 1] = tp
-        status[ids[failed]] = FAILED
-        go = ~failed & impacting[ids]
+            # the flight after impact j - 1 and its peaks
+            flown = keep(live, ~failed) if any_failed else live
+            tau_ok = tau[~failed] if any_failed else tau
+            put("flight", j - 1, flown, tau_ok)
+            c, b, tp = flight.flight_peaks(flown["y"], flown["vy"], flown["th"], flown["om"], tau_ok,
+                                           (flown["hl"], flown["hw"], flown["rl"], flown["rw"]),
+                                           flown["d_low"], flown["d_high"])
+            put("peak_centre", j - 1, flown, c)
+            put("peak_bottom", j - 1, flown, b)
+            put("peak_top", j - 1, flown, tp)
+        if any_failed:
+            status[live["index"][failed]] = FAILED
         if j == k:
             break
-        ids, tau, along, across = ids[go], tau[go], along[go], across[go]
-        prof = tuple(p[ids] for p in profile)
+        go = ~failed & live["impacting"]
+        if not go.all():
+            where = np.flatnonzero(go)
+            live = {name: a.take(where) for name, a in live.items()}
+            tau, along, across = tau.take(where), along.take(where), across.take(where)
         # advance to the contact
-        t[ids] += tau
-        x[ids] += vx[ids] * tau
-        y[ids] += vy[ids] * tau - 0.5 * GRAVITY * tau ** 2
-        vy[ids] -= GRAVITY * tau
-        th[ids] += om[ids] * tau
+        live["t"] += tau
+        live["x"] += live["vx"] * tau
+        live["y"] += live["vy"] * tau - 0.5 * GRAVITY * tau ** 2
+        live["vy"] -= GRAVITY * tau
+        live["th"] += live["om"] * tau
         # contact offset: mean over touching corners (flat landing: the middle)
-        hl, hw, rl, rw = prof
-        theta = th[ids]
+        hl, hw, rl, rw = live["hl"], live["hw"], live["rl"], live["rw"]
+        theta = live["th"]
         # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
         # upright or flat lands exactly so
         s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
@@ -351,39 +378,42 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             e_slope = np.where(ellipse > 0, (rl ** 2 - rw ** 2) * s * cs / ellipse, 0.0)
         r_x = -(hl * cs * along - hw * s * across + e_slope)
         r_y = -(hl * s * along + hw * cs * across + ellipse)
-        m_i, in_i = mass[ids], inertia[ids]
-        v_x, v_y, w = vx[ids], vy[ids], om[ids]
+        m_i, in_i = live["mass"], live["inertia"]
+        v_x, v_y, w = live["vx"], live["vy"], live["om"]
         k_tt, k_nn, k_tn = impulse_matrix(m_i, in_i, r_x, r_y)
         u_t = v_x - w * r_y
         u_n = v_y + w * r_x
-        p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, e[ids], mu[ids], laws[ids])
+        p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live["e"], live["mu"], live["law"])
         v_x2 = v_x + p_t / m_i
         v_y2 = v_y + p_n / m_i
         w2 = w + (r_x * p_n - r_y * p_t) / in_i
         ke_before = 0.5 * m_i * (v_x ** 2 + v_y ** 2) + 0.5 * in_i * w ** 2
         ke_after = 0.5 * m_i * (v_x2 ** 2 + v_y2 ** 2) + 0.5 * in_i * w2 ** 2
-        rec = {"time": t[ids], "x": x[ids], "y": y[ids], "theta": theta,
-               "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t}
+        rec = {"time": live["t"], "x": live["x"], "y": live["y"], "theta": theta,
+               "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t,
+               "slip": slip, "energy_gain": ke_after > ke_before * (1 + 1e-12),
+               # a piece with along = +1 lies A sin(theta) BELOW the centre: it
+               # is the end at -L/2 on the axis
+               "end": np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)}
         for name, value in rec.items():
-            out[name][ids, j] = value
-        out["slip"][ids, j] = slip
-        out["energy_gain"][ids, j] = ke_after > ke_before * (1 + 1e-12)
-        # a piece with along = +1 lies A sin(theta) BELOW the centre: it is the
-        # end at -L/2 on the axis
-        out["end"][ids, j] = np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)
-        count[ids] = j + 1
-        vx[ids], vy[ids], om[ids] = v_x2, v_y2, w2
+            put(name, j, live, value)
+        count[live["index"]] = j + 1
+        live["vx"], live["vy"], live["om"] = v_x2, v_y2, w2
         # does it fly on?
         separating = v_y2 + w2 * r_x
         resting = separating <= RESTING_SPEED
-        above_rest = ke_after + m_i * GRAVITY * y[ids] - rest_energy[ids]
-        settled = ~resting & (above_rest < settle_fraction * energy0[ids])
-        status[ids[resting]] = RESTING
-        status[ids[settled]] = SETTLED
-        impacting[ids] = ~(resting | settled)
-        rest_ids = ids[resting]
-        out["flight"][rest_ids, j] = 0.0
-        out["peak_centre"][rest_ids, j] = y[rest_ids]
-        out["peak_bottom"][rest_ids, j] = 0.0
-        out["peak_top"][rest_ids, j] = y[rest_ids] + depth(th[rest_ids], *(p[rest_ids] for p in profile))
-        flying = ids[~resting]
+        above_rest = ke_after + m_i * GRAVITY * live["y"] - live["rest_energy"]
+        settled = ~resting & (above_rest < settle_fraction * live["energy0"])
+        live["impacting"] = ~(resting | settled)
+        if settled.any():
+            status[live["index"][settled]] = SETTLED
+        if resting.any():
+            still = keep(live, resting)
+            ids = still["index"]
+            status[ids] = RESTING
+            out["flight"][ids, j] = 0.0
+            out["peak_centre"][ids, j] = still["y"]
+            out["peak_bottom"][ids, j] = 0.0
+            out["peak_top"][ids, j] = still["y"] + depth(still["th"], still["hl"], still["hw"], still["rl"],
+                                                        still["rw"])
+            live = keep(live, ~resting)
