@@ -78,7 +78,12 @@ class Flight:
         d_min = {"capsule": self.radius, "sphere": self.radius,
                  "spheroid": min(self.length / 2, self.radius),
                  "cylinder": min(self.length / 2, self.radius)}[self.kind]
-        return (self.vy + np.sqrt(self.vy ** 2 + 2 * G * (self.y - d_min))) / G
+        # the root of y + vy t - G t^2 / 2 = d_min written without the
+        # cancellation of vy + sqrt(...) when falling fast from close by
+        # (that form loses ~1e-11 relative at 1e-7 m and 3 m/s)
+        drop = self.y - d_min
+        return 2 * drop / (np.sqrt(self.vy ** 2 + 2 * G * drop) - self.vy) if self.vy < 0 else \
+            (self.vy + np.sqrt(self.vy ** 2 + 2 * G * drop)) / G
 
 
 def dense_max(height, duration, samples=200_001):
