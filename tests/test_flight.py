@@ -43,6 +43,10 @@ class Flight:
         self.profile = tuple(np.atleast_1d(np.asarray(p, dtype=float)) for p in shape.profile)
         self.size = float(sum(p[0] for p in self.profile))  # A + B + a + b
 
+    def __repr__(self):
+        return (f"Flight({self.kind!r}, length={self.length!r}, radius={self.radius!r}, y={self.y!r}, "
+                f"vy={self.vy!r}, theta={self.theta!r}, omega={self.omega!r})")
+
     def arrays(self):
         state = (self.y, self.vy, self.theta, self.omega)
         return tuple(np.atleast_1d(np.asarray(v, dtype=float)) for v in state)
@@ -147,7 +151,11 @@ def test_next_contact_is_the_first_root(body):
     negative = np.flatnonzero(body.gap(t) < -1e-13)
     if negative.size:
         assert t_contact <= t[negative[0]]
-    assert t_contact <= end * (1 + 1e-12)
+    # up to the rounding of the heights (1e-13 m, as below) at the speed the
+    # body then falls: a relative margin alone is too tight for contacts a
+    # microsecond away (a flat spheroid 1 um up: 1e-18 m of rounding)
+    fall_speed = max(abs(body.vy - G * end), 1e-3)
+    assert t_contact <= end * (1 + 1e-12) + 1e-13 / fall_speed
     assert -1e-13 <= body.gap(t_contact) <= flight.CONTACT_GAP + 1e-13
 
 
