@@ -113,25 +113,36 @@ def routh_impact(tangential_velocity, normal_velocity, k_tt, k_nn, k_tn,
 
         # Poisson: p_f = (1 + e) p_c
         p_poisson = (1 + e) * p_c
+        # only the laws that occur are worked out (one, in most calls)
+        law = np.asarray(law)
+        present = [bool(np.any(law == LAW_CODE[name])) for name in LAWS]
+        finals = {}
 
-        # Newton: u_n(p_f) = -e u_n0
-        u_target = -e * u_n0
-        p_newton1 = (u_target - u_n0) / b1
-        p_newton = np.where((b1 > 0) & (p_newton1 <= p_s), p_newton1, p_s + (u_target - u_s) / b2)
+        if present[LAW_CODE["newton"]]:
+            # Newton: u_n(p_f) = -e u_n0
+            u_target = -e * u_n0
+            p_newton1 = (u_target - u_n0) / b1
+            finals["newton"] = np.where((b1 > 0) & (p_newton1 <= p_s), p_newton1, p_s + (u_target - u_s) / b2)
 
-        # Energetic: W(p_f) = (1 - e^2) W(p_c). With compression ending in
-        # phase 1 and restitution too, that is (1 + e) p_c; with compression
-        # ending in phase 2, W = W_c + b2 (p - p_c)^2 / 2 there, so
-        # p_f = p_c + e sqrt(-2 W_c / b2); otherwise restitution starts in
-        # phase 1 and ends in phase 2 (written without cancellation).
-        w_target = (1 - e ** 2) * w_c
-        p_phase2 = p_c2 + e * np.sqrt(np.maximum(-2 * w_c / b2, 0.0))
-        excess = np.maximum(w_target - w_s, 0.0)
-        q = 2 * excess / (u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * excess, 0.0)))
-        p_energy = np.where(in_phase1, np.where(p_poisson <= p_s, p_poisson, p_s + q), p_phase2)
+        if present[LAW_CODE["energetic"]]:
+            # Energetic: W(p_f) = (1 - e^2) W(p_c). With compression ending
+            # in phase 1 and restitution too, that is (1 + e) p_c; with
+            # compression ending in phase 2, W = W_c + b2 (p - p_c)^2 / 2
+            # there, so p_f = p_c + e sqrt(-2 W_c / b2); otherwise
+            # restitution starts in phase 1 and ends in phase 2 (written
+            # without cancellation).
+            w_target = (1 - e ** 2) * w_c
+            p_phase2 = p_c2 + e * np.sqrt(np.maximum(-2 * w_c / b2, 0.0))
+            excess = np.maximum(w_target - w_s, 0.0)
+            q = 2 * excess / (u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * excess, 0.0)))
+            finals["energetic"] = np.where(in_phase1, np.where(p_poisson <= p_s, p_poisson, p_s + q), p_phase2)
+        finals["poisson"] = p_poisson
 
-        p_f = np.select([law == LAW_CODE["energetic"], law == LAW_CODE["poisson"]],
-                        [p_energy, p_poisson], p_newton)
+        if sum(present) == 1:
+            p_f = finals[LAWS[present.index(True)]]
+        else:
+            p_f = np.select([law == LAW_CODE["energetic"], law == LAW_CODE["poisson"]],
+                            [finals.get("energetic", p_poisson), p_poisson], finals.get("newton", p_poisson))
         p_t = -s * mu * np.minimum(p_f, p_s) + np.where(p_f > p_s, dpt2 * (p_f - p_s), 0.0)
 
     reached_phase2 = (p_f > p_s) & (mu > 0)
