@@ -432,3 +432,14 @@ def test_history_matches_the_impact_table(benchmark_drops):
             assert np.ptp(state["total"]) <= 1e-12 * state["total"].max()
         assert sim.history(result, drop, [0.0])["total"][0] == pytest.approx(
             result.release_energy[drop], rel=1e-13)
+
+
+def test_freed_memory_is_kept_on_glibc():
+    # sim._memory raises glibc's mmap and trim thresholds (a third of the
+    # kernel's time went to page faults without it); mallopt returns 1 on
+    # success. Elsewhere than glibc it must change nothing and say so.
+    import platform
+
+    from sim import _memory
+    expected = platform.libc_ver()[0] == "glibc"
+    assert _memory.keep_freed_memory() is expected

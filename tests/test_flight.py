@@ -284,6 +284,27 @@ def test_near_miss_is_not_a_contact(kind, length, radius, omega, duration):
 # flight peaks
 # --------------------------------------------------------------------------
 
+def test_contact_beside_a_receding_deeper_corner():
+    # A nearly flat cylinder just after an impact: the corner that struck is
+    # 1e-13 m inside the floor (rounding) and rising, the other bottom corner
+    # 1.6e-11 m above it and coming down. The contact is that other corner,
+    # now, and its offset must be a corner's, not NaN: the receding corner
+    # strikes nothing. By hand (sim.flight module notes): corner k has depth
+    # A s_k sin(theta) + B c_k cos(theta) and gap rate -omega A s_k cos(theta)
+    # with vy = 0, so at theta < 0 and omega > 0 the s_k = -1 corner is the
+    # deeper one and rises, the s_k = +1 corner is higher and comes down.
+    shape = sim.Cylinder(length=0.02, radius=0.005, density=1000.0)
+    profile = tuple(np.atleast_1d(np.asarray(p, dtype=float)) for p in shape.profile)
+    theta, omega = -8e-10, 50.0
+    depth = float(sim.shapes.depth(theta, *shape.profile))
+    state = [np.array([v]) for v in (depth - 1e-13, 0.0, theta, omega)]
+    d2 = flight.curvature_bound(*profile)
+    _, d_high = flight.depth_range(*profile)
+    t, along, across = flight.next_contact(*state, profile, d2, d_high)
+    assert t[0] == 0.0
+    assert along[0] == 1.0 and across[0] == 1.0
+
+
 def test_sincos_matches_numpy():
     # The tangent half-angle sin/cos against NumPy's own (libm) sin and cos,
     # over the angles a flight reaches (|theta| up to 1e3 rad) and the
