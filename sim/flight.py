@@ -87,7 +87,12 @@ def sincos(angle):
     overflows: no double is closer to a pole of ``tan`` than about 1e-16,
     so ``|q| < 1e17`` and ``q^2 < 1e34``.
     """
-    q = np.tan(0.5 * angle)
+    return sincos_of_tan_half(np.tan(0.5 * angle))
+
+
+def sincos_of_tan_half(q):
+    """``sin`` and ``cos`` of an angle from ``q = tan(angle / 2)``
+    (:func:`sincos`)."""
     q2 = q * q
     inv = 1.0 / (1.0 + q2)
     return (q + q) * inv, (1.0 - q2) * inv
@@ -155,7 +160,9 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     curv = GRAVITY + omega * omega * d2
     # every per-body number in one array, so that dropping the bodies that
     # have found their contact is one gather
-    rows = np.stack([y, vy, theta, omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
+    # theta / 2 and omega / 2 for the tangent half-angle (exact halvings,
+    # so the angle is bit for bit (theta + omega t) / 2)
+    rows = np.stack([y, vy, 0.5 * theta, 0.5 * omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
                      hl, omega * hl, hw, omega * hw, rl, rw, (rl != rw).astype(float),
                      np.arange(n, dtype=float), t0])
     T = 16  # the row holding the time
@@ -168,15 +175,15 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     for _ in range(max_iterations):
         if rows.shape[1] == finished:
             break
-        yy, vv, th, om, dh, curv2, inv_curv, spread, hl, om_hl, hw, om_hw, rl, rw, rounded, idx, t = rows
-        s, c = sincos(th + om * t)
+        yy, vv, half_th, half_om, dh, curv2, inv_curv, spread, hl, om_hl, hw, om_hw, rl, rw, rounded, idx, t = rows
+        s, c = sincos_of_tan_half(np.tan(half_th + half_om * t))
         gt = GRAVITY * t
         vt = vv - gt
         yt = yy + t * (vv - 0.5 * gt)
         if rounded_any:
             ellipse, ellipse_slope = _ellipse(s, c, rl, rw, rounded > 0)
             base_gap = yt - ellipse
-            base_slope = vt - om * ellipse_slope
+            base_slope = vt - (half_om + half_om) * ellipse_slope
         else:
             base_gap, base_slope = yt - rl, vt
         a_gap, a_slope = hl * s, om_hl * c
