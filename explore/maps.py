@@ -93,8 +93,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     column = "event_probability" if show_probability else "mean_value"
     xs, ys, z = _grid(cells, x, y, column)
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    cmap = plt.get_cmap("cividis" if show_probability else "viridis").copy()
-    cmap.set_bad("0.85")
+    cmap = plt.get_cmap("cividis" if show_probability else "viridis").with_extremes(bad="0.85")
     mesh = ax.pcolormesh(xs, ys, np.ma.masked_invalid(z), shading="nearest", cmap=cmap,
                          vmin=0 if show_probability else None, vmax=1 if show_probability else None)
     bar = fig.colorbar(mesh, ax=ax)
@@ -192,8 +191,7 @@ def robustness(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, x, y, fol
     fig, ax = plt.subplots(figsize=(8, 6) if y else (8, 4.8), constrained_layout=True)
     if y is not None:
         xs, ys, z = _grid(cells, x, y, "mean_change")
-        cmap = plt.get_cmap("magma").copy()
-        cmap.set_bad("0.85")
+        cmap = plt.get_cmap("magma").with_extremes(bad="0.85")
         mesh = ax.pcolormesh(xs, ys, np.ma.masked_invalid(z), shading="nearest", cmap=cmap)
         fig.colorbar(mesh, ax=ax).set_label("mean change of the metric caused by release errors [-]", fontsize=9)
         _, _, p = _grid(cells, x, y, "event_probability")
