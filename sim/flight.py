@@ -595,8 +595,10 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_
     the whole bump: a body stops as soon as that is within
     :data:`PEAK_SLACK` of its best height (converged, or beaten by another
     candidate), so its result is within :data:`PEAK_SLACK` of the true peak
-    whatever the batch. ``best`` holds the exact candidates (window ends,
-    breakpoints inside the window) on entry.
+    whatever the batch. ``best`` holds the window ends' heights on entry (a
+    bump whose maximum is at a window end is left to them; breakpoints are
+    not needed: the kinks point down and a bump's middle is below the
+    bump's maximum).
     """
     wa = omega * half_long
     fast = np.abs(wa)
