@@ -264,11 +264,12 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     return out_t, out_along, out_across
 
 
-def _depth_terms(angle, profile, rounded, rounded_any, four, derivatives=True):
+def _depth_terms(angle, profile, rounded, rounded_any, four, derivatives=True, sin_cos=None):
     """Depth ``d`` of the lowest point and, with ``derivatives``, ``d'`` and
-    ``d''`` (one-sided mean at the corners) at ``angle``. [m]"""
+    ``d''`` (one-sided mean at the corners) at ``angle``, or at the angle
+    whose :func:`sincos` is ``sin_cos``. [m]"""
     half_long, half_wide, round_long, round_wide = profile
-    s, c = sincos(angle)
+    s, c = sincos(angle) if sin_cos is None else sin_cos
     sa = np.abs(s)
     if rounded_any:
         ellipse, e1 = _ellipse(s, c, round_long, round_wide, rounded)
@@ -398,6 +399,14 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     steps), or mid-piece (an ellipse's depth is not concave: ``h`` may have
     two local maxima on a piece). ``polish_steps`` is
     ``((circle, ellipse) for the bottom, (circle, ellipse) for the top)``.
+
+    Capsules and spheres (decided per body: ``half_wide`` 0 and a circular
+    round part) take their top point from :func:`_capsule_tops` instead: on
+    each half turn the top point is concave, bounded by a parabola, and
+    Newton stops as soon as the concavity bound ``h(t) + h'(t)^2 / (2 g)``
+    is within :data:`PEAK_SLACK` of the best height, rather than after a
+    fixed count of steps.
+
     Checked against dense sampling in ``tests/test_flight.py`` (worst seen
     4e-13 m over 6000 random flights).
 
@@ -428,7 +437,8 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     spinning = np.abs(omega) > 1e-9
     inv_omega = spinning / (omega + ~spinning)
     # the half turn holding the apex, and one on either side
-    first = (np.floor((theta + omega * t_apex) * (1.0 / np.pi)) - 1.0) * np.pi
+    apex_turn = np.floor((theta + omega * t_apex) * (1.0 / np.pi))
+    first = (apex_turn - 1.0) * np.pi
     times, marks = [], []
     for turn in range(3):
         for offset, depth in zip(offsets, depths):
@@ -436,10 +446,13 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
             marks.append(depth)
     times.append((first + 3 * np.pi - theta) * inv_omega)
     marks.append(depths[0])
+    # a body that does not spin has no breakpoints and no pieces: a window
+    # starting at infinity leaves its marks outside and its pieces empty
+    t_from = np.where(spinning, t_lo, np.inf)
     pieces = []  # (lo, hi, t_a, t_b, d_a, d_b, kind) per piece, clipped to the window
     for i in range(3 * kinds):
         t_a, t_b = times[i], times[i + 1]
-        lo = np.maximum(np.minimum(t_a, t_b), t_lo)
+        lo = np.maximum(np.minimum(t_a, t_b), t_from)
         hi = np.minimum(np.maximum(t_a, t_b), t_hi)
         pieces.append((lo, hi, t_a, t_b, marks[i], marks[i + 1], i % kinds))
     # a circle as the round part: the depth is concave on each piece, so it
@@ -452,29 +465,58 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     his = np.stack([p[1] for p in pieces])
 
     ends = (t_lo, t_apex, t_hi)
-    d_ends = [depth_at(theta + omega * t, profile) for t in ends]
-    y_ends = [centre_at(t) for t in ends]
+    sc_ends = [sincos(theta + omega * t) for t in ends]
+    d_ends = [_depth_terms(None, profile, rounded, rounded_any, four, False, sc) for sc in sc_ends]
+    y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
     # breakpoints inside the window are exact candidates, free of trigonometry
-    inside = [spinning & (t >= t_lo) & (t <= t_hi) for t in times]
-    y_marks = [centre_at(t) * m + NO_PIECE * ~m for t, m in zip(times, inside)]
+    # (adding NO_PIECE absorbs any height; adding -0.0 changes none)
+    y_marks = [centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi)) for t in times]
     # adding this sends a piece that does not exist to NO_PIECE (and adds -0.0
     # to one that does)
-    missing = [NO_PIECE * ~(spinning & (hi > lo)) for lo, hi, *_ in pieces]
+    missing = [NO_PIECE * (hi <= lo) for lo, hi, *_ in pieces]
+    # capsules and spheres (per body): the top point has its own fast path
+    capsule = (hw == 0) & ~rounded
+    capsule_all = bool(capsule.all())
+    capsule_any = capsule_all or bool(capsule.any())
+    if capsule_any:
+        # sign of sin(theta + omega t) on the half turn before the apex's
+        sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
     peaks = []
     for sign in (-1.0, 1.0):
         best = np.maximum.reduce([yc + sign * d for yc, d in zip(y_ends, d_ends)])
+        if sign > 0 and capsule_any:
+            # (the capsule top path needs no breakpoint: between its bumps
+            # the top point has kinks down, and a bump's middle lies below
+            # the bump's maximum, which that path finds)
+            sel = slice(None) if capsule_all else np.flatnonzero(capsule)
+            # quarter-turn times, as the pieces' times of a batch without
+            # flat faces (the same bits)
+            quarters = [t[sel] for t in times[:7]] if kinds == 2 else [
+                (first[sel] + ((k // 2) * np.pi + (k % 2) * (0.5 * np.pi)) - theta[sel]) * inv_omega[sel]
+                for k in range(7)]
+            capsule_tops = _capsule_tops(y[sel], vy[sel], theta[sel], omega[sel], hl[sel], rl[sel],
+                                         sign0[sel], quarters, t_lo[sel], t_hi[sel],
+                                         sc_ends[0][1][sel], sc_ends[2][1][sel], best[sel])
+            if capsule_all:
+                peaks.append(capsule_tops)
+                break
+            # the general pieces below leave these bodies alone
+            missing = [m + NO_PIECE * capsule for m in missing]
         for yc, d in zip(y_marks, marks):
             best = np.maximum(best, yc + sign * d)
         bounds = np.empty((len(pieces), n))
         starts = np.empty((len(pieces), n))
+        chords = {}
         for i, (lo, hi, t_a, t_b, d_a, d_b, kind) in enumerate(pieces):
             if concave and sign < 0:
                 # below the chord: y - d <= y - (d_a + k (t - t_a))
-                slope_a, slope_b, span = slopes[kind]
-                # (a piece narrower than 1e-12 rad changes the depth by
-                # under 1e-12 of the body size: its slope may be understated)
-                chord = omega * ((d_b - d_a) / np.maximum(span, 1e-12))
-                bound, start = _best_on(lo, hi, y, vy, -chord, t_a, -d_a)
+                if kind not in chords:
+                    slope_a, slope_b, span = slopes[kind]
+                    # (a piece narrower than 1e-12 rad changes the depth by
+                    # under 1e-12 of the body size: its slope may be
+                    # understated); the same for every half turn
+                    chords[kind] = -omega * ((d_b - d_a) / np.maximum(span, 1e-12))
+                bound, start = _best_on(lo, hi, y, vy, chords[kind], t_a, -d_a)
             if sign > 0:
                 slope_a, slope_b, span = slopes[kind]
                 # start where the slope h' interpolated between the piece's
@@ -516,6 +558,8 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
                             polish_steps[sign > 0])
             best[sel] = np.maximum(best[sel], found)
             candidates, stack, floor = sel, bounds[:, sel], best[sel]
+        if sign > 0 and capsule_any:
+            best[np.flatnonzero(capsule)] = capsule_tops
         peaks.append(best)
     return centre, peaks[0], peaks[1]
 
@@ -561,3 +605,135 @@ def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, st
             t = t_next
     d = _depth_terms(theta + omega * t, profile, rounded, rounded_any, four, False)
     return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)
+
+
+#: Newton on the capsule top stops once the tangent-parabola bound puts the
+#: flight's top peak within this of the best height reached. [m]
+PEAK_SLACK = 1e-13
+
+
+def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_hi, cos_lo, cos_hi, best,
+                  max_steps=12):
+    """Top-point peaks of capsules and spheres (``half_wide`` 0, circular
+    round part): :func:`flight_peaks`' fast path.
+
+    The top point ``h = y + A |sin(phi)| + r`` is concave on each half turn
+    ``[k pi, (k + 1) pi]`` of ``phi = theta + omega t`` (a "bump"), with
+    ``h'' = -g - omega^2 A |sin(phi)| <= -g``; between bumps it has convex
+    kinks. So each bump clipped to the window has one maximum: at a window
+    end if ``h`` already falls (rises) there, inward, and otherwise at the
+    single root of ``h'`` inside. The three bumps of the half turn before,
+    holding and after the apex hold every candidate (see
+    :func:`flight_peaks`); ``times`` are the seven quarter-turn times
+    ``phi = (turn - 1) pi + k pi / 2`` that bound them and mark their
+    middles ``t_m``.
+
+    Bound of a bump: ``cos(x) <= 1 - 4 x^2 / pi^2`` on ``|x| <= pi / 2``
+    (equality at 0 and +-pi/2), with ``x = omega (t - t_m)``, so
+    ``h <= y + A + r - (4 A omega^2 / pi^2) (t - t_m)^2``: a parabola whose
+    maximum on the clipped bump is closed form. Bumps are polished in the
+    order of their bounds, while a bound beats the best height by more than
+    :data:`PEAK_SLACK`. Newton on ``h' = 0`` (from the trig-free Newton step
+    off the bump's middle, where ``d = A + r`` and ``d' = 0``) is safeguarded
+    by bisection in a bracket where ``h'`` changes sign. After each
+    evaluation at ``t`` concavity gives ``h <= h(t) + h'(t)^2 / (2 g)`` on
+    the whole bump: a body stops as soon as that is within
+    :data:`PEAK_SLACK` of its best height (converged, or beaten by another
+    candidate), so its result is within :data:`PEAK_SLACK` of the true peak
+    whatever the batch. ``best`` holds the window ends' heights on entry (a
+    bump whose maximum is at a window end is left to them; breakpoints are
+    not needed: the kinks point down and a bump's middle is below the
+    bump's maximum).
+    """
+    wa = omega * half_long
+    fast = np.abs(wa)
+    w2a = omega * wa
+    kappa = (4.0 / np.pi ** 2) * w2a
+    # the bound's vertex is at vertex_0 + vertex_1 t_m, the trig-free Newton
+    # start at start_0 + start_1 t_m
+    inv_vertex = 1.0 / (GRAVITY + 2.0 * kappa)
+    vertex_0, vertex_1 = vy * inv_vertex, (2.0 * inv_vertex) * kappa
+    inv_middle = 1.0 / (GRAVITY + w2a)
+    start_0, start_1 = vy * inv_middle, w2a * inv_middle
+    y_top = y + (half_long + radius)
+    # a body that does not spin has no bumps: its window starts at infinity
+    t_from = np.where(np.abs(omega) > 1e-9, t_lo, np.inf)
+    # d' = sigma A cos(phi) at the window's ends (sigma of the first bump)
+    turn_lo = (sign0 * wa) * cos_lo
+    turn_hi = (sign0 * wa) * cos_hi
+    # what to add to |omega| A for the inward slope inside a bump, per sigma
+    inner_lo = (turn_lo - fast, -turn_lo - fast)
+    inner_hi = (turn_hi + fast, -turn_hi + fast)
+    # per bump: bound, then lo, hi and start of the polish (one array, so
+    # that picking each body's bump is one gather)
+    table = np.empty((4, 3, y.size))
+    bounds = table[0]
+    for j in range(3):
+        lo, hi, start = table[1:, j]
+        t_a, t_m, t_b = times[2 * j], times[2 * j + 1], times[2 * j + 2]
+        first, last = np.minimum(t_a, t_b), np.maximum(t_a, t_b)
+        np.maximum(first, t_from, out=lo)
+        np.minimum(last, t_hi, out=hi)
+        # inward slopes of h at the ends of the clipped bump: at a bump's
+        # end d rises inward at |omega| A; inside it d' = sigma A cos(phi)
+        # (sigma alternates from bump to bump)
+        rise = ((vy - GRAVITY * lo) + fast) + inner_lo[j == 1] * (first < t_from)
+        fall = ((vy - GRAVITY * hi) - fast) + inner_hi[j == 1] * (last > t_hi)
+        inner = (hi > lo) & (rise > 0) & (fall < 0)
+        vertex = np.clip(vertex_0 + vertex_1 * t_m, lo, hi)
+        off = vertex - t_m
+        bound = y_top + vertex * (vy - 0.5 * GRAVITY * vertex) - kappa * off * off
+        np.add(bound, NO_PIECE * ~inner, out=bounds[j])
+        np.clip(start_0 + start_1 * t_m, lo, hi, out=start)
+    candidates, stack, floor = None, bounds, best
+    y_r = y + radius
+    for _ in range(3):
+        pick, top = _largest(stack)
+        open_ = np.flatnonzero(top > floor + PEAK_SLACK)
+        if open_.size == 0:
+            break
+        sel = open_ if candidates is None else candidates[open_]
+        p_sel = pick[open_]
+        bounds[p_sel, sel] = NO_PIECE
+        lo, hi, start = table[1:, p_sel, sel]
+        # A signed as sin(phi) on the bump
+        amp = half_long[sel] * (sign0[sel] * (1.0 - 2.0 * (p_sel == 1)))
+        best[sel] = _polish_capsule_top(y_r[sel], vy[sel], theta[sel], omega[sel], amp,
+                                        lo, hi, start, best[sel], max_steps)
+        candidates, stack, floor = sel, bounds[:, sel], best[sel]
+    return best
+
+
+def _polish_capsule_top(y_r, vy, theta, omega, amp, lo, hi, t, best, max_steps):
+    """Highest of ``best`` and the top point ``y_r + vy t - g t^2 / 2 +
+    amp sin(theta + omega t)`` on a bump ``[lo, hi]`` where its slope falls
+    from positive to negative (see :func:`_capsule_tops`); ``amp`` is
+    ``A`` signed as ``sin`` on the bump."""
+    out = best
+    live = np.arange(y_r.size)
+    spin_amp = omega * amp
+    spin2_amp = omega * spin_amp
+    for _ in range(max_steps):
+        s, c = sincos(theta + omega * t)
+        gt = GRAVITY * t
+        height = y_r + t * (vy - 0.5 * gt) + amp * s
+        slope = (vy - gt) + spin_amp * c
+        np.maximum(best, height, out=best)
+        # h <= h(t) + h'(t)^2 / (2 g) on the whole bump (h'' <= -g there)
+        done = height + slope * slope * (0.5 / GRAVITY) <= best + PEAK_SLACK
+        up = slope > 0
+        lo = _pick(up, t, lo)
+        hi = _pick(up, hi, t)
+        newton = t + slope / (GRAVITY + spin2_amp * s)
+        ok = (newton > lo) & (newton < hi)
+        t = _pick(ok, newton, 0.5 * (lo + hi))
+        if done.any():
+            out[live] = best
+            keep = np.flatnonzero(~done)
+            if keep.size == 0:
+                return out
+            live = live[keep]
+            y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best = (
+                a[keep] for a in (y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best))
+    out[live] = best
+    return out

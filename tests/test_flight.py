@@ -395,3 +395,49 @@ def test_flight_peaks_reach_the_true_peak():
         for reported, height in ((bottom, body.bottom), (top, body.top)):
             worst = max(worst, abs(reported - dense_max(height, duration, samples=50_001)))
     assert worst <= PEAK_TOLERANCE
+
+
+def test_capsule_top_fast_path_reaches_the_true_peak():
+    # Capsules and spheres take their own top-point path (bump bounds and
+    # Newton stopped by the concavity bound, sim.flight._capsule_tops). The
+    # reference is brute force: dense sampling of the notes' depth formula
+    # (dense_max above). Benchmark-like capsules plus fast spins, slow
+    # spins and release heights near and far from the floor.
+    rng = np.random.default_rng(77)
+    worst = 0.0
+    for i in range(300):
+        kind = "sphere" if i % 10 == 9 else "capsule"
+        radius = 10 ** rng.uniform(-3, -2)
+        length = radius * rng.uniform(0.2, 6.0)
+        theta = rng.uniform(-np.pi, np.pi)
+        omega = rng.choice([-1.0, 1.0]) * 10 ** rng.uniform(-1, 2.5)
+        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.5)
+        body = Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, omega)
+        duration = body.next_contact() * rng.choice([1.0, rng.uniform(0.05, 1.0)])
+        top = body.peaks(duration)[2]
+        reference = dense_max(body.top, duration, samples=50_001)
+        assert top <= reference + rounding_allowance(body)
+        worst = max(worst, abs(top - reference))
+    assert worst <= PEAK_TOLERANCE
+
+
+def test_flight_peaks_do_not_depend_on_the_batch():
+    # Each body's peaks are per-body decisions (capsules and spheres take the
+    # fast top path, the others the general pieces): the same bits alone as
+    # in a mixed batch.
+    rng = np.random.default_rng(5)
+    bodies = []
+    for i in range(40):
+        kind = ["capsule", "cylinder", "spheroid", "sphere"][i % 4]
+        radius = 10 ** rng.uniform(-3, -2)
+        length = radius * rng.uniform(0.2, 6.0)
+        theta = rng.uniform(-np.pi, np.pi)
+        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-4, -0.7)
+        bodies.append(Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, rng.uniform(-300, 300)))
+    durations = np.array([b.next_contact() for b in bodies])
+    alone = np.array([b.peaks(d) for b, d in zip(bodies, durations)])
+    state = [np.concatenate([b.arrays()[k] for b in bodies]) for k in range(4)]
+    profile = tuple(np.concatenate([b.profile[k] for b in bodies]) for k in range(4))
+    d_low, d_high = flight.depth_range(*profile)
+    batch = np.array(flight.flight_peaks(*state, durations, profile, d_low, d_high)).T
+    np.testing.assert_array_equal(batch, alone)
