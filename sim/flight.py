@@ -201,17 +201,21 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
         for tk in touching[1:]:
             hit = hit | tk
         # first root of g + v tau - curv tau^2 / 2: no piece can touch sooner
-        steps = [(v + np.sqrt(v * v + curv2 * np.maximum(g, 0.0))) * inv_curv for g, v in zip(gaps, slopes)]
-        step, slope_min = steps[0], slopes[0]
-        for tau, v in zip(steps[1:], slopes[1:]):
+        # (times curv: the common factor 1 / curv is applied once, to the
+        # shortest; scaling by a positive number keeps the order)
+        reach = [v + np.sqrt(v * v + curv2 * np.maximum(g, 0.0)) for g, v in zip(gaps, slopes)]
+        step, slope_min = reach[0], slopes[0]
+        for tau, v in zip(reach[1:], slopes[1:]):
             shorter = tau < step
             step, slope_min = np.minimum(tau, step), _pick(shorter, v, slope_min)
+        step = step * inv_curv
         # The piece that sets the step is, at t + step, between 0 and
         # (curv - g) step^2 above the floor (its gap'' lies within
         # -curv .. curv - 2g): when that is below the contact gap and the
         # piece still approaches, the contact is at t + step without
         # another evaluation.
-        sure = (spread * step * step < CONTACT_GAP) & (slope_min + spread * step < 0) & ~hit
+        spread_step = spread * step
+        sure = (spread_step * step < CONTACT_GAP) & (slope_min + spread_step < 0) & ~hit
         # exact far-field step: a centre above d_high cannot touch before it
         # falls back to d_high
         above = yt > dh
@@ -237,11 +241,12 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
             count = np.zeros(done.size)
             sum_along = np.zeros(done.size)
             sum_across = np.zeros(done.size)
-            for (along, across), g, tk, v, tau in zip(corners, gaps_d, touch_d, slopes, steps):
+            inv_curv_d = inv_curv[done]
+            for (along, across), g, tk, v, tau in zip(corners, gaps_d, touch_d, slopes, reach):
                 # touching now within TIE_GAP of the lowest, or reaching the
                 # floor within TIE_GAP of the first piece's arrival
                 tied = np.where(hit_d, tk & (g <= lowest + TIE_GAP),
-                                (tau[done] - step_d) * np.abs(v[done]) <= TIE_GAP)
+                                (tau[done] * inv_curv_d - step_d) * np.abs(v[done]) <= TIE_GAP)
                 count += tied
                 sum_along += along * tied
                 sum_across += across * tied
