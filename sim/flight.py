@@ -216,16 +216,20 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
         # another evaluation.
         spread_step = spread * step
         sure = (spread_step * step < CONTACT_GAP) & (slope_min + spread_step < 0) & ~hit
-        # exact far-field step: a centre above d_high cannot touch before it
-        # falls back to d_high
-        above = yt > dh
+        # exact far-field extension: where the centre is above d_high at the
+        # end of the step, no part of the body can touch before the centre
+        # falls back to d_high, so the step goes on to then (one evaluation
+        # fewer for a fifth of the steps in the benchmark population)
+        t_end = t + step
+        y_end = yy + t_end * (vv - 0.5 * GRAVITY * t_end)
+        above = y_end > dh
         high = np.flatnonzero(above)
         if 4 * high.size > above.size:
-            step = np.maximum(step, fall_time(vt, yt - dh) * above)
+            step = step + fall_time(vv - GRAVITY * t_end, y_end - dh) * above
             sure &= ~above
         elif high.size:
-            # few bodies up there (the usual case): work on them alone
-            step[high] = np.maximum(step[high], fall_time(vt[high], yt[high] - dh[high]))
+            # few bodies up there: work on them alone
+            step[high] += fall_time(vv[high] - GRAVITY * t_end[high], y_end[high] - dh[high])
             sure[high] = False
         ended = hit | sure
         if finished:
