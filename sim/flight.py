@@ -159,13 +159,18 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     t0 = fall_time(vy, y - d_high) * (y > d_high)
     curv = GRAVITY + omega * omega * d2
     # every per-body number in one array, so that dropping the bodies that
-    # have found their contact is one gather
-    # theta / 2 and omega / 2 for the tangent half-angle (exact halvings,
-    # so the angle is bit for bit (theta + omega t) / 2)
-    rows = np.stack([y, vy, 0.5 * theta, 0.5 * omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
-                     hl, omega * hl, hw, omega * hw, rl, rw, (rl != rw).astype(float),
-                     np.arange(n, dtype=float), t0])
-    T = 16  # the row holding the time
+    # have found their contact is one gather; theta / 2 and omega / 2 for
+    # the tangent half-angle (exact halvings, so the angle is bit for bit
+    # (theta + omega t) / 2); the flat-face and ellipse rows only where
+    # the batch has such bodies
+    rows = [y, vy, 0.5 * theta, 0.5 * omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
+            hl, omega * hl, rl, np.arange(n, dtype=float), t0]
+    if four:
+        rows += [hw, omega * hw]
+    if rounded_any:
+        rows += [rw, (rl != rw).astype(float)]
+    rows = np.stack(rows)
+    T = 12  # the row holding the time
     # Bodies that have found their contact stay in ``rows`` (frozen: their
     # step is zeroed) until they are an eighth of it: a gather of all rows
     # costs as much as some thirty array operations, and most steps end
@@ -175,7 +180,11 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     for _ in range(max_iterations):
         if rows.shape[1] == finished:
             break
-        yy, vv, half_th, half_om, dh, curv2, inv_curv, spread, hl, om_hl, hw, om_hw, rl, rw, rounded, idx, t = rows
+        yy, vv, half_th, half_om, dh, curv2, inv_curv, spread, hl, om_hl, rl, idx, t = rows[:13]
+        if four:
+            hw, om_hw = rows[13:15]
+        if rounded_any:
+            rw, rounded = rows[-2:]
         s, c = sincos_of_tan_half(np.tan(half_th + half_om * t))
         gt = GRAVITY * t
         vt = vv - gt
