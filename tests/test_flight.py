@@ -377,6 +377,17 @@ def test_flight_peaks_regression_cases(kind, length, radius, y, vy, theta, omega
     assert reported == pytest.approx(dense_max(getattr(body, which), duration), abs=PEAK_TOLERANCE)
 
 
+def random_flight(rng, kind, clearance=(-6, -0.7), omega=None):
+    """A body of ``kind`` in flight, sizes 1-10 mm, 10**clearance m above
+    the floor, vy in -1..3 m/s and (unless given) spin in -300..300 rad/s."""
+    radius = 10 ** rng.uniform(-3, -2)
+    length = radius * rng.uniform(0.2, 6.0)
+    theta = rng.uniform(-np.pi, np.pi)
+    y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(*clearance)
+    vy = rng.uniform(-1, 3)
+    return Flight(kind, length, radius, y, vy, theta, rng.uniform(-300, 300) if omega is None else omega)
+
+
 def test_flight_peaks_reach_the_true_peak():
     # A fixed random population of flights (numpy seed, so the outcome is
     # reproducible) up to their next contact: every reported lowest- and
@@ -384,12 +395,7 @@ def test_flight_peaks_reach_the_true_peak():
     rng = np.random.default_rng(2024)
     worst = 0.0
     for i in range(400):
-        kind = ["capsule", "cylinder", "spheroid", "sphere"][i % 4]
-        radius = 10 ** rng.uniform(-3, -2)
-        length = radius * rng.uniform(0.2, 6.0)
-        theta = rng.uniform(-np.pi, np.pi)
-        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.7)
-        body = Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, rng.uniform(-300, 300))
+        body = random_flight(rng, ["capsule", "cylinder", "spheroid", "sphere"][i % 4])
         duration = body.next_contact()
         _, bottom, top = body.peaks(duration)
         for reported, height in ((bottom, body.bottom), (top, body.top)):
@@ -406,13 +412,8 @@ def test_capsule_top_fast_path_reaches_the_true_peak():
     rng = np.random.default_rng(77)
     worst = 0.0
     for i in range(300):
-        kind = "sphere" if i % 10 == 9 else "capsule"
-        radius = 10 ** rng.uniform(-3, -2)
-        length = radius * rng.uniform(0.2, 6.0)
-        theta = rng.uniform(-np.pi, np.pi)
         omega = rng.choice([-1.0, 1.0]) * 10 ** rng.uniform(-1, 2.5)
-        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.5)
-        body = Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, omega)
+        body = random_flight(rng, "sphere" if i % 10 == 9 else "capsule", (-6, -0.5), omega)
         duration = body.next_contact() * rng.choice([1.0, rng.uniform(0.05, 1.0)])
         top = body.peaks(duration)[2]
         reference = dense_max(body.top, duration, samples=50_001)
@@ -428,12 +429,7 @@ def test_flight_peaks_do_not_depend_on_the_batch():
     rng = np.random.default_rng(5)
     bodies = []
     for i in range(40):
-        kind = ["capsule", "cylinder", "spheroid", "sphere"][i % 4]
-        radius = 10 ** rng.uniform(-3, -2)
-        length = radius * rng.uniform(0.2, 6.0)
-        theta = rng.uniform(-np.pi, np.pi)
-        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-4, -0.7)
-        bodies.append(Flight(kind, length, radius, y, rng.uniform(-1, 3), theta, rng.uniform(-300, 300)))
+        bodies.append(random_flight(rng, ["capsule", "cylinder", "spheroid", "sphere"][i % 4], (-4, -0.7)))
     durations = np.array([b.next_contact() for b in bodies])
     alone = np.array([b.peaks(d) for b, d in zip(bodies, durations)])
     state = [np.concatenate([b.arrays()[k] for b in bodies]) for k in range(4)]
