@@ -467,3 +467,18 @@ def test_newton_slip_reversal_drop_flags_energy_gain(law, gains):
     assert after / before == pytest.approx(expected, abs=1e-4)
     assert result.slip[0, 0] == REVERSED
     assert bool(result.energy_gain[0, 0]) is gains
+
+
+def test_law_codes_by_name_and_per_drop():
+    # The three names of the restitution laws map to LAW_CODE for one law
+    # for all drops and for a name per drop; anything else is refused with
+    # the allowed names and what was given.
+    from sim.impact import law_codes
+    assert law_codes("poisson", 3).tolist() == [LAW_CODE["poisson"]] * 3
+    per_drop = law_codes(["newton", "energetic", "poisson", "newton"], 4)
+    assert per_drop.tolist() == [LAW_CODE[n] for n in ("newton", "energetic", "poisson", "newton")]
+    assert law_codes(np.array(["energetic", "newton"], dtype=object), 2).tolist() == [0, 2]
+    assert law_codes([], 0).size == 0
+    for bad, shown in (("elastic", "'elastic'"), (["newton", None], "'None'"), (np.array(["x", "newton"]), "'x'")):
+        with pytest.raises(ValueError, match=f"law must be one of energetic, poisson, newton, got {shown}"):
+            law_codes(bad, 2)
