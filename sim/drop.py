@@ -358,9 +358,8 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             break
         go = ~failed & live["impacting"]
         if not go.all():
-            where = np.flatnonzero(go)
-            live = {name: a.take(where) for name, a in live.items()}
-            tau, along, across = tau.take(where), along.take(where), across.take(where)
+            live = keep(live, go)
+            tau, along, across = tau[go], along[go], across[go]
         # advance to the contact
         live["t"] += tau
         live["x"] += live["vx"] * tau
