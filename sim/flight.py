@@ -419,11 +419,8 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     ``((circle, ellipse) for the bottom, (circle, ellipse) for the top)``.
 
     Capsules and spheres (decided per body: ``half_wide`` 0 and a circular
-    round part) take their top point from :func:`_capsule_tops` instead: on
-    each half turn the top point is concave, bounded by a parabola, and
-    Newton stops as soon as the concavity bound ``h(t) + h'(t)^2 / (2 g)``
-    is within :data:`PEAK_SLACK` of the best height, rather than after a
-    fixed count of steps.
+    round part) take :func:`_capsule_peaks` instead, which needs one half
+    turn for the lowest point and has its own top-point search.
 
     Checked against dense sampling in ``tests/test_flight.py`` (worst seen
     4e-13 m over 6000 random flights).
@@ -433,6 +430,31 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     centre, bottom, top : numpy.ndarray
         Peak heights above the floor. [m]
     """
+    hl, hw, rl, rw = profile
+    capsule = (hw == 0) & (rl == rw)
+    if capsule.all():
+        return _capsule_peaks(y, vy, theta, omega, duration, hl, rl, polish_steps[0][0])
+    if not capsule.any():
+        return _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps)
+    # a mixed batch: each body takes its own path (so that no result
+    # depends on its neighbours)
+    out = tuple(np.empty(y.size) for _ in range(3))
+    for is_capsule in (True, False):
+        sel = np.flatnonzero(capsule if is_capsule else ~capsule)
+        state = [a[sel] for a in (y, vy, theta, omega, duration)]
+        if is_capsule:
+            found = _capsule_peaks(*state, hl[sel], rl[sel], polish_steps[0][0])
+        else:
+            found = _general_peaks(*state, tuple(p[sel] for p in profile), d_low[sel], d_high[sel],
+                                   polish_steps)
+        for whole, part in zip(out, found):
+            whole[sel] = part
+    return out
+
+
+def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps):
+    """:func:`flight_peaks` for any body (three half turns, every kind of
+    piece)."""
     hl, hw, rl, rw = profile
     four = bool(np.any(hw > 0))
     rounded = rl != rw
@@ -483,8 +505,7 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     his = np.stack([p[1] for p in pieces])
 
     ends = (t_lo, t_apex, t_hi)
-    sc_ends = [sincos(theta + omega * t) for t in ends]
-    d_ends = [_depth_terms(None, profile, rounded, rounded_any, four, False, sc) for sc in sc_ends]
+    d_ends = [_depth_terms(theta + omega * t, profile, rounded, rounded_any, four, False) for t in ends]
     y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
     # breakpoints inside the window are exact candidates, free of trigonometry
     # (adding NO_PIECE absorbs any height; adding -0.0 changes none)
@@ -492,34 +513,9 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     # adding this sends a piece that does not exist to NO_PIECE (and adds -0.0
     # to one that does)
     missing = [NO_PIECE * (hi <= lo) for lo, hi, *_ in pieces]
-    # capsules and spheres (per body): the top point has its own fast path
-    capsule = (hw == 0) & ~rounded
-    capsule_all = bool(capsule.all())
-    capsule_any = capsule_all or bool(capsule.any())
-    if capsule_any:
-        # sign of sin(theta + omega t) on the half turn before the apex's
-        sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
     peaks = []
     for sign in (-1.0, 1.0):
         best = np.maximum.reduce([yc + sign * d for yc, d in zip(y_ends, d_ends)])
-        if sign > 0 and capsule_any:
-            # (the capsule top path needs no breakpoint: between its bumps
-            # the top point has kinks down, and a bump's middle lies below
-            # the bump's maximum, which that path finds)
-            sel = slice(None) if capsule_all else np.flatnonzero(capsule)
-            # quarter-turn times, as the pieces' times of a batch without
-            # flat faces (the same bits)
-            quarters = [t[sel] for t in times[:7]] if kinds == 2 else [
-                (first[sel] + ((k // 2) * np.pi + (k % 2) * (0.5 * np.pi)) - theta[sel]) * inv_omega[sel]
-                for k in range(7)]
-            capsule_tops = _capsule_tops(y[sel], vy[sel], theta[sel], omega[sel], hl[sel], rl[sel],
-                                         sign0[sel], quarters, t_lo[sel], t_hi[sel],
-                                         sc_ends[0][1][sel], sc_ends[2][1][sel], best[sel])
-            if capsule_all:
-                peaks.append(capsule_tops)
-                break
-            # the general pieces below leave these bodies alone
-            missing = [m + NO_PIECE * capsule for m in missing]
         for yc, d in zip(y_marks, marks):
             best = np.maximum(best, yc + sign * d)
         bounds = np.empty((len(pieces), n))
@@ -553,33 +549,112 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
                 end_depth = np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b)
                 loose = centre_at(np.clip(t_apex, lo, hi)) + end_depth
                 # an ellipse's depth is not concave: h may have two local
-                # maxima on a piece, and the middle is the safer start
-                middle = 0.5 * (lo + hi)
+                # maxima on a piece, and the middle is the safer start (of
+                # an empty piece, a finite stand-in)
+                middle = 0.5 * (np.minimum(lo, hi) + hi)
                 start = _pick(rounded, middle, start) if concave else middle
                 bound = _pick(rounded, loose, bound) if concave else loose
             np.add(bound, missing[i], out=bounds[i])
             starts[i] = start
-        # best only rises and bounds only fall, so a body with no open piece
-        # left is done: later rounds look only at the bodies just polished
-        candidates, stack, floor = None, bounds, best
-        for _ in range(len(pieces)):
-            pick, top = _largest(stack)
-            open_ = np.flatnonzero(top > floor + 1e-12)
-            if open_.size == 0:
-                break
-            sel = open_ if candidates is None else candidates[open_]
-            p_sel = pick[open_]
-            bounds[p_sel, sel] = NO_PIECE
-            found = _polish(y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
-                            rounded[sel] if rounded_any else rounded, rounded_any, four,
-                            los[p_sel, sel], his[p_sel, sel], starts[p_sel, sel], sign,
-                            polish_steps[sign > 0])
-            best[sel] = np.maximum(best[sel], found)
-            candidates, stack, floor = sel, bounds[:, sel], best[sel]
-        if sign > 0 and capsule_any:
-            best[np.flatnonzero(capsule)] = capsule_tops
-        peaks.append(best)
+        peaks.append(_settle(bounds, best, 1e-12, lambda sel, p_sel: _polish(
+            y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
+            rounded[sel] if rounded_any else rounded, rounded_any, four,
+            los[p_sel, sel], his[p_sel, sel], starts[p_sel, sel], sign, polish_steps[sign > 0])))
     return centre, peaks[0], peaks[1]
+
+
+def _settle(bounds, best, slack, polish):
+    """Raise ``best`` (in place, and returned) until no piece's bound
+    exceeds it by more than ``slack``: the pieces are polished in order of
+    their bounds, ``polish(bodies, pieces)`` giving the highest height
+    reached on each body's piece. Best only rises and bounds only fall,
+    so a body with no open piece left is done: later rounds look only at
+    the bodies just polished."""
+    candidates, stack, floor = None, bounds, best
+    for _ in range(bounds.shape[0]):
+        pick, top = _largest(stack)
+        open_ = np.flatnonzero(top > floor + slack)
+        if open_.size == 0:
+            break
+        sel = open_ if candidates is None else candidates[open_]
+        p_sel = pick[open_]
+        bounds[p_sel, sel] = NO_PIECE
+        best[sel] = np.maximum(best[sel], polish(sel, p_sel))
+        candidates, stack, floor = sel, bounds[:, sel], best[sel]
+    return best
+
+
+def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_steps):
+    """:func:`flight_peaks` for capsules and spheres (``half_wide`` 0 and a
+    circular round part), whose depth ``d = A |sin(phi)| + r`` (``phi =
+    theta + omega t``) is least, ``r``, where the axis lies flat (``phi =
+    k pi``, the kinks) and greatest, ``A + r``, upright.
+
+    The lowest point ``h = y - d`` never exceeds ``y - r``, which it
+    reaches at a kink, and the centre's height ``y`` falls away on both
+    sides of the (clipped) apex ``t_c``: beyond the kink on either side of
+    ``t_c``, ``h(t) <= y(t) - r <= y(t_k) - r = h(t_k)``. So the lowest
+    point peaks at a window end, at a kink, or inside the half turn holding
+    the apex, whose upright time splits it into two pieces on which ``d``
+    is concave in ``t``: above its chord, so ``h`` lies below a parabola
+    with a closed-form maximum (:func:`flight_peaks`' chord bound, on one
+    half turn instead of three). Pieces whose bound beats the best
+    candidate by more than 1e-12 m are polished (:func:`_polish`,
+    ``bottom_steps`` Newton steps). The top point takes
+    :func:`_capsule_tops`.
+    """
+    t_apex = np.clip(vy * (1.0 / GRAVITY), 0.0, duration)
+    centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
+    # the window where the centre is within A (= d_high - d_low) of its peak
+    disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - half_long - y), 0.0))
+    t_lo = np.clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_hi = np.clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
+
+    def centre_at(t):
+        return y + t * (vy - 0.5 * GRAVITY * t)
+
+    # as in _general_peaks: under 1e-9 rad/s a body counts as not spinning,
+    # and its window starts at infinity (no kinks, no pieces)
+    spinning = np.abs(omega) > 1e-9
+    inv_omega = spinning / (omega + ~spinning)
+    t_from = np.where(spinning, t_lo, np.inf)
+    # quarter-turn times phi = (turn - 1) pi + k pi / 2, k = 0..6, around
+    # the half turn holding the apex (k = 2..4)
+    apex_turn = np.floor((theta + omega * t_apex) * (1.0 / np.pi))
+    first = (apex_turn - 1.0) * np.pi
+    quarters = [(first + ((k // 2) * np.pi + (k % 2) * (0.5 * np.pi)) - theta) * inv_omega for k in range(7)]
+    sc_ends = [sincos(theta + omega * t) for t in (t_lo, t_apex, t_hi)]
+    y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
+    d_ends = [half_long * np.abs(s) + radius for s, _ in sc_ends]
+    bottom = np.maximum.reduce([yc - d for yc, d in zip(y_ends, d_ends)])
+    top = np.maximum.reduce([yc + d for yc, d in zip(y_ends, d_ends)])
+
+    # lowest point: the kinks either side of the apex and the upright time
+    # between them are exact candidates inside the window
+    t_0, t_1, t_2 = quarters[2:5]
+    upright = half_long + radius
+    for t, d in ((t_0, radius), (t_1, upright), (t_2, radius)):
+        bottom = np.maximum(bottom, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
+    table = np.empty((4, 2, y.size))  # per piece: bound, lo, hi, polish start
+    for j, (t_a, t_b, d_a, d_b) in enumerate(((t_0, t_1, radius, upright), (t_1, t_2, upright, radius))):
+        lo, hi = table[1, j], table[2, j]
+        np.maximum(np.minimum(t_a, t_b), t_from, out=lo)
+        np.minimum(np.maximum(t_a, t_b), t_hi, out=hi)
+        # below the chord: y - d <= y - (d_a + k (t - t_a))
+        chord = -omega * ((d_b - d_a) / (0.5 * np.pi))
+        bound, table[3, j] = _best_on(lo, hi, y, vy, chord, t_a, -d_a)
+        np.add(bound, NO_PIECE * (hi <= lo), out=table[0, j])
+    profile = (half_long, 0.0, radius, radius)
+    bottom = _settle(table[0], bottom, 1e-12, lambda sel, p_sel: _polish(
+        y[sel], vy[sel], theta[sel], omega[sel], tuple(p if np.ndim(p) == 0 else p[sel] for p in profile),
+        False, False, False, table[1, p_sel, sel], table[2, p_sel, sel], table[3, p_sel, sel], -1.0,
+        (bottom_steps, bottom_steps)))
+
+    # sign of sin(phi) on the half turn before the apex's
+    sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
+    top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_lo, t_hi,
+                        sc_ends[0][1], sc_ends[2][1], top)
+    return centre, bottom, top
 
 
 def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, start, sign, steps):
