@@ -38,6 +38,10 @@ CORNERS = np.array([(1.0, 1.0), (-1.0, 1.0), (1.0, -1.0), (-1.0, -1.0)])
 CONTACT_GAP = 1e-9
 #: Pieces within this of the lowest one touch together (flat landing). [m]
 TIE_GAP = 1e-12
+#: Flight peaks are settled once no bound beats the best height found by
+#: more than this: a tenth of CONTACT_GAP, the precision to which the
+#: flight's end (the next contact) is found. [m]
+PEAK_SLACK = 1e-10
 
 
 def curvature_bound(half_long, half_wide, round_long, round_wide):
@@ -410,7 +414,8 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     one on either side hold every candidate. Pieces whose bound beats the
     best candidate are polished in order of their bound, by Newton steps on
     ``h' = 0`` kept inside a bracket that always moves uphill, until no
-    unpolished piece's bound exceeds the best height found. The polish
+    unpolished piece's bound exceeds the best height found by more than
+    :data:`PEAK_SLACK`. The polish
     starts where the chord bound peaks (bottom), where ``h'`` interpolated
     between the piece's ends vanishes (top; for a circle-rounded body ``h``
     is concave there, so that start is close and Newton converges in a few
@@ -422,8 +427,8 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     round part) take :func:`_capsule_peaks` instead, which needs one half
     turn for the lowest point and has its own top-point search.
 
-    Checked against dense sampling in ``tests/test_flight.py`` (worst seen
-    4e-13 m over 6000 random flights).
+    Peaks are within :data:`PEAK_SLACK` (1e-10 m) of the true peak, up to
+    rounding; checked against dense sampling in ``tests/test_flight.py``.
 
     Returns
     -------
@@ -556,7 +561,7 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
                 bound = _pick(rounded, loose, bound) if concave else loose
             np.add(bound, missing[i], out=bounds[i])
             starts[i] = start
-        peaks.append(_settle(bounds, best, 1e-12, lambda sel, p_sel: _polish(
+        peaks.append(_settle(bounds, best, PEAK_SLACK, lambda sel, p_sel: _polish(
             y[sel], vy[sel], theta[sel], omega[sel], tuple(p[sel] for p in profile),
             rounded[sel] if rounded_any else rounded, rounded_any, four,
             los[p_sel, sel], his[p_sel, sel], starts[p_sel, sel], sign, polish_steps[sign > 0])))
@@ -599,7 +604,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_step
     is concave in ``t``: above its chord, so ``h`` lies below a parabola
     with a closed-form maximum (:func:`flight_peaks`' chord bound, on one
     half turn instead of three). Pieces whose bound beats the best
-    candidate by more than 1e-12 m are polished (:func:`_polish`,
+    candidate by more than :data:`PEAK_SLACK` are polished (:func:`_polish`,
     ``bottom_steps`` Newton steps). The top point takes
     :func:`_capsule_tops`.
     """
@@ -645,7 +650,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_step
         bound, table[3, j] = _best_on(lo, hi, y, vy, chord, t_a, -d_a)
         np.add(bound, NO_PIECE * (hi <= lo), out=table[0, j])
     profile = (half_long, 0.0, radius, radius)
-    bottom = _settle(table[0], bottom, 1e-12, lambda sel, p_sel: _polish(
+    bottom = _settle(table[0], bottom, PEAK_SLACK, lambda sel, p_sel: _polish(
         y[sel], vy[sel], theta[sel], omega[sel], tuple(p if np.ndim(p) == 0 else p[sel] for p in profile),
         False, False, False, table[1, p_sel, sel], table[2, p_sel, sel], table[3, p_sel, sel], -1.0,
         (bottom_steps, bottom_steps)))
@@ -698,11 +703,6 @@ def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, st
             t = t_next
     d = _depth_terms(theta + omega * t, profile, rounded, rounded_any, four, False)
     return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)
-
-
-#: Newton on the capsule top stops once the tangent-parabola bound puts the
-#: flight's top peak within this of the best height reached. [m]
-PEAK_SLACK = 1e-13
 
 
 def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_hi, cos_lo, cos_hi, best,
