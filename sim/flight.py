@@ -641,6 +641,8 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_step
     for t, d in ((t_0, radius), (t_1, upright), (t_2, radius)):
         bottom = np.maximum(bottom, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
     table = np.empty((4, 2, y.size))  # per piece: bound, lo, hi, polish start
+    end_speed = np.abs(omega) * half_long
+    forwards = omega > 0
     for j, (t_a, t_b, d_a, d_b) in enumerate(((t_0, t_1, radius, upright), (t_1, t_2, upright, radius))):
         lo, hi = table[1, j], table[2, j]
         np.maximum(np.minimum(t_a, t_b), t_from, out=lo)
@@ -648,15 +650,25 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_step
         # below the chord: y - d <= y - (d_a + k (t - t_a))
         chord = -omega * ((d_b - d_a) / (0.5 * np.pi))
         bound, table[3, j] = _best_on(lo, hi, y, vy, chord, t_a, -d_a)
-        np.add(bound, NO_PIECE * (hi <= lo), out=table[0, j])
-    profile = (half_long, 0.0, radius, radius)
-    bottom = _settle(table[0], bottom, PEAK_SLACK, lambda sel, p_sel: _polish(
-        y[sel], vy[sel], theta[sel], omega[sel], tuple(p if np.ndim(p) == 0 else p[sel] for p in profile),
-        False, False, False, table[1, p_sel, sel], table[2, p_sel, sel], table[3, p_sel, sel], -1.0,
-        (bottom_steps, bottom_steps)))
-
-    # sign of sin(phi) on the half turn before the apex's
+        # From its kink into the piece, h'' grows (from -g to -g + A
+        # omega^2 upright), so h' is convex there: if h does not rise out
+        # of the kink (the centre's speed away from the kink's side is at
+        # most the end's A |omega|), h' is negative and then positive at
+        # most once, and h peaks at the piece's ends, which are candidates.
+        t_kink = t_a if j == 0 else t_b
+        rise = (vy - GRAVITY * t_kink) * (1.0 - 2.0 * (forwards != (j == 0))) - end_speed
+        np.add(bound, NO_PIECE * ((hi <= lo) | (rise <= 0)), out=table[0, j])
+    # sign of sin(phi) on the half turn before the apex's (the apex's has
+    # the other sign)
     sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
+    amp = -sign0 * half_long  # A signed as sin(phi) on the apex's half turn
+    y_r = y - radius
+    # the upright end of piece 0 (flat to upright) is its later end when
+    # the body turns forwards; of piece 1 (upright to flat), its earlier end
+    bottom = _settle(table[0], bottom, PEAK_SLACK, lambda sel, p_sel: _polish_capsule_bottom(
+        y_r[sel], vy[sel], theta[sel], omega[sel], amp[sel], table[1, p_sel, sel], table[2, p_sel, sel],
+        table[3, p_sel, sel], forwards[sel] != (p_sel == 1), bottom[sel]))
+
     top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_lo, t_hi,
                         sc_ends[0][1], sc_ends[2][1], top)
     return centre, bottom, top
@@ -828,5 +840,75 @@ def _polish_capsule_top(y_r, vy, theta, omega, amp, lo, hi, t, best, max_steps):
             live = live[keep]
             y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best = (
                 a[keep] for a in (y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best))
+    out[live] = best
+    return out
+
+
+def _polish_capsule_bottom(y_r, vy, theta, omega, amp, lo, hi, t, upright_hi, best, max_steps=40):
+    """Highest lowest point ``h = y_r + vy t - g t^2 / 2 - amp sin(phi)``
+    (``phi = theta + omega t``) on a piece ``[lo, hi]`` between a kink and
+    an upright time of the apex's half turn (:func:`_capsule_peaks`);
+    ``amp`` is ``A`` signed as ``sin(phi)`` there, ``upright_hi`` says
+    which end of the piece is the upright one.
+
+    On the piece ``h'' = -g + omega^2 amp sin(phi)`` grows from ``-g`` at
+    the kink to ``-g + A omega^2`` upright, so ``h'`` has at most one
+    falling zero (a local maximum, where ``h`` is concave, on the kink side
+    of where ``h`` turns convex). Newton steps on ``h' = 0`` are kept
+    inside a bracket that keeps the uphill side of each evaluated ``t``,
+    or its kink side where ``h`` is convex at ``t``: what is cut off peaks
+    at ``t`` or at an end of the piece (a candidate already), so the
+    bracket always holds the piece's best inner point. After each evaluation at ``t`` (an end of the new
+    bracket), Taylor's theorem with ``M`` = the largest ``h''`` on the
+    bracket (at its upright-side end, where ``amp sin(phi)`` is largest;
+    ``A`` until that end has been evaluated) gives ``h <= Q(t') = h(t) +
+    h'(t) (t' - t) + M (t' - t)^2 / 2`` on the bracket; a body stops as
+    soon as ``max Q`` over the bracket (closed form) is within
+    :data:`PEAK_SLACK` of its best height. Returns the best heights.
+    """
+    out = best
+    live = np.arange(y_r.size)
+    spin_amp = omega * amp
+    omega2 = omega * omega
+    # amp sin(phi) at the bracket's upright-side end (at most A)
+    far = np.abs(amp)
+    for _ in range(max_steps):
+        s, c = sincos(theta + omega * t)
+        gt = GRAVITY * t
+        lift = amp * s
+        height = y_r + t * (vy - 0.5 * gt) - lift
+        slope = (vy - gt) - spin_amp * c
+        np.maximum(best, height, out=best)
+        here = omega2 * lift - GRAVITY  # h''(t)
+        # keep the uphill side; where h is convex at t, the kink side (a
+        # maximum lies where h is concave, towards the kink; towards the
+        # upright end h is convex, so it peaks at t or at that end)
+        convex = here >= 0
+        up = ((slope > 0) & ~convex) | (convex & ~upright_hi)
+        lo = _pick(up, t, lo)
+        hi = _pick(up, hi, t)
+        far = _pick(up != upright_hi, lift, far)
+        curve = omega2 * far - GRAVITY  # >= h'' on the bracket
+        # max of Q on [lo, hi]: at an end, or at Q's vertex if Q is concave
+        flat = np.minimum(curve, -1e-12)
+        vertex = np.clip(t - slope / flat, lo, hi)
+        bound = height
+        for at in (lo, hi, vertex):
+            dt = at - t
+            bound = np.maximum(bound, height + dt * (slope + 0.5 * curve * dt))
+        done = bound <= best + PEAK_SLACK
+        # Newton where h is concave at t, else halve the bracket
+        newton = t - slope / np.minimum(here, -1e-3 * GRAVITY)
+        ok = (here < 0) & (newton > lo) & (newton < hi)
+        t = _pick(ok, newton, 0.5 * (lo + hi))
+        if done.any():
+            out[live] = best
+            keep = np.flatnonzero(~done)
+            if keep.size == 0:
+                return out
+            live = live[keep]
+            y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi, lo, hi, t, best = (
+                a[keep] for a in (y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi, lo, hi, t,
+                                  best))
     out[live] = best
     return out
