@@ -421,7 +421,9 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     is concave there, so that start is close and Newton converges in a few
     steps), or mid-piece (an ellipse's depth is not concave: ``h`` may have
     two local maxima on a piece). ``polish_steps`` is
-    ``((circle, ellipse) for the bottom, (circle, ellipse) for the top)``.
+    ``((circle, ellipse) for the bottom, (circle, ellipse) for the top)``
+    (the general path's fixed Newton steps; the capsule path stops on
+    bounds).
 
     Capsules and spheres (decided per body: ``half_wide`` 0 and a circular
     round part) take :func:`_capsule_peaks` instead, which needs one half
@@ -438,7 +440,7 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     hl, hw, rl, rw = profile
     capsule = (hw == 0) & (rl == rw)
     if capsule.all():
-        return _capsule_peaks(y, vy, theta, omega, duration, hl, rl, polish_steps[0][0])
+        return _capsule_peaks(y, vy, theta, omega, duration, hl, rl)
     if not capsule.any():
         return _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps)
     # a mixed batch: each body takes its own path (so that no result
@@ -448,7 +450,7 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
         sel = np.flatnonzero(capsule if is_capsule else ~capsule)
         state = [a[sel] for a in (y, vy, theta, omega, duration)]
         if is_capsule:
-            found = _capsule_peaks(*state, hl[sel], rl[sel], polish_steps[0][0])
+            found = _capsule_peaks(*state, hl[sel], rl[sel])
         else:
             found = _general_peaks(*state, tuple(p[sel] for p in profile), d_low[sel], d_high[sel],
                                    polish_steps)
@@ -589,7 +591,7 @@ def _settle(bounds, best, slack, polish):
     return best
 
 
-def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_steps):
+def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     """:func:`flight_peaks` for capsules and spheres (``half_wide`` 0 and a
     circular round part), whose depth ``d = A |sin(phi)| + r`` (``phi =
     theta + omega t``) is least, ``r``, where the axis lies flat (``phi =
@@ -604,8 +606,8 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, bottom_step
     is concave in ``t``: above its chord, so ``h`` lies below a parabola
     with a closed-form maximum (:func:`flight_peaks`' chord bound, on one
     half turn instead of three). Pieces whose bound beats the best
-    candidate by more than :data:`PEAK_SLACK` are polished (:func:`_polish`,
-    ``bottom_steps`` Newton steps). The top point takes
+    candidate by more than :data:`PEAK_SLACK` are polished
+    (:func:`_polish_capsule_bottom`). The top point takes
     :func:`_capsule_tops`.
     """
     t_apex = np.clip(vy * (1.0 / GRAVITY), 0.0, duration)
@@ -790,23 +792,16 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_
         bound = y_top + vertex * (vy - 0.5 * GRAVITY * vertex) - kappa * off * off
         np.add(bound, NO_PIECE * ~inner, out=bounds[j])
         np.clip(start_0 + start_1 * t_m, lo, hi, out=start)
-    candidates, stack, floor = None, bounds, best
     y_r = y + radius
-    for _ in range(3):
-        pick, top = _largest(stack)
-        open_ = np.flatnonzero(top > floor + PEAK_SLACK)
-        if open_.size == 0:
-            break
-        sel = open_ if candidates is None else candidates[open_]
-        p_sel = pick[open_]
-        bounds[p_sel, sel] = NO_PIECE
+
+    def polish(sel, p_sel):
         lo, hi, start = table[1:, p_sel, sel]
         # A signed as sin(phi) on the bump
         amp = half_long[sel] * (sign0[sel] * (1.0 - 2.0 * (p_sel == 1)))
-        best[sel] = _polish_capsule_top(y_r[sel], vy[sel], theta[sel], omega[sel], amp,
-                                        lo, hi, start, best[sel], max_steps)
-        candidates, stack, floor = sel, bounds[:, sel], best[sel]
-    return best
+        return _polish_capsule_top(y_r[sel], vy[sel], theta[sel], omega[sel], amp, lo, hi, start, best[sel],
+                                   max_steps)
+
+    return _settle(bounds, best, PEAK_SLACK, polish)
 
 
 def _polish_capsule_top(y_r, vy, theta, omega, amp, lo, hi, t, best, max_steps):
