@@ -152,10 +152,7 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     """
     n = y.size
     four = bool(np.any(profile[1] > 0))
-    corners = CORNERS if four else CORNERS[:2]
     out_t = np.full(n, np.nan)
-    out_along = np.zeros(n)
-    out_across = np.zeros(n)
     hl, hw, rl, rw = profile
     rounded_any = bool(np.any(rl != rw))
     # exact far-field start: a centre above d_high cannot touch before it
@@ -249,28 +246,7 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
             ended &= alive
         if ended.any():
             done = np.flatnonzero(ended)
-            hit_d, step_d = hit[done], step[done]
-            gaps_d = [g[done] for g in gaps]
-            touch_d = [tk[done] for tk in touching]
-            # the lowest of the pieces that touch (a deeper piece that is
-            # moving away does not strike)
-            lowest = np.minimum.reduce([np.where(tk, g, np.inf) for g, tk in zip(gaps_d, touch_d)])
-            count = np.zeros(done.size)
-            sum_along = np.zeros(done.size)
-            sum_across = np.zeros(done.size)
-            inv_curv_d = inv_curv[done]
-            for (along, across), g, tk, v, tau in zip(corners, gaps_d, touch_d, slopes, reach):
-                # touching now within TIE_GAP of the lowest, or reaching the
-                # floor within TIE_GAP of the first piece's arrival
-                tied = np.where(hit_d, tk & (g <= lowest + TIE_GAP),
-                                (tau[done] * inv_curv_d - step_d) * np.abs(v[done]) <= TIE_GAP)
-                count += tied
-                sum_along += along * tied
-                sum_across += across * tied
-            where = idx[done].astype(np.int64)
-            out_t[where] = t[done] + step_d * ~hit_d
-            out_along[where] = sum_along / count
-            out_across[where] = sum_across / count
+            out_t[idx[done].astype(np.int64)] = t[done] + step[done] * ~hit[done]
             alive[done] = False
             finished += done.size
             if 8 * finished > rows.shape[1]:
@@ -283,7 +259,57 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
         if finished:
             step = step * alive
         t += step
-    return out_t, out_along, out_across
+    along, across = _touching(y, vy, theta, omega, profile, out_t, four, rounded_any)
+    return out_t, along, across
+
+
+def _touching(y, vy, theta, omega, profile, time, four, rounded_any):
+    """Mean corner signs ``(along, across)`` of the pieces that strike at
+    ``time`` (:func:`next_contact`; 0, 0 where ``time`` is NaN).
+
+    The pieces are evaluated at the contact, in the search's own
+    arithmetic: the lowest of those touching (gap below
+    :data:`CONTACT_GAP` and approaching; a deeper piece moving away does
+    not strike) and any within :data:`TIE_GAP` of it (a flat landing).
+    Done once for all bodies after the search instead of as each body
+    finds its contact: the search's tail steps then carry no bookkeeping.
+    """
+    hl, hw, rl, rw = profile
+    found = ~np.isnan(time)
+    t = np.where(found, time, 0.0)
+    s, c = sincos_of_tan_half(np.tan(0.5 * theta + (0.5 * omega) * t))
+    gt = GRAVITY * t
+    yt = y + t * (vy - 0.5 * gt)
+    if rounded_any:
+        ellipse, ellipse_slope = _ellipse(s, c, rl, rw, rl != rw)
+        base_gap, base_slope = yt - ellipse, (vy - gt) - omega * ellipse_slope
+    else:
+        base_gap, base_slope = yt - rl, vy - gt
+    a_gap, a_slope = hl * s, (omega * hl) * c
+    corners = CORNERS if four else CORNERS[:2]
+    if four:
+        b_gap, b_slope = hw * c, (omega * hw) * s
+    # a piece that does not touch ranks a kilometre lower: the lowest
+    # touching piece wins, and without one (rounding at a sure step's end)
+    # the lowest piece
+    ranks = []
+    for along, across in corners:
+        gap = base_gap - along * a_gap
+        slope = base_slope - along * a_slope
+        if four:
+            gap = gap - across * b_gap
+            slope = slope + across * b_slope
+        ranks.append(gap + 1e3 * ((gap >= CONTACT_GAP) | (slope >= 0)))
+    lowest = np.minimum.reduce(ranks) + TIE_GAP
+    count = np.zeros(t.size)
+    sum_along = np.zeros(t.size)
+    sum_across = np.zeros(t.size)
+    for (along, across), rank in zip(corners, ranks):
+        tied = rank <= lowest
+        count += tied
+        sum_along += along * tied
+        sum_across += across * tied
+    return found * (sum_along / count), found * (sum_across / count)
 
 
 def _depth_terms(angle, profile, rounded, rounded_any, four, derivatives=True, sin_cos=None):
