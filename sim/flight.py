@@ -651,11 +651,11 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     spinning = np.abs(omega) > 1e-9
     inv_omega = spinning / (omega + ~spinning)
     t_from = np.where(spinning, t_lo, np.inf)
-    # quarter-turn times phi = (turn - 1) pi + k pi / 2, k = 0..6, around
-    # the half turn holding the apex (k = 2..4)
     apex_turn = np.floor((theta + omega * t_apex) * (1.0 / np.pi))
     first = (apex_turn - 1.0) * np.pi
-    quarters = [(first + ((k // 2) * np.pi + (k % 2) * (0.5 * np.pi)) - theta) * inv_omega for k in range(7)]
+    # the flat, upright and flat times phi = turn pi + k pi / 2, k = 0, 1,
+    # 2, of the half turn holding the apex
+    quarters = [(first + (np.pi + k * (0.5 * np.pi)) - theta) * inv_omega for k in range(3)]
     sc_ends = [sincos(theta + omega * t) for t in (t_lo, t_apex, t_hi)]
     y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
     d_ends = [half_long * np.abs(s) + radius for s, _ in sc_ends]
@@ -664,7 +664,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
 
     # lowest point: the kinks either side of the apex and the upright time
     # between them are exact candidates inside the window
-    t_0, t_1, t_2 = quarters[2:5]
+    t_0, t_1, t_2 = quarters
     upright = half_long + radius
     for t, d in ((t_0, radius), (t_1, upright), (t_2, radius)):
         bottom = np.maximum(bottom, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
@@ -697,7 +697,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
         y_r[sel], vy[sel], theta[sel], omega[sel], amp[sel], table[1, p_sel, sel], table[2, p_sel, sel],
         table[3, p_sel, sel], forwards[sel] != (p_sel == 1), bottom[sel]))
 
-    top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_lo, t_hi,
+    top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_apex, t_lo, t_hi,
                         sc_ends[0][1], sc_ends[2][1], top)
     return centre, bottom, top
 
@@ -745,8 +745,8 @@ def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, st
     return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)
 
 
-def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_hi, cos_lo, cos_hi, best,
-                  max_steps=12):
+def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_apex, t_lo, t_hi, cos_lo, cos_hi,
+                  best, max_steps=12):
     """Top-point peaks of capsules and spheres (``half_wide`` 0, circular
     round part): :func:`flight_peaks`' fast path.
 
@@ -755,11 +755,14 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_
     ``h'' = -g - omega^2 A |sin(phi)| <= -g``; between bumps it has convex
     kinks. So each bump clipped to the window has one maximum: at a window
     end if ``h`` already falls (rises) there, inward, and otherwise at the
-    single root of ``h'`` inside. The three bumps of the half turn before,
-    holding and after the apex hold every candidate (see
-    :func:`flight_peaks`); ``times`` are the seven quarter-turn times
-    ``phi = (turn - 1) pi + k pi / 2`` that bound them and mark their
-    middles ``t_m``.
+    single root of ``h'`` inside. ``times`` are the flat, upright and flat
+    times of the bump holding the (clipped) apex ``t_apex``, whose upright
+    time ``t_m`` gives the candidate ``h(t_m) = y(t_m) + A + r``. Beyond
+    ``t_m`` on the side away from the apex the centre only falls, so there
+    ``h <= y + A + r <= h(t_m)``: that bump's neighbour on the far side can
+    be left out, and two bumps hold every candidate, the apex's and its
+    neighbour on the apex's side of ``t_m`` (if ``t_m`` lies beyond the
+    window's end, so does the far neighbour).
 
     Bound of a bump: ``cos(x) <= 1 - 4 x^2 / pi^2`` on ``|x| <= pi / 2``
     (equality at 0 and +-pi/2), with ``x = omega (t - t_m)``, so
@@ -790,28 +793,40 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_lo, t_
     start_0, start_1 = vy * inv_middle, w2a * inv_middle
     y_top = y + (half_long + radius)
     # a body that does not spin has no bumps: its window starts at infinity
-    t_from = np.where(np.abs(omega) > 1e-9, t_lo, np.inf)
-    # d' = sigma A cos(phi) at the window's ends (sigma of the first bump)
+    spinning = np.abs(omega) > 1e-9
+    t_from = np.where(spinning, t_lo, np.inf)
+    # d' = sigma A cos(phi) at the window's ends (sigma of the neighbour)
     turn_lo = (sign0 * wa) * cos_lo
     turn_hi = (sign0 * wa) * cos_hi
-    # what to add to |omega| A for the inward slope inside a bump, per sigma
+    # what to add to |omega| A for the inward slope inside a bump: the
+    # neighbour's sigma, then the apex bump's (the other sign)
     inner_lo = (turn_lo - fast, -turn_lo - fast)
     inner_hi = (turn_hi + fast, -turn_hi + fast)
-    # per bump: bound, then lo, hi and start of the polish (one array, so
-    # that picking each body's bump is one gather)
-    table = np.empty((4, 3, y.size))
+    # the neighbour: it shares the apex bump's flat time t_0 when that is
+    # on the apex's side of t_m, else t_2, and reaches a quarter turn
+    # (signed time ``quarter``) on past it per step
+    t_0, t_m, t_2 = times
+    quarter = (0.5 * np.pi) * (spinning / (omega + ~spinning))
+    at_0 = (t_apex <= t_m) == (omega > 0)
+    delta = np.where(at_0, -quarter, quarter)
+    shared = np.where(at_0, t_0, t_2)
+    middle = shared + delta
+    bumps = ((shared, middle, middle + delta), times)
+    # per bump (the neighbour, then the apex's): bound, then lo, hi and
+    # start of the polish (one array, so that picking each body's bump is
+    # one gather)
+    table = np.empty((4, 2, y.size))
     bounds = table[0]
-    for j in range(3):
+    for j, (t_a, t_m, t_b) in enumerate(bumps):
         lo, hi, start = table[1:, j]
-        t_a, t_m, t_b = times[2 * j], times[2 * j + 1], times[2 * j + 2]
         first, last = np.minimum(t_a, t_b), np.maximum(t_a, t_b)
         np.maximum(first, t_from, out=lo)
         np.minimum(last, t_hi, out=hi)
         # inward slopes of h at the ends of the clipped bump: at a bump's
         # end d rises inward at |omega| A; inside it d' = sigma A cos(phi)
         # (sigma alternates from bump to bump)
-        rise = ((vy - GRAVITY * lo) + fast) + inner_lo[j == 1] * (first < t_from)
-        fall = ((vy - GRAVITY * hi) - fast) + inner_hi[j == 1] * (last > t_hi)
+        rise = ((vy - GRAVITY * lo) + fast) + inner_lo[j] * (first < t_from)
+        fall = ((vy - GRAVITY * hi) - fast) + inner_hi[j] * (last > t_hi)
         inner = (hi > lo) & (rise > 0) & (fall < 0)
         vertex = np.clip(vertex_0 + vertex_1 * t_m, lo, hi)
         off = vertex - t_m
