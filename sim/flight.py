@@ -656,9 +656,13 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     # the flat, upright and flat times phi = turn pi + k pi / 2, k = 0, 1,
     # 2, of the half turn holding the apex
     quarters = [(first + (np.pi + k * (0.5 * np.pi)) - theta) * inv_omega for k in range(3)]
-    sc_ends = [sincos(theta + omega * t) for t in (t_lo, t_apex, t_hi)]
-    y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
+    # the window's ends are candidates, and so is the apex of a body that
+    # does not spin (whose depth stays d_ends[0]; a spinning body's apex
+    # lies on the pieces below)
+    sc_ends = [sincos(theta + omega * t) for t in (t_lo, t_hi)]
+    y_ends = [centre_at(t_lo), centre_at(t_hi), centre + NO_PIECE * spinning]
     d_ends = [half_long * np.abs(s) + radius for s, _ in sc_ends]
+    d_ends.append(d_ends[0])
     bottom = np.maximum.reduce([yc - d for yc, d in zip(y_ends, d_ends)])
     top = np.maximum.reduce([yc + d for yc, d in zip(y_ends, d_ends)])
 
@@ -698,7 +702,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
         table[3, p_sel, sel], forwards[sel] != (p_sel == 1), bottom[sel]))
 
     top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_apex, t_lo, t_hi,
-                        sc_ends[0][1], sc_ends[2][1], top)
+                        sc_ends[0][1], sc_ends[1][1], top)
     return centre, bottom, top
 
 
