@@ -372,9 +372,9 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
         # upright or flat lands exactly so
         s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
-        ellipse = np.sqrt((rl * s) ** 2 + (rw * cs) ** 2)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            e_slope = np.where(ellipse > 0, (rl ** 2 - rw ** 2) * s * cs / ellipse, 0.0)
+        # the round part's support and slope (exactly the radius and 0 for
+        # a circle: capsules, spheres and cylinders skip the square root)
+        ellipse, e_slope = flight._ellipse(s, cs, rl, rw, rl != rw)
         r_x = -(hl * cs * along - hw * s * across + e_slope)
         r_y = -(hl * s * along + hw * cs * across + ellipse)
         m_i, in_i = live["mass"], live["inertia"]
