@@ -196,16 +196,8 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
             base_slope = vt - (half_om + half_om) * ellipse_slope
         else:
             base_gap, base_slope = yt - rl, vt
-        a_gap, a_slope = hl * s, om_hl * c
-        if four:
-            b_gap, b_slope = hw * c, om_hw * s
-            lo_gap, hi_gap = base_gap - a_gap, base_gap + a_gap
-            lo_slope, hi_slope = base_slope - a_slope, base_slope + a_slope
-            gaps = [lo_gap - b_gap, hi_gap - b_gap, lo_gap + b_gap, hi_gap + b_gap]
-            slopes = [lo_slope + b_slope, hi_slope + b_slope, lo_slope - b_slope, hi_slope - b_slope]
-        else:
-            gaps = [base_gap - a_gap, base_gap + a_gap]
-            slopes = [base_slope - a_slope, base_slope + a_slope]
+        gaps, slopes = _corner_pieces(base_gap, base_slope, hl * s, om_hl * c,
+                                      (hw * c, om_hw * s) if four else None)
         touching = [(g < CONTACT_GAP) & (v < 0) for g, v in zip(gaps, slopes)]
         hit = touching[0]
         for tk in touching[1:]:
@@ -263,6 +255,22 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     return out_t, along, across
 
 
+def _corner_pieces(base_gap, base_slope, a_gap, a_slope, flat=None):
+    """Floor gap and its rate of each smooth piece of the depth, in the
+    order of :data:`CORNERS`: ``base - along A sin - across B cos`` and its
+    derivative, from the round part's ``base_gap``, ``base_slope`` and the
+    axis terms ``a_gap = A sin``, ``a_slope = omega A cos``; ``flat`` is
+    ``(B cos, omega B sin)`` where the batch has a flat face, else None
+    (two pieces)."""
+    if flat is None:
+        return [base_gap - a_gap, base_gap + a_gap], [base_slope - a_slope, base_slope + a_slope]
+    b_gap, b_slope = flat
+    lo_gap, hi_gap = base_gap - a_gap, base_gap + a_gap
+    lo_slope, hi_slope = base_slope - a_slope, base_slope + a_slope
+    return ([lo_gap - b_gap, hi_gap - b_gap, lo_gap + b_gap, hi_gap + b_gap],
+            [lo_slope + b_slope, hi_slope + b_slope, lo_slope - b_slope, hi_slope - b_slope])
+
+
 def _touching(y, vy, theta, omega, profile, time, four, rounded_any):
     """Mean corner signs ``(along, across)`` of the pieces that strike at
     ``time`` (:func:`next_contact`; 0, 0 where ``time`` is NaN).
@@ -285,21 +293,13 @@ def _touching(y, vy, theta, omega, profile, time, four, rounded_any):
         base_gap, base_slope = yt - ellipse, (vy - gt) - omega * ellipse_slope
     else:
         base_gap, base_slope = yt - rl, vy - gt
-    a_gap, a_slope = hl * s, (omega * hl) * c
+    gaps, slopes = _corner_pieces(base_gap, base_slope, hl * s, (omega * hl) * c,
+                                  (hw * c, (omega * hw) * s) if four else None)
     corners = CORNERS if four else CORNERS[:2]
-    if four:
-        b_gap, b_slope = hw * c, (omega * hw) * s
     # a piece that does not touch ranks a kilometre lower: the lowest
     # touching piece wins, and without one (rounding at a sure step's end)
     # the lowest piece
-    ranks = []
-    for along, across in corners:
-        gap = base_gap - along * a_gap
-        slope = base_slope - along * a_slope
-        if four:
-            gap = gap - across * b_gap
-            slope = slope + across * b_slope
-        ranks.append(gap + 1e3 * ((gap >= CONTACT_GAP) | (slope >= 0)))
+    ranks = [gap + 1e3 * ((gap >= CONTACT_GAP) | (slope >= 0)) for gap, slope in zip(gaps, slopes)]
     lowest = np.minimum.reduce(ranks) + TIE_GAP
     count = np.zeros(t.size)
     sum_along = np.zeros(t.size)
@@ -701,8 +701,8 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
         y_r[sel], vy[sel], theta[sel], omega[sel], amp[sel], table[1, p_sel, sel], table[2, p_sel, sel],
         table[3, p_sel, sel], forwards[sel] != (p_sel == 1), bottom[sel]))
 
-    top = _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, quarters, t_apex, t_lo, t_hi,
-                        sc_ends[0][1], sc_ends[1][1], top)
+    top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
+                        t_hi, sc_ends[0][1], sc_ends[1][1], top)
     return centre, bottom, top
 
 
@@ -749,8 +749,8 @@ def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, st
     return np.maximum(best, y + t * (vy - 0.5 * GRAVITY * t) + sign * d)
 
 
-def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_apex, t_lo, t_hi, cos_lo, cos_hi,
-                  best, max_steps=12):
+def _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, times, t_apex, t_from, t_hi,
+                  cos_lo, cos_hi, best, max_steps=12):
     """Top-point peaks of capsules and spheres (``half_wide`` 0, circular
     round part): :func:`flight_peaks`' fast path.
 
@@ -796,9 +796,6 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_apex, 
     inv_middle = 1.0 / (GRAVITY + w2a)
     start_0, start_1 = vy * inv_middle, w2a * inv_middle
     y_top = y + (half_long + radius)
-    # a body that does not spin has no bumps: its window starts at infinity
-    spinning = np.abs(omega) > 1e-9
-    t_from = np.where(spinning, t_lo, np.inf)
     # d' = sigma A cos(phi) at the window's ends (sigma of the neighbour)
     turn_lo = (sign0 * wa) * cos_lo
     turn_hi = (sign0 * wa) * cos_hi
@@ -810,7 +807,7 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_apex, 
     # on the apex's side of t_m, else t_2, and reaches a quarter turn
     # (signed time ``quarter``) on past it per step
     t_0, t_m, t_2 = times
-    quarter = (0.5 * np.pi) * (spinning / (omega + ~spinning))
+    quarter = (0.5 * np.pi) * inv_omega
     at_0 = (t_apex <= t_m) == (omega > 0)
     delta = np.where(at_0, -quarter, quarter)
     shared = np.where(at_0, t_0, t_2)
@@ -849,6 +846,18 @@ def _capsule_tops(y, vy, theta, omega, half_long, radius, sign0, times, t_apex, 
     return _settle(bounds, best, PEAK_SLACK, polish)
 
 
+def _retire(done, out, live, state):
+    """One polish step's end: write the best heights (``state[-1]``) of the
+    bodies ``live`` (their places in ``out``) and keep the bodies not
+    ``done``. Returns the kept places and ``state`` cut to them, or
+    ``(live, None)`` when every body is done."""
+    out[live] = state[-1]
+    keep = np.flatnonzero(~done)
+    if keep.size == 0:
+        return live, None
+    return live[keep], tuple(a[keep] for a in state)
+
+
 def _polish_capsule_top(y_r, vy, theta, omega, amp, lo, hi, t, best, max_steps):
     """Highest of ``best`` and the top point ``y_r + vy t - g t^2 / 2 +
     amp sin(theta + omega t)`` on a bump ``[lo, hi]`` where its slope falls
@@ -873,13 +882,10 @@ def _polish_capsule_top(y_r, vy, theta, omega, amp, lo, hi, t, best, max_steps):
         ok = (newton > lo) & (newton < hi)
         t = _pick(ok, newton, 0.5 * (lo + hi))
         if done.any():
-            out[live] = best
-            keep = np.flatnonzero(~done)
-            if keep.size == 0:
+            live, state = _retire(done, out, live, (y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best))
+            if state is None:
                 return out
-            live = live[keep]
-            y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best = (
-                a[keep] for a in (y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best))
+            y_r, vy, theta, omega, amp, spin_amp, spin2_amp, lo, hi, t, best = state
     out[live] = best
     return out
 
@@ -942,13 +948,10 @@ def _polish_capsule_bottom(y_r, vy, theta, omega, amp, lo, hi, t, upright_hi, be
         ok = (here < 0) & (newton > lo) & (newton < hi)
         t = _pick(ok, newton, 0.5 * (lo + hi))
         if done.any():
-            out[live] = best
-            keep = np.flatnonzero(~done)
-            if keep.size == 0:
+            live, state = _retire(done, out, live, (y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi,
+                                                    lo, hi, t, best))
+            if state is None:
                 return out
-            live = live[keep]
-            y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi, lo, hi, t, best = (
-                a[keep] for a in (y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi, lo, hi, t,
-                                  best))
+            y_r, vy, theta, omega, amp, spin_amp, omega2, far, upright_hi, lo, hi, t, best = state
     out[live] = best
     return out
