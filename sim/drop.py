@@ -299,6 +299,47 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
 
 
+def _strike(live, along, across):
+    """Every live drop's impact at its contact (``along``, ``across``: the
+    touching corners, :func:`sim.flight.next_contact`).
+
+    Returns the impact's record (:data:`IMPACT_FIELDS` taken at the
+    impact, and the flags), the normal speed at which the struck point
+    separates, and the kinetic energy after. A function of its own so that
+    its temporaries are freed before the next flight's search and peaks:
+    they would otherwise hold some 200 bytes per drop through them.
+    """
+    # contact offset: mean over touching corners (flat landing: the middle)
+    hl, hw, rl, rw = live["hl"], live["hw"], live["rl"], live["rw"]
+    theta = live["th"]
+    # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
+    # upright or flat lands exactly so
+    s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
+    # the round part's support and slope (exactly the radius and 0 for
+    # a circle: capsules, spheres and cylinders skip the square root)
+    ellipse, e_slope = flight._ellipse(s, cs, rl, rw, rl != rw)
+    r_x = -(hl * cs * along - hw * s * across + e_slope)
+    r_y = -(hl * s * along + hw * cs * across + ellipse)
+    m_i, in_i = live["mass"], live["inertia"]
+    v_x, v_y, w = live["vx"], live["vy"], live["om"]
+    k_tt, k_nn, k_tn = impulse_matrix(m_i, in_i, r_x, r_y)
+    u_t = v_x - w * r_y
+    u_n = v_y + w * r_x
+    p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live["e"], live["mu"], live["law"])
+    v_x2 = v_x + p_t / m_i
+    v_y2 = v_y + p_n / m_i
+    w2 = w + (r_x * p_n - r_y * p_t) / in_i
+    ke_before = 0.5 * m_i * (v_x ** 2 + v_y ** 2) + 0.5 * in_i * w ** 2
+    ke_after = 0.5 * m_i * (v_x2 ** 2 + v_y2 ** 2) + 0.5 * in_i * w2 ** 2
+    record = {"time": live["t"], "x": live["x"], "y": live["y"], "theta": theta,
+              "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t,
+              "slip": slip, "energy_gain": ke_after > ke_before * (1 + 1e-12),
+              # a piece with along = +1 lies A sin(theta) BELOW the centre:
+              # it is the end at -L/2 on the axis
+              "end": np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)}
+    return record, v_y2 + w2 * r_x, ke_after
+
+
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
                e, mu, laws, out, status, count):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
@@ -366,44 +407,19 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         live["y"] += live["vy"] * tau - 0.5 * GRAVITY * tau ** 2
         live["vy"] -= GRAVITY * tau
         live["th"] += live["om"] * tau
-        # contact offset: mean over touching corners (flat landing: the middle)
-        hl, hw, rl, rw = live["hl"], live["hw"], live["rl"], live["rw"]
-        theta = live["th"]
-        # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
-        # upright or flat lands exactly so
-        s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
-        # the round part's support and slope (exactly the radius and 0 for
-        # a circle: capsules, spheres and cylinders skip the square root)
-        ellipse, e_slope = flight._ellipse(s, cs, rl, rw, rl != rw)
-        r_x = -(hl * cs * along - hw * s * across + e_slope)
-        r_y = -(hl * s * along + hw * cs * across + ellipse)
-        m_i, in_i = live["mass"], live["inertia"]
-        v_x, v_y, w = live["vx"], live["vy"], live["om"]
-        k_tt, k_nn, k_tn = impulse_matrix(m_i, in_i, r_x, r_y)
-        u_t = v_x - w * r_y
-        u_n = v_y + w * r_x
-        p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live["e"], live["mu"], live["law"])
-        v_x2 = v_x + p_t / m_i
-        v_y2 = v_y + p_n / m_i
-        w2 = w + (r_x * p_n - r_y * p_t) / in_i
-        ke_before = 0.5 * m_i * (v_x ** 2 + v_y ** 2) + 0.5 * in_i * w ** 2
-        ke_after = 0.5 * m_i * (v_x2 ** 2 + v_y2 ** 2) + 0.5 * in_i * w2 ** 2
-        rec = {"time": live["t"], "x": live["x"], "y": live["y"], "theta": theta,
-               "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t,
-               "slip": slip, "energy_gain": ke_after > ke_before * (1 + 1e-12),
-               # a piece with along = +1 lies A sin(theta) BELOW the centre: it
-               # is the end at -L/2 on the axis
-               "end": np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)}
-        for name, value in rec.items():
+        record, separating, ke_after = _strike(live, along, across)
+        del tau, along, across
+        for name, value in record.items():
             put(name, j, live, value)
         count[live["index"]] = j + 1
-        live["vx"], live["vy"], live["om"] = v_x2, v_y2, w2
+        live["vx"], live["vy"], live["om"] = record["vx"], record["vy"], record["spin"]
+        del record
         # does it fly on?
-        separating = v_y2 + w2 * r_x
         resting = separating <= RESTING_SPEED
-        above_rest = ke_after + m_i * GRAVITY * live["y"] - live["rest_energy"]
+        above_rest = ke_after + live["mass"] * GRAVITY * live["y"] - live["rest_energy"]
         settled = ~resting & (above_rest < settle_fraction * live["energy0"])
         live["impacting"] = ~(resting | settled)
+        del separating, ke_after, above_rest
         if settled.any():
             status[live["index"][settled]] = SETTLED
         if resting.any():

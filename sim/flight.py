@@ -666,12 +666,33 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     bottom = np.maximum.reduce([yc - d for yc, d in zip(y_ends, d_ends)])
     top = np.maximum.reduce([yc + d for yc, d in zip(y_ends, d_ends)])
 
-    # lowest point: the kinks either side of the apex and the upright time
-    # between them are exact candidates inside the window
-    t_0, t_1, t_2 = quarters
+    cos_lo, cos_hi = sc_ends[0][1], sc_ends[1][1]
+    # sign of sin(phi) on the half turn before the apex's (the apex's has
+    # the other sign)
+    sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
+    # working memory: what the polishes below no longer need goes first
+    del disc, t_lo, spinning, apex_turn, first, sc_ends, y_ends, d_ends
+    bottom = _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, quarters, t_from, t_hi, bottom)
+    top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
+                        t_hi, cos_lo, cos_hi, top)
+    return centre, bottom, top
+
+
+def _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, times, t_from, t_hi, best):
+    """Lowest-point peaks of capsules and spheres (:func:`_capsule_peaks`):
+    ``best`` (the window ends' heights on entry) raised to the kinks and
+    upright time of the apex's half turn (``times``: flat, upright, flat),
+    then to the two pieces between them where their chord bounds beat it.
+    """
+    def centre_at(t):
+        return y + t * (vy - 0.5 * GRAVITY * t)
+
+    # the kinks either side of the apex and the upright time between them
+    # are exact candidates inside the window
+    t_0, t_1, t_2 = times
     upright = half_long + radius
     for t, d in ((t_0, radius), (t_1, upright), (t_2, radius)):
-        bottom = np.maximum(bottom, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
+        best = np.maximum(best, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
     table = np.empty((4, 2, y.size))  # per piece: bound, lo, hi, polish start
     end_speed = np.abs(omega) * half_long
     forwards = omega > 0
@@ -690,20 +711,13 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
         t_kink = t_a if j == 0 else t_b
         rise = (vy - GRAVITY * t_kink) * (1.0 - 2.0 * (forwards != (j == 0))) - end_speed
         np.add(bound, NO_PIECE * ((hi <= lo) | (rise <= 0)), out=table[0, j])
-    # sign of sin(phi) on the half turn before the apex's (the apex's has
-    # the other sign)
-    sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
     amp = -sign0 * half_long  # A signed as sin(phi) on the apex's half turn
     y_r = y - radius
     # the upright end of piece 0 (flat to upright) is its later end when
     # the body turns forwards; of piece 1 (upright to flat), its earlier end
-    bottom = _settle(table[0], bottom, PEAK_SLACK, lambda sel, p_sel: _polish_capsule_bottom(
+    return _settle(table[0], best, PEAK_SLACK, lambda sel, p_sel: _polish_capsule_bottom(
         y_r[sel], vy[sel], theta[sel], omega[sel], amp[sel], table[1, p_sel, sel], table[2, p_sel, sel],
-        table[3, p_sel, sel], forwards[sel] != (p_sel == 1), bottom[sel]))
-
-    top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
-                        t_hi, sc_ends[0][1], sc_ends[1][1], top)
-    return centre, bottom, top
+        table[3, p_sel, sel], forwards[sel] != (p_sel == 1), best[sel]))
 
 
 def _polish(y, vy, theta, omega, profile, rounded, rounded_any, four, lo, hi, start, sign, steps):
@@ -785,6 +799,28 @@ def _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, time
     not needed: the kinks point down and a bump's middle is below the
     bump's maximum).
     """
+    # per bump (the neighbour, then the apex's): bound, then lo, hi and
+    # start of the polish (one array, so that picking each body's bump is
+    # one gather)
+    table = _capsule_top_bumps(y, vy, omega, inv_omega, half_long, radius, sign0, times, t_apex, t_from, t_hi,
+                               cos_lo, cos_hi)
+    y_r = y + radius
+
+    def polish(sel, p_sel):
+        lo, hi, start = table[1:, p_sel, sel]
+        # A signed as sin(phi) on the bump
+        amp = half_long[sel] * (sign0[sel] * (1.0 - 2.0 * (p_sel == 1)))
+        return _polish_capsule_top(y_r[sel], vy[sel], theta[sel], omega[sel], amp, lo, hi, start, best[sel],
+                                   max_steps)
+
+    return _settle(table[0], best, PEAK_SLACK, polish)
+
+
+def _capsule_top_bumps(y, vy, omega, inv_omega, half_long, radius, sign0, times, t_apex, t_from, t_hi, cos_lo,
+                       cos_hi):
+    """Per bump of :func:`_capsule_tops` (the neighbour, then the apex's),
+    stacked: the bound (``NO_PIECE`` where the maximum is not inside), and
+    the polish's bracket ``lo``, ``hi`` and start."""
     wa = omega * half_long
     fast = np.abs(wa)
     w2a = omega * wa
@@ -813,9 +849,6 @@ def _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, time
     shared = np.where(at_0, t_0, t_2)
     middle = shared + delta
     bumps = ((shared, middle, middle + delta), times)
-    # per bump (the neighbour, then the apex's): bound, then lo, hi and
-    # start of the polish (one array, so that picking each body's bump is
-    # one gather)
     table = np.empty((4, 2, y.size))
     bounds = table[0]
     for j, (t_a, t_m, t_b) in enumerate(bumps):
@@ -834,16 +867,7 @@ def _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, time
         bound = y_top + vertex * (vy - 0.5 * GRAVITY * vertex) - kappa * off * off
         np.add(bound, NO_PIECE * ~inner, out=bounds[j])
         np.clip(start_0 + start_1 * t_m, lo, hi, out=start)
-    y_r = y + radius
-
-    def polish(sel, p_sel):
-        lo, hi, start = table[1:, p_sel, sel]
-        # A signed as sin(phi) on the bump
-        amp = half_long[sel] * (sign0[sel] * (1.0 - 2.0 * (p_sel == 1)))
-        return _polish_capsule_top(y_r[sel], vy[sel], theta[sel], omega[sel], amp, lo, hi, start, best[sel],
-                                   max_steps)
-
-    return _settle(bounds, best, PEAK_SLACK, polish)
+    return table
 
 
 def _retire(done, out, live, state):
