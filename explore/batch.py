@@ -116,7 +116,8 @@ def _row_errors(frame, law):
     return errors, kinds, laws
 
 
-def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=32768, progress=None):
+def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
+              progress=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 
     Rows that cannot be simulated appear once, with ``impact`` empty and the
