@@ -126,6 +126,13 @@ def _pick(mask, a, b):
     return a * mask + b * ~mask
 
 
+def _clip(a, lo, hi, out=None):
+    """``np.clip(a, lo, hi)``, bit for bit (it is ``minimum(maximum(a,
+    lo), hi)``, NaN included), at half the cost: ``np.clip`` takes ~1.5 ns
+    per element here, the two calls ~0.7."""
+    return np.minimum(np.maximum(a, lo), hi, out=out)
+
+
 def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     """Time to the first contact of each body with the floor ``y = 0``.
 
@@ -155,22 +162,40 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
     out_t = np.full(n, np.nan)
     hl, hw, rl, rw = profile
     rounded_any = bool(np.any(rl != rw))
-    # exact far-field start: a centre above d_high cannot touch before it
-    # falls back to d_high
-    t0 = fall_time(vy, y - d_high) * (y > d_high)
     curv = GRAVITY + omega * omega * d2
     # every per-body number in one array, so that dropping the bodies that
     # have found their contact is one gather; theta / 2 and omega / 2 for
     # the tangent half-angle (exact halvings, so the angle is bit for bit
     # (theta + omega t) / 2); the flat-face and ellipse rows only where
-    # the batch has such bodies
-    rows = [y, vy, 0.5 * theta, 0.5 * omega, d_high, 2.0 * curv, 1.0 / curv, curv - GRAVITY,
-            hl, omega * hl, rl, np.arange(n, dtype=float), t0]
+    # the batch has such bodies (each row written in place: no stacking
+    # copy)
+    rows = np.empty((13 + 2 * four + 2 * rounded_any, n))
+    rows[0], rows[1] = y, vy
+    np.multiply(0.5, theta, out=rows[2])
+    np.multiply(0.5, omega, out=rows[3])
+    rows[4] = d_high
+    np.multiply(2.0, curv, out=rows[5])
+    np.divide(1.0, curv, out=rows[6])
+    np.subtract(curv, GRAVITY, out=rows[7])
+    rows[8] = hl
+    np.multiply(omega, hl, out=rows[9])
+    rows[10] = rl
+    rows[11] = np.arange(n)
     if four:
-        rows += [hw, omega * hw]
+        rows[13] = hw
+        np.multiply(omega, hw, out=rows[14])
     if rounded_any:
-        rows += [rw, (rl != rw).astype(float)]
-    rows = np.stack(rows)
+        rows[-2] = rw
+        np.not_equal(rl, rw, out=rows[-1])
+    # exact far-field start: a centre above d_high cannot touch before it
+    # falls back to d_high (worked out only where there are such bodies:
+    # after an impact there are none)
+    high = np.flatnonzero(y > d_high)
+    if 4 * high.size > n:
+        np.multiply(fall_time(vy, y - d_high), y > d_high, out=rows[12])
+    else:
+        rows[12] = 0.0
+        rows[12, high] = fall_time(vy[high], y[high] - d_high[high])
     T = 12  # the row holding the time
     # Bodies that have found their contact stay in ``rows`` (frozen: their
     # step is zeroed) until they are an eighth of it: a gather of all rows
@@ -295,16 +320,20 @@ def _touching(y, vy, theta, omega, profile, time, four, rounded_any):
         base_gap, base_slope = yt - rl, vy - gt
     gaps, slopes = _corner_pieces(base_gap, base_slope, hl * s, (omega * hl) * c,
                                   (hw * c, (omega * hw) * s) if four else None)
-    corners = CORNERS if four else CORNERS[:2]
     # a piece that does not touch ranks a kilometre lower: the lowest
     # touching piece wins, and without one (rounding at a sure step's end)
     # the lowest piece
     ranks = [gap + 1e3 * ((gap >= CONTACT_GAP) | (slope >= 0)) for gap, slope in zip(gaps, slopes)]
+    if not four:
+        # the two ends (across +1 both): one strikes (along +-1) or both (0)
+        lowest = np.minimum(*ranks) + TIE_GAP
+        along = np.subtract(ranks[0] <= lowest, ranks[1] <= lowest, dtype=float)
+        return found * along, found * 1.0
     lowest = np.minimum.reduce(ranks) + TIE_GAP
     count = np.zeros(t.size)
     sum_along = np.zeros(t.size)
     sum_across = np.zeros(t.size)
-    for (along, across), rank in zip(corners, ranks):
+    for (along, across), rank in zip(CORNERS, ranks):
         tied = rank <= lowest
         count += tied
         sum_along += along * tied
@@ -402,7 +431,7 @@ def _piece_slopes(profile, four):
 def _best_on(t_lo, t_hi, y, vy, slope, t0, d0):
     """Largest ``y + vy t - g t^2/2 + d0 + slope (t - t0)`` on ``[t_lo, t_hi]``
     and where it is: a parabola, so the vertex clipped to the piece."""
-    t = np.clip((vy + slope) * (1.0 / GRAVITY), t_lo, t_hi)
+    t = _clip((vy + slope) * (1.0 / GRAVITY), t_lo, t_hi)
     return y + t * (vy - 0.5 * GRAVITY * t) + d0 + slope * (t - t0), t
 
 
@@ -493,12 +522,12 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
     rounded = rl != rw
     rounded_any = bool(np.any(rounded))
     n = y.size
-    t_apex = np.clip(vy * (1.0 / GRAVITY), 0.0, duration)
+    t_apex = _clip(vy * (1.0 / GRAVITY), 0.0, duration)
     centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
     spread = d_high - d_low
     disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - spread - y), 0.0))
-    t_lo = np.clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
-    t_hi = np.clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_lo = _clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_hi = _clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
 
     def centre_at(t):
         return y + t * (vy - 0.5 * GRAVITY * t)
@@ -571,8 +600,8 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
                 rise_a = vy - GRAVITY * t_a + omega * slope_a
                 rise_b = vy - GRAVITY * t_b + omega * slope_b
                 drop = rise_a - rise_b
-                share = np.clip(rise_a / (drop + (drop == 0)), 0.0, 1.0)
-                start = np.clip(t_a + share * (t_b - t_a), lo, hi)
+                share = _clip(rise_a / (drop + (drop == 0)), 0.0, 1.0)
+                start = _clip(t_a + share * (t_b - t_a), lo, hi)
             if concave and sign > 0:
                 # below both end tangents: y + d <= y + d_end + omega d'_end (t - t_end)
                 bound_a, _ = _best_on(lo, hi, y, vy, omega * slope_a, t_a, d_a)
@@ -580,7 +609,7 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
                 bound = np.minimum(bound_a, bound_b)
             if rounded_any:
                 end_depth = np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b)
-                loose = centre_at(np.clip(t_apex, lo, hi)) + end_depth
+                loose = centre_at(_clip(t_apex, lo, hi)) + end_depth
                 # an ellipse's depth is not concave: h may have two local
                 # maxima on a piece, and the middle is the safer start (of
                 # an empty piece, a finite stand-in)
@@ -636,12 +665,12 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     (:func:`_polish_capsule_bottom`). The top point takes
     :func:`_capsule_tops`.
     """
-    t_apex = np.clip(vy * (1.0 / GRAVITY), 0.0, duration)
+    t_apex = _clip(vy * (1.0 / GRAVITY), 0.0, duration)
     centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
     # the window where the centre is within A (= d_high - d_low) of its peak
     disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - half_long - y), 0.0))
-    t_lo = np.clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
-    t_hi = np.clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_lo = _clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_hi = _clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
 
     def centre_at(t):
         return y + t * (vy - 0.5 * GRAVITY * t)
@@ -862,11 +891,11 @@ def _capsule_top_bumps(y, vy, omega, inv_omega, half_long, radius, sign0, times,
         rise = ((vy - GRAVITY * lo) + fast) + inner_lo[j] * (first < t_from)
         fall = ((vy - GRAVITY * hi) - fast) + inner_hi[j] * (last > t_hi)
         inner = (hi > lo) & (rise > 0) & (fall < 0)
-        vertex = np.clip(vertex_0 + vertex_1 * t_m, lo, hi)
+        vertex = _clip(vertex_0 + vertex_1 * t_m, lo, hi)
         off = vertex - t_m
         bound = y_top + vertex * (vy - 0.5 * GRAVITY * vertex) - kappa * off * off
         np.add(bound, NO_PIECE * ~inner, out=bounds[j])
-        np.clip(start_0 + start_1 * t_m, lo, hi, out=start)
+        _clip(start_0 + start_1 * t_m, lo, hi, out=start)
     return table
 
 
@@ -961,7 +990,7 @@ def _polish_capsule_bottom(y_r, vy, theta, omega, amp, lo, hi, t, upright_hi, be
         curve = omega2 * far - GRAVITY  # >= h'' on the bracket
         # max of Q on [lo, hi]: at an end, or at Q's vertex if Q is concave
         flat = np.minimum(curve, -1e-12)
-        vertex = np.clip(t - slope / flat, lo, hi)
+        vertex = _clip(t - slope / flat, lo, hi)
         bound = height
         for at in (lo, hi, vertex):
             dt = at - t
