@@ -388,8 +388,9 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         if live["index"].size == 0:
             break
         prof = (live["hl"], live["hw"], live["rl"], live["rw"])
+        # after the last impact only the flight's length is wanted
         tau, along, across = flight.next_contact(live["y"], live["vy"], live["th"], live["om"], prof,
-                                                 live["d2"], live["d_high"])
+                                                 live["d2"], live["d_high"], strikes=j < k)
         failed = np.isnan(tau)
         any_failed = bool(failed.any())
         if j > 0:

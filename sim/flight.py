@@ -133,7 +133,7 @@ def _clip(a, lo, hi, out=None):
     return np.minimum(np.maximum(a, lo), hi, out=out)
 
 
-def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
+def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400, strikes=True):
     """Time to the first contact of each body with the floor ``y = 0``.
 
     Parameters
@@ -148,14 +148,18 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
         :func:`curvature_bound` and the upper bound of :func:`depth_range`.
     max_iterations : int
         Conservative-advancement steps before a body is given up as failed.
+    strikes : bool
+        Also say which pieces strike (False: only the time is wanted, as
+        for the flight after a drop's last impact).
 
     Returns
     -------
     time : numpy.ndarray
         Time to contact [s]; NaN where the search failed.
-    along, across : numpy.ndarray
+    along, across : numpy.ndarray or None
         Mean corner signs of the touching pieces: ``(+-1, +-1)`` for one
-        corner, 0 along the axis for a flat landing on both ends.
+        corner, 0 along the axis for a flat landing on both ends (None
+        without ``strikes``).
     """
     n = y.size
     four = bool(np.any(profile[1] > 0))
@@ -276,6 +280,8 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400):
         if finished:
             step = step * alive
         t += step
+    if not strikes:
+        return out_t, None, None
     along, across = _touching(y, vy, theta, omega, profile, out_t, four, rounded_any)
     return out_t, along, across
 
