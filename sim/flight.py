@@ -192,14 +192,11 @@ def next_contact(y, vy, theta, omega, profile, d2, d_high, max_iterations=400, s
         rows[-2] = rw
         np.not_equal(rl, rw, out=rows[-1])
     # exact far-field start: a centre above d_high cannot touch before it
-    # falls back to d_high (worked out only where there are such bodies:
-    # after an impact there are none)
+    # falls back to d_high (worked out only for such bodies: after an
+    # impact there are none)
     high = np.flatnonzero(y > d_high)
-    if 4 * high.size > n:
-        np.multiply(fall_time(vy, y - d_high), y > d_high, out=rows[12])
-    else:
-        rows[12] = 0.0
-        rows[12, high] = fall_time(vy[high], y[high] - d_high[high])
+    rows[12] = 0.0
+    rows[12, high] = fall_time(vy[high], y[high] - d_high[high])
     T = 12  # the row holding the time
     # Bodies that have found their contact stay in ``rows`` (frozen: their
     # step is zeroed) until they are an eighth of it: a gather of all rows
@@ -520,6 +517,38 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     return out
 
 
+def _centre_at(y, vy, t):
+    """Height of the centre ``t`` into the flight. [m]"""
+    return y + t * (vy - 0.5 * GRAVITY * t)
+
+
+def _peak_window(y, vy, duration, spread):
+    """The clipped apex ``t_apex``, the centre's peak there, and the window
+    ``[t_lo, t_hi]`` where the centre is within ``spread`` of it: only
+    there can a point of the body peak (its depth varies by less). [s],
+    [m], [s], [s]"""
+    t_apex = _clip(vy * (1.0 / GRAVITY), 0.0, duration)
+    centre = _centre_at(y, vy, t_apex)
+    disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - spread - y), 0.0))
+    t_lo = _clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
+    t_hi = _clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
+    return t_apex, centre, t_lo, t_hi
+
+
+def _apex_turn(theta, omega, t_apex, t_lo):
+    """Whether each body spins, ``1 / omega`` (0 for a body that does not
+    spin), the window's start
+    for the breakpoints and pieces (infinity for a body that does not spin:
+    no breakpoints, no pieces) and the half turn holding the apex (``phi``
+    in ``[k pi, (k + 1) pi)``, as ``k``). Below 1e-9 rad/s the depth moves
+    by under 1e-9 of the body size over a second of flight: such a body
+    counts as not spinning (its apex is the peak)."""
+    spinning = np.abs(omega) > 1e-9
+    inv_omega = spinning / (omega + ~spinning)
+    t_from = np.where(spinning, t_lo, np.inf)
+    return spinning, inv_omega, t_from, np.floor((theta + omega * t_apex) * (1.0 / np.pi))
+
+
 def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps):
     """:func:`flight_peaks` for any body (three half turns, every kind of
     piece)."""
@@ -528,24 +557,12 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
     rounded = rl != rw
     rounded_any = bool(np.any(rounded))
     n = y.size
-    t_apex = _clip(vy * (1.0 / GRAVITY), 0.0, duration)
-    centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
-    spread = d_high - d_low
-    disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - spread - y), 0.0))
-    t_lo = _clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
-    t_hi = _clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
-
-    def centre_at(t):
-        return y + t * (vy - 0.5 * GRAVITY * t)
+    t_apex, centre, t_lo, t_hi = _peak_window(y, vy, duration, d_high - d_low)
 
     offsets, depths = _breakpoints(profile, four)
     kinds = len(offsets)
-    # below 1e-9 rad/s the depth moves by under 1e-9 of the body size over a
-    # second of flight: count it as not spinning (the apex is the peak)
-    spinning = np.abs(omega) > 1e-9
-    inv_omega = spinning / (omega + ~spinning)
+    _, inv_omega, t_from, apex_turn = _apex_turn(theta, omega, t_apex, t_lo)
     # the half turn holding the apex, and one on either side
-    apex_turn = np.floor((theta + omega * t_apex) * (1.0 / np.pi))
     first = (apex_turn - 1.0) * np.pi
     times, marks = [], []
     for turn in range(3):
@@ -554,9 +571,9 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
             marks.append(depth)
     times.append((first + 3 * np.pi - theta) * inv_omega)
     marks.append(depths[0])
-    # a body that does not spin has no breakpoints and no pieces: a window
-    # starting at infinity leaves its marks outside and its pieces empty
-    t_from = np.where(spinning, t_lo, np.inf)
+    # a body that does not spin has no breakpoints and no pieces: its
+    # window starting at infinity leaves its marks outside and its pieces
+    # empty
     pieces = []  # (lo, hi, t_a, t_b, d_a, d_b, kind) per piece, clipped to the window
     for i in range(3 * kinds):
         t_a, t_b = times[i], times[i + 1]
@@ -574,10 +591,10 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
 
     ends = (t_lo, t_apex, t_hi)
     d_ends = [_depth_terms(theta + omega * t, profile, rounded, rounded_any, four, False) for t in ends]
-    y_ends = [centre_at(t_lo), centre, centre_at(t_hi)]
+    y_ends = [_centre_at(y, vy, t_lo), centre, _centre_at(y, vy, t_hi)]
     # breakpoints inside the window are exact candidates, free of trigonometry
     # (adding NO_PIECE absorbs any height; adding -0.0 changes none)
-    y_marks = [centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi)) for t in times]
+    y_marks = [_centre_at(y, vy, t) + NO_PIECE * ((t < t_from) | (t > t_hi)) for t in times]
     # adding this sends a piece that does not exist to NO_PIECE (and adds -0.0
     # to one that does)
     missing = [NO_PIECE * (hi <= lo) for lo, hi, *_ in pieces]
@@ -615,7 +632,7 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
                 bound = np.minimum(bound_a, bound_b)
             if rounded_any:
                 end_depth = np.maximum(d_a, d_b) if sign > 0 else -np.minimum(d_a, d_b)
-                loose = centre_at(_clip(t_apex, lo, hi)) + end_depth
+                loose = _centre_at(y, vy, _clip(t_apex, lo, hi)) + end_depth
                 # an ellipse's depth is not concave: h may have two local
                 # maxima on a piece, and the middle is the safer start (of
                 # an empty piece, a finite stand-in)
@@ -671,22 +688,9 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     (:func:`_polish_capsule_bottom`). The top point takes
     :func:`_capsule_tops`.
     """
-    t_apex = _clip(vy * (1.0 / GRAVITY), 0.0, duration)
-    centre = y + t_apex * (vy - 0.5 * GRAVITY * t_apex)
     # the window where the centre is within A (= d_high - d_low) of its peak
-    disc = np.sqrt(np.maximum(vy * vy - 2 * GRAVITY * (centre - half_long - y), 0.0))
-    t_lo = _clip((vy - disc) * (1.0 / GRAVITY), 0.0, duration)
-    t_hi = _clip((vy + disc) * (1.0 / GRAVITY), 0.0, duration)
-
-    def centre_at(t):
-        return y + t * (vy - 0.5 * GRAVITY * t)
-
-    # as in _general_peaks: under 1e-9 rad/s a body counts as not spinning,
-    # and its window starts at infinity (no kinks, no pieces)
-    spinning = np.abs(omega) > 1e-9
-    inv_omega = spinning / (omega + ~spinning)
-    t_from = np.where(spinning, t_lo, np.inf)
-    apex_turn = np.floor((theta + omega * t_apex) * (1.0 / np.pi))
+    t_apex, centre, t_lo, t_hi = _peak_window(y, vy, duration, half_long)
+    spinning, inv_omega, t_from, apex_turn = _apex_turn(theta, omega, t_apex, t_lo)
     first = (apex_turn - 1.0) * np.pi
     # the flat, upright and flat times phi = turn pi + k pi / 2, k = 0, 1,
     # 2, of the half turn holding the apex
@@ -695,7 +699,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     # does not spin (whose depth stays d_ends[0]; a spinning body's apex
     # lies on the pieces below)
     sc_ends = [sincos(theta + omega * t) for t in (t_lo, t_hi)]
-    y_ends = [centre_at(t_lo), centre_at(t_hi), centre + NO_PIECE * spinning]
+    y_ends = [_centre_at(y, vy, t_lo), _centre_at(y, vy, t_hi), centre + NO_PIECE * spinning]
     d_ends = [half_long * np.abs(s) + radius for s, _ in sc_ends]
     d_ends.append(d_ends[0])
     bottom = np.maximum.reduce([yc - d for yc, d in zip(y_ends, d_ends)])
@@ -706,7 +710,7 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     # the other sign)
     sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
     # working memory: what the polishes below no longer need goes first
-    del disc, t_lo, spinning, apex_turn, first, sc_ends, y_ends, d_ends
+    del t_lo, spinning, apex_turn, first, sc_ends, y_ends, d_ends
     bottom = _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, quarters, t_from, t_hi, bottom)
     top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
                         t_hi, cos_lo, cos_hi, top)
@@ -719,15 +723,12 @@ def _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, times, t_fro
     upright time of the apex's half turn (``times``: flat, upright, flat),
     then to the two pieces between them where their chord bounds beat it.
     """
-    def centre_at(t):
-        return y + t * (vy - 0.5 * GRAVITY * t)
-
     # the kinks either side of the apex and the upright time between them
     # are exact candidates inside the window
     t_0, t_1, t_2 = times
     upright = half_long + radius
     for t, d in ((t_0, radius), (t_1, upright), (t_2, radius)):
-        best = np.maximum(best, (centre_at(t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
+        best = np.maximum(best, (_centre_at(y, vy, t) + NO_PIECE * ((t < t_from) | (t > t_hi))) - d)
     table = np.empty((4, 2, y.size))  # per piece: bound, lo, hi, polish start
     end_speed = np.abs(omega) * half_long
     forwards = omega > 0
@@ -868,8 +869,8 @@ def _capsule_top_bumps(y, vy, omega, inv_omega, half_long, radius, sign0, times,
     start_0, start_1 = vy * inv_middle, w2a * inv_middle
     y_top = y + (half_long + radius)
     # d' = sigma A cos(phi) at the window's ends (sigma of the neighbour)
-    turn_lo = (sign0 * wa) * cos_lo
-    turn_hi = (sign0 * wa) * cos_hi
+    signed = sign0 * wa
+    turn_lo, turn_hi = signed * cos_lo, signed * cos_hi
     # what to add to |omega| A for the inward slope inside a bump: the
     # neighbour's sigma, then the apex bump's (the other sign)
     inner_lo = (turn_lo - fast, -turn_lo - fast)
