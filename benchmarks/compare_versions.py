@@ -19,6 +19,8 @@ import sys
 import tempfile
 import time
 
+from explore.cli import _positive_int  # the CLI's own check: a whole number >= 1
+
 
 def load(checkout, name):
     """Import ``checkout/sim`` as package ``name``."""
@@ -41,9 +43,12 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("first")
     parser.add_argument("second")
-    parser.add_argument("--drops", type=int, default=131072)
-    parser.add_argument("--repeat", type=int, default=15)
+    parser.add_argument("--drops", type=_positive_int(None), default=131072)
+    parser.add_argument("--repeat", type=_positive_int(None), default=15)
     args = parser.parse_args()
+    for checkout in (args.first, args.second):
+        if not os.path.isdir(os.path.join(checkout, "sim")):
+            parser.error(f"checkout must be a folder holding sim/, got {checkout!r}")
     runs = []
     for label, checkout in (("first", args.first), ("second", args.second)):
         module = load(checkout, f"sim_{label}")
