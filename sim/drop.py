@@ -30,6 +30,7 @@ import numpy as np
 from . import flight
 from ._memory import keep_freed_memory
 from .flight import GRAVITY
+from .limits import FRICTION, RESTITUTION
 from .impact import LAW_CODE, impulse_matrix, law_codes, routh_impact
 from .shapes import FLAT_TOLERANCE, Shape, depth
 
@@ -110,12 +111,8 @@ class Contact:
     law: str | tuple = "energetic"
 
     def __post_init__(self):
-        e = _array("restitution", self.restitution)
-        mu = _array("friction", self.friction)
-        if np.any((e < 0) | (e > 1)):
-            raise ValueError(f"restitution must be in [0, 1], got {e[(e < 0) | (e > 1)].flat[0]}")
-        if np.any(mu < 0):
-            raise ValueError(f"friction must be >= 0, got {mu[mu < 0].flat[0]}")
+        RESTITUTION.check("restitution", self.restitution)
+        FRICTION.check("friction", self.friction)
         law_codes(self.law, np.size(self.law) if not isinstance(self.law, str) else 1)
 
 

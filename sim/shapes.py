@@ -31,8 +31,11 @@ All numbers in SI units; angles in radians.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import ClassVar
 
 import numpy as np
+
+from .limits import DENSITY, POSITIVE_SIZE, SIZE_OR_ZERO, Interval
 
 #: Below this |sin| or |cos| the rectangle part counts as exactly flat on the
 #: floor (both ends, or the whole flat face, touch at once). ``cos(pi/2)`` is
@@ -89,11 +92,53 @@ def contact_offset(theta, half_long, half_wide, round_long, round_wide):
 
 
 @dataclass(frozen=True)
+class Dimension:
+    """One dimension a shape is built from, as its class declares it.
+
+    Parameters
+    ----------
+    name : str
+        Keyword of the shape's constructor and batch-table column
+        (``"length"``, ``"radius"``).
+    meaning : str
+        What it measures on this shape, for help texts and messages.
+    allowed : Interval
+        What the model can compute (errors outside it).
+    plausible : tuple of float
+        ``(low, high)`` a real part or rig lies in [m]; outside it a value
+        is probably typed in the wrong unit (warnings, not errors).
+    """
+
+    name: str
+    meaning: str
+    allowed: Interval = POSITIVE_SIZE
+    plausible: tuple = (5e-5, 0.25)
+
+
+#: Every shape class that can be named, by its ``kind``; filled as the
+#: classes are defined (see :meth:`Shape.__init_subclass__`).
+SHAPES = {}
+
+
+@dataclass(frozen=True)
 class Shape:
     """Base of all shapes: four profile numbers plus mass properties.
 
     Subclasses set the profile in ``__post_init__`` from their own
     dimensions. Dimensions may be arrays (one body per element).
+
+    A subclass declares, once, everything the other layers read:
+
+    ``kind``
+        The name in study files, batch tables and the command line.
+    ``dimensions``
+        Its :class:`Dimension` s (constructor keywords, meaning, allowed and
+        plausible ranges); ``length`` among them means a study may give
+        ``length`` or ``aspect_ratio``.
+    ``aspect_ratio_allowed``
+        The overall length / diameter it can have.
+    ``from_aspect_ratio``
+        The rule from aspect ratio and diameter to its dimensions.
     """
 
     density: float | np.ndarray
@@ -104,7 +149,46 @@ class Shape:
     mass: np.ndarray = field(init=False, repr=False)
     inertia: np.ndarray = field(init=False, repr=False)
 
-    kind = "shape"
+    kind: ClassVar[str] = "shape"
+    dimensions: ClassVar[tuple] = ()
+    aspect_ratio_allowed: ClassVar[Interval] = Interval(0.0, float("inf"), closed="right")
+    #: Listed in :data:`SHAPES` (False for helper classes such as mixed batches).
+    named: ClassVar[bool] = True
+
+    def __init_subclass__(cls, **kwargs):
+        super().__init_subclass__(**kwargs)
+        if cls.named:
+            SHAPES[cls.kind] = cls
+
+    @classmethod
+    def has_length(cls):
+        """True when the shape has a length of its own besides its radius."""
+        return any(d.name == "length" for d in cls.dimensions)
+
+    @classmethod
+    def dimension(cls, name):
+        """The :class:`Dimension` called ``name``."""
+        return next(d for d in cls.dimensions if d.name == name)
+
+    @classmethod
+    def from_dimensions(cls, *, density, **sizes):
+        """Build from keyword sizes, ignoring the ones this shape has not
+        (a sphere takes no ``length``)."""
+        return cls(density=density, **{d.name: sizes[d.name] for d in cls.dimensions})
+
+    @classmethod
+    def from_aspect_ratio(cls, aspect_ratio, diameter, density):
+        """Shape of overall length / diameter ``aspect_ratio`` and ``diameter`` [m]."""
+        raise NotImplementedError
+
+    @classmethod
+    def from_diameter(cls, diameter, density, *, aspect_ratio=None, length=None):
+        """Build from a diameter [m] and either an aspect ratio or the length
+        [m] (as :attr:`dimensions` defines it); the way study files describe
+        a body."""
+        if aspect_ratio is not None:
+            return cls.from_aspect_ratio(aspect_ratio, diameter, density)
+        return cls.from_dimensions(density=density, length=length, radius=np.asarray(diameter, dtype=float) / 2)
 
     def _set(self, **values):
         for key, value in values.items():
@@ -140,20 +224,21 @@ class Shape:
 
     def with_mass(self, mass):
         """Same shape scaled in density so that its mass is ``mass`` [kg]."""
-        return type(self)(**{**self._dimensions(), "density": self.density * np.asarray(mass) / self.mass})
-
-    def _dimensions(self):
-        raise NotImplementedError
+        sizes = {d.name: getattr(self, d.name) for d in self.dimensions}
+        return type(self)(**sizes, density=self.density * np.asarray(mass) / self.mass)
 
 
-def _check_positive(name, value, allow_zero=False):
-    value = np.asarray(value, dtype=float)
-    bad = ~np.isfinite(value) | ((value < 0) if allow_zero else (value <= 0))
-    if np.any(bad):
-        first = value[bad].flat[0] if value.ndim else float(value)
-        bound = ">= 0" if allow_zero else "> 0"
-        raise ValueError(f"{name} must be a finite number {bound}, got {first}")
-    return value
+def _checked(shape):
+    """The shape's declared dimensions and its density, checked, as arrays."""
+    sizes = {d.name: d.allowed.check(d.name, getattr(shape, d.name)) for d in shape.dimensions}
+    return sizes, DENSITY.check("density", shape.density)
+
+
+def _check_aspect_ratio(cls, aspect_ratio):
+    message = cls.aspect_ratio_allowed.problem(f"aspect_ratio of a {cls.kind}", aspect_ratio)
+    if message is not None:
+        raise ValueError(message)
+    return np.asarray(aspect_ratio, dtype=float)
 
 
 @dataclass(frozen=True)
@@ -168,11 +253,13 @@ class Capsule(Shape):
     length: float | np.ndarray = 0.0
     radius: float | np.ndarray = 0.0
     kind = "capsule"
+    dimensions = (Dimension("length", "cylindrical part between the caps", SIZE_OR_ZERO, (0.0, 0.5)),
+                  Dimension("radius", "cap radius"))
+    aspect_ratio_allowed = Interval(1.0, float("inf"))
 
     def __post_init__(self):
-        length = _check_positive("length", self.length, allow_zero=True)
-        radius = _check_positive("radius", self.radius)
-        rho = _check_positive("density", self.density)
+        sizes, rho = _checked(self)
+        length, radius = sizes["length"], sizes["radius"]
         m_cyl = rho * np.pi * radius ** 2 * length
         m_caps = rho * 4.0 / 3.0 * np.pi * radius ** 3
         inertia = (m_cyl * (3 * radius ** 2 + length ** 2) / 12
@@ -180,15 +267,10 @@ class Capsule(Shape):
         self._set(half_long=length / 2, half_wide=np.zeros_like(length), round_long=radius,
                   round_wide=radius, mass=m_cyl + m_caps, inertia=inertia)
 
-    def _dimensions(self):
-        return {"length": self.length, "radius": self.radius}
-
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
         """Capsule of overall length / diameter ``aspect_ratio`` (>= 1)."""
-        aspect_ratio = np.asarray(aspect_ratio, dtype=float)
-        if np.any(aspect_ratio < 1):
-            raise ValueError(f"aspect_ratio of a capsule must be >= 1, got {np.min(aspect_ratio)}")
+        aspect_ratio = _check_aspect_ratio(cls, aspect_ratio)
         radius = np.asarray(diameter, dtype=float) / 2
         return cls(density=density, length=(aspect_ratio - 1) * 2 * radius, radius=radius)
 
@@ -199,22 +281,21 @@ class Sphere(Shape):
 
     radius: float | np.ndarray = 0.0
     kind = "sphere"
+    dimensions = (Dimension("radius", "radius"),)
+    aspect_ratio_allowed = Interval(1.0, 1.0)
 
     def __post_init__(self):
-        radius = _check_positive("radius", self.radius)
-        rho = _check_positive("density", self.density)
+        sizes, rho = _checked(self)
+        radius = sizes["radius"]
         mass = rho * 4.0 / 3.0 * np.pi * radius ** 3
         zero = np.zeros_like(radius)
         self._set(half_long=zero, half_wide=zero, round_long=radius, round_wide=radius,
                   mass=mass, inertia=0.4 * mass * radius ** 2)
 
-    def _dimensions(self):
-        return {"radius": self.radius}
-
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
-        if np.any(np.asarray(aspect_ratio) != 1):
-            raise ValueError("aspect_ratio of a sphere must be 1")
+        """Sphere of ``diameter``; the aspect ratio must be 1."""
+        _check_aspect_ratio(cls, aspect_ratio)
         return cls(density=density, radius=np.asarray(diameter, dtype=float) / 2)
 
 
@@ -230,24 +311,21 @@ class Spheroid(Shape):
     length: float | np.ndarray = 0.0
     radius: float | np.ndarray = 0.0
     kind = "spheroid"
+    dimensions = (Dimension("length", "full length along the axis", plausible=(5e-5, 0.5)),
+                  Dimension("radius", "equatorial radius"))
 
     def __post_init__(self):
-        length = _check_positive("length", self.length)
-        radius = _check_positive("radius", self.radius)
-        rho = _check_positive("density", self.density)
-        a = length / 2
+        sizes, rho = _checked(self)
+        a, radius = sizes["length"] / 2, sizes["radius"]
         mass = rho * 4.0 / 3.0 * np.pi * a * radius ** 2
         zero = np.zeros_like(a)
         self._set(half_long=zero, half_wide=zero, round_long=a, round_wide=radius,
                   mass=mass, inertia=mass * (a ** 2 + radius ** 2) / 5)
 
-    def _dimensions(self):
-        return {"length": self.length, "radius": self.radius}
-
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
-        radius = np.asarray(diameter, dtype=float) / 2
-        return cls(density=density, length=np.asarray(aspect_ratio, dtype=float) * 2 * radius, radius=radius)
+        """Spheroid of full length ``aspect_ratio * diameter``."""
+        return _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density)
 
 
 @dataclass(frozen=True)
@@ -261,26 +339,27 @@ class Cylinder(Shape):
     length: float | np.ndarray = 0.0
     radius: float | np.ndarray = 0.0
     kind = "cylinder"
+    dimensions = (Dimension("length", "full length along the axis", plausible=(5e-5, 0.5)),
+                  Dimension("radius", "radius"))
 
     def __post_init__(self):
-        length = _check_positive("length", self.length)
-        radius = _check_positive("radius", self.radius)
-        rho = _check_positive("density", self.density)
+        sizes, rho = _checked(self)
+        length, radius = sizes["length"], sizes["radius"]
         mass = rho * np.pi * radius ** 2 * length
         zero = np.zeros_like(length)
         self._set(half_long=length / 2, half_wide=radius, round_long=zero, round_wide=zero,
                   mass=mass, inertia=mass * (3 * radius ** 2 + length ** 2) / 12)
 
-    def _dimensions(self):
-        return {"length": self.length, "radius": self.radius}
-
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
-        radius = np.asarray(diameter, dtype=float) / 2
-        return cls(density=density, length=np.asarray(aspect_ratio, dtype=float) * 2 * radius, radius=radius)
+        """Cylinder of full length ``aspect_ratio * diameter``."""
+        return _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density)
 
 
-SHAPES = {cls.kind: cls for cls in (Capsule, Sphere, Spheroid, Cylinder)}
+def _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density):
+    aspect_ratio = _check_aspect_ratio(cls, aspect_ratio)
+    radius = np.asarray(diameter, dtype=float) / 2
+    return cls(density=density, length=aspect_ratio * 2 * radius, radius=radius)
 
 
 def make_shape(kind, *, length=0.0, radius, density):
@@ -291,9 +370,7 @@ def make_shape(kind, *, length=0.0, radius, density):
     """
     if kind not in SHAPES:
         raise ValueError(f"shape must be one of {', '.join(SHAPES)}, got {kind!r}")
-    if kind == "sphere":
-        return Sphere(density=density, radius=radius)
-    return SHAPES[kind](density=density, length=length, radius=radius)
+    return SHAPES[kind].from_dimensions(density=density, length=length, radius=radius)
 
 
 @dataclass(frozen=True)
@@ -307,6 +384,7 @@ class MixedShapes(Shape):
     kinds: tuple = ()
     parts: tuple = ()
     kind = "mixed"
+    named = False
 
     def __post_init__(self):
         values = {name: np.concatenate([np.broadcast_to(getattr(p, name), np.shape(p.mass)).ravel()
