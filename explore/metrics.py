@@ -12,9 +12,10 @@ Metric columns (one row per drop):
     some bounce rises above the release height of the reference point; a
     later bounce rises above the first.
 ``value``
-    the study's metric for this drop: the chosen ratio, or 0/1 for a flag.
+    the study's metric for this drop, as its kind computes it
+    (:data:`explore.metric_kinds.METRIC_KINDS`): a ratio, or 0/1 for a flag.
 ``event``
-    the metric's event: ratio above ``metric.threshold``, or the flag.
+    the metric's event: value above ``metric.threshold``, or the flag.
 ``energy_bound_ratio``
     highest the centre could ever rise / release height of the centre [-].
 ``energy_gain``
@@ -29,20 +30,15 @@ import pandas as pd
 
 import sim
 
+from .metric_kinds import METRIC_KINDS, Outcome
 from .study import COLUMN, Study
 
 
 def _shape(study, frame):
-    body = study.body
-    diameter = frame[COLUMN["diameter"]].to_numpy()
-    density = frame[COLUMN["density"]].to_numpy()
-    cls = sim.SHAPES[body.shape]
-    if body.shape == "sphere":
-        return cls(density=density, radius=diameter / 2)
-    if body.aspect_ratio is not None:
-        return cls.from_aspect_ratio(frame[COLUMN["aspect_ratio"]].to_numpy(), diameter, density)
-    return sim.make_shape(body.shape, length=frame[COLUMN["length"]].to_numpy(), radius=diameter / 2,
-                          density=density)
+    def column(name):
+        return frame[COLUMN[name]].to_numpy() if COLUMN[name] in frame else None
+    return study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
+                                 length=column("length"))
 
 
 def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
@@ -58,9 +54,6 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     inside = centre - shape.depth(angle) <= 0
     ok = ~inside
     ratios = np.zeros((n, impacts))
-    best_later = np.zeros(n)
-    beats_release = np.zeros(n, bool)
-    beats_first = np.zeros(n, bool)
     bound = np.full(n, np.nan)
     gain = np.zeros(n, bool)
     status = np.full(n, "inside floor", dtype=object)
@@ -75,29 +68,17 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
                               out[COLUMN["friction"]].to_numpy()[idx], study.contact.law)
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1))
         b = sim.group_bounces(result, study.run.merge_ms / 1e3)
-        ref = study.metric.reference
-        r = np.nan_to_num(b.ratio[ref], nan=0.0)
-        ratios[idx] = r
-        best_later[idx] = r[:, 1:].max(axis=1) if impacts > 1 else 0.0
-        beats_release[idx] = r.max(axis=1) > 1.0
-        beats_first[idx] = best_later[idx] > r[:, 0]
+        ratios[idx] = np.nan_to_num(b.ratio[study.metric.reference], nan=0.0)
         bound[idx] = result.energy_bound / result.release_height("centre")
         gain[idx] = result.energy_gain.any(axis=1)
         status[idx] = np.asarray(sim.STATUS, dtype=object)[result.status]
         bounces_seen[idx] = b.count
     metric = study.metric
-    if metric.kind == "ratio":
-        if metric.bounce == "later":
-            value = best_later
-        elif metric.bounce == "first":
-            value = ratios[:, 0]
-        else:
-            value = ratios[:, metric.bounce - 1]
-        event = value > metric.threshold
-    else:
-        event = beats_release if metric.kind == "beats_release" else beats_first
-        value = event.astype(float)
-    value = np.where(inside, np.nan, value)
+    kind = METRIC_KINDS[metric.kind]
+    outcome = Outcome(ratios)
+    best_later, beats_release, beats_first = outcome.best_later, outcome.beats_release, outcome.beats_first
+    value = np.where(inside, np.nan, kind.value(outcome, metric))
+    event = kind.event(value, metric)
     for k in range(impacts):
         out[f"ratio_{k + 1}"] = np.where(inside, np.nan, ratios[:, k])
     out["best_later_ratio"] = np.where(inside, np.nan, best_later)

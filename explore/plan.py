@@ -34,7 +34,7 @@ _STREAM = {stage: i + 1 for i, stage in enumerate(STAGES)}
 
 def distribution(name, q) -> Distribution:
     """The distribution a quantity is drawn from (a grid counts as uniform)."""
-    _, _, low, high, _ = QUANTITIES[name]
+    low, high = QUANTITIES[name].allowed.low, QUANTITIES[name].allowed.high
     if q.grid is not None:
         return Distribution("uniform", low=q.grid.low, high=q.grid.high, mean=None, sd=None)
     if q.uniform is not None:
@@ -113,7 +113,7 @@ def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
         col = COLUMN[name]
         if half > 0:
             frame[col] = frame[col] + rng.uniform(-half, half, len(frame))
-    frame[COLUMN["height"]] = np.maximum(frame[COLUMN["height"]], QUANTITIES["height"][2])
+    frame[COLUMN["height"]] = np.maximum(frame[COLUMN["height"]], QUANTITIES["height"].allowed.low)
     return frame
 
 

@@ -25,7 +25,7 @@ img{max-width:100%;border:1px solid #ddd;margin:.4em 0}figure{margin:1em 0}figca
 
 
 def _describe(name, q):
-    unit = QUANTITIES[name][1]
+    unit = QUANTITIES[name].unit
     u = "" if unit == "-" else f" {unit}"
     if q.kind == "fixed":
         return "fixed", f"{q.value:g}{u}"
@@ -79,7 +79,7 @@ def write_report(outcome, art, seconds) -> Path:
             ("release height measured to", "", study.release.height_of)]
     for name, q in study.quantities().items():
         kind, text = _describe(name, q)
-        rows.append((QUANTITIES[name][4], kind, text))
+        rows.append((QUANTITIES[name].text, kind, text))
     summary = pd.DataFrame(rows, columns=["quantity", "how", "values"])
     tol = study.tolerance
     parts += ["<h2>Study</h2>", _table(summary),

@@ -17,37 +17,19 @@ import math
 from pathlib import Path
 from typing import Literal, Optional, Union
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, ValidationInfo, field_validator, model_validator
+from pydantic_core import InitErrorDetails, PydanticCustomError
 from ruamel.yaml import YAML
 from ruamel.yaml.error import MarkedYAMLError
 
+import sim
+from sim.limits import Interval, number_text
+
 from .errors import InputError
+from .metric_kinds import METRIC_KINDS
+from .quantities import COLUMN, QUANTITIES, label
 
-#: Every quantity a study can fix, sweep or draw: section, unit, allowed
-#: range (inclusive), axis label. The ranges are plausibility limits for a
-#: drop rig, not physics limits; ``check`` names them in its messages.
-QUANTITIES = {
-    "aspect_ratio": ("body", "-", 0.05, 50.0, "aspect ratio (overall length / diameter)"),
-    "length": ("body", "m", 0.0, 5.0, "length"),
-    "diameter": ("body", "m", 1e-5, 2.0, "diameter"),
-    "density": ("body", "kg/m^3", 1.0, 30000.0, "density"),
-    "restitution": ("contact", "-", 0.0, 1.0, "restitution"),
-    "friction": ("contact", "-", 0.0, 5.0, "friction coefficient"),
-    "height": ("release", "m", 1e-5, 100.0, "release height"),
-    "angle": ("release", "deg", -360.0, 360.0, "release angle"),
-    "spin": ("release", "rad/s", -10000.0, 10000.0, "release spin"),
-    "vx": ("release", "m/s", -100.0, 100.0, "release velocity x"),
-    "vy": ("release", "m/s", -100.0, 100.0, "release velocity y"),
-}
-#: Column name of each quantity in result tables (the unit in the name).
-COLUMN = {name: name if unit == "-" else f"{name}_{unit.replace('/', '_').replace('^', '')}"
-          for name, (_, unit, *_rest) in QUANTITIES.items()}
-
-
-def label(name):
-    """Axis label with unit, e.g. ``release angle [deg]``."""
-    section, unit, low, high, text = QUANTITIES[name]
-    return f"{text} [{unit}]"
+__all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"]
 
 
 class Strict(BaseModel):
@@ -141,13 +123,20 @@ class Quantity(Strict):
 def _check_range(name, q):
     if q is None:
         return q
-    _, unit, low, high, _ = QUANTITIES[name]
-    lo, hi = q.span()
-    for v in (lo, hi):
-        if not (low <= v <= high):
-            unit_text = "" if unit == "-" else f" {unit}"
-            raise ValueError(f"must lie in [{low:g}, {high:g}]{unit_text}, got {v:g}")
+    allowed = QUANTITIES[name].allowed
+    for value in q.span():
+        if not allowed.contains(value):
+            raise ValueError(f"must be {allowed.describe()}, got {number_text(value)}")
     return q
+
+
+def _problems(title, problems):
+    """A ValidationError carrying ``(location, message)`` problems at their
+    own field locations (pydantic prefixes the enclosing sections)."""
+    return ValidationError.from_exception_data(title, [
+        InitErrorDetails(type=PydanticCustomError("study", "{message}", {"message": message}), loc=tuple(loc),
+                         input=None)
+        for loc, message in problems])
 
 
 class _Section(Strict):
@@ -160,15 +149,51 @@ class _Section(Strict):
 
 
 class Body(_Section):
-    shape: Literal["capsule", "sphere", "spheroid", "cylinder"] = "capsule"
-    diameter: Quantity
-    aspect_ratio: Optional[Quantity] = None
-    length: Optional[Quantity] = None
-    density: Quantity = Quantity(value=1200.0)
+    """The body: its shape (:data:`sim.SHAPES`), size and density.
+
+    Give ``aspect_ratio`` or ``length`` (as the shape defines it) for every
+    shape with a length of its own; a sphere takes neither.
+    """
+
+    shape: Literal[tuple(sim.SHAPES)] = Field("capsule", description="shape of the body")
+    diameter: Quantity = Field(description="extent across the axis [m]")
+    aspect_ratio: Optional[Quantity] = Field(None, description="overall length / diameter [-]")
+    length: Optional[Quantity] = Field(None, description="length as the shape defines it [m]")
+    density: Quantity = Field(Quantity(value=1200.0), description="density of the solid [kg/m^3]")
+
+    @field_validator("aspect_ratio", "length", mode="after")
+    @classmethod
+    def _fits_the_shape(cls, q, info: ValidationInfo):
+        shape = sim.SHAPES.get(info.data.get("shape"))
+        if q is None or shape is None:
+            return q
+        if not shape.has_length():
+            raise ValueError(f"a {shape.kind} has no {info.field_name}; remove it")
+        allowed = shape.aspect_ratio_allowed if info.field_name == "aspect_ratio" \
+            else shape.dimension("length").allowed
+        for value in q.span():
+            if not allowed.contains(value):
+                words = shape.dimension("length").meaning if info.field_name == "length" else "aspect ratio"
+                raise ValueError(f"a {shape.kind}'s {info.field_name} ({words}) must be {allowed.describe()}, "
+                                 f"got {number_text(value)}")
+        return q
+
+    @model_validator(mode="after")
+    def _one_length(self):
+        shape = sim.SHAPES[self.shape]
+        given = [n for n in ("aspect_ratio", "length") if getattr(self, n) is not None]
+        if shape.has_length() and len(given) != 1:
+            raise ValueError(f"a {shape.kind} needs exactly one of aspect_ratio or length"
+                             + (f"; got {' and '.join(given)}" if given else ""))
+        return self
+
+    def make_shape(self, diameter, density, aspect_ratio=None, length=None):
+        """The :class:`sim.Shape` of one or many drops from their column values."""
+        return sim.SHAPES[self.shape].from_diameter(diameter, density, aspect_ratio=aspect_ratio, length=length)
 
 
 class Contact(_Section):
-    law: Literal["energetic", "poisson", "newton"] = "energetic"
+    law: Literal[tuple(sim.LAWS)] = "energetic"
     restitution: Quantity
     friction: Quantity
 
@@ -185,9 +210,9 @@ class Release(_Section):
 class Metric(Strict):
     """What counts: the rebound ratio of a bounce, or one of two flags."""
 
-    kind: Literal["ratio", "beats_release", "beats_first"] = "ratio"
+    kind: Literal[tuple(METRIC_KINDS)] = "ratio"
     bounce: Union[int, str] = "later"
-    reference: Literal["centre", "bottom", "top"] = "centre"
+    reference: Literal[tuple(sim.REFERENCES)] = "centre"
     goal: Literal["seek", "avoid"] = "seek"
     threshold: float = Field(default=1.0, gt=0, le=10)
 
@@ -258,6 +283,10 @@ class RunSettings(Strict):
     merge_ms: float = Field(default=10.0, ge=0, le=1000)
 
 
+#: The sections of a study file that hold settings.
+SECTIONS = ("body", "contact", "release", "metric", "tolerance", "analyses", "run")
+
+
 class Study(Strict):
     name: str = Field(pattern=r"^[A-Za-z0-9][A-Za-z0-9_.-]*$", max_length=80)
     description: str = ""
@@ -269,10 +298,17 @@ class Study(Strict):
     analyses: Analyses = Analyses()
     run: RunSettings = RunSettings()
 
+    @model_validator(mode="after")
+    def _sections_agree(self):
+        problems = contradictions({name: getattr(self, name) for name in SECTIONS})
+        if problems:
+            raise _problems("Study", problems)
+        return self
+
     # ------------------------------------------------------------------
     def quantity(self, name):
-        section = QUANTITIES[name][0]
-        return getattr(getattr(self, section), name)
+        """The :class:`Quantity` called ``name`` (None where not given)."""
+        return getattr(getattr(self, QUANTITIES[name].section), name)
 
     def quantities(self):
         """All quantities given (name -> Quantity), in a fixed order."""
@@ -319,96 +355,64 @@ def changed_fields(old, new, path=()):
     return [] if old == new else [".".join(map(str, path))]
 
 
-def _get(data, *path):
-    for key in path:
-        if isinstance(data, dict) and key in data:
-            data = data[key]
-        elif isinstance(data, list) and isinstance(key, int) and 0 <= key < len(data):
-            data = data[key]
-        else:
-            return None
-    return data
+def contradictions(sections):
+    """Settings that contradict each other across sections, as (field
+    location, message).
 
-
-def _kind(q):
-    """'grid', 'fixed', a distribution name, or None for an unreadable quantity."""
-    if isinstance(q, (int, float)) and not isinstance(q, bool):
-        return "fixed"
-    if isinstance(q, dict):
-        keys = [k for k in ("value", "grid", "uniform", "normal", "log_uniform") if k in q]
-        return ("fixed" if keys[0] == "value" else keys[0]) if len(keys) == 1 else None
-    return None
-
-
-def _low(q):
-    if isinstance(q, (int, float)) and not isinstance(q, bool):
-        return float(q)
-    kind = _kind(q)
-    part = _get(q, kind) if kind not in (None, "fixed") else None
-    value = _get(q, "value") if kind == "fixed" else (_get(part, "low") if kind != "normal" else _get(part, "mean"))
-    return float(value) if isinstance(value, (int, float)) and not isinstance(value, bool) else None
-
-
-def cross_check(data):
-    """Settings that contradict each other, read from the plain file data so
-    that they are found even when some fields are invalid: a list of
-    (field path, message)."""
+    ``sections`` maps section names to validated sections; a section that
+    is missing (its own fields are wrong) is not judged, so that a file's
+    field mistakes and its contradictions are reported together.
+    """
+    known = {name: getattr(sections[spec.section], name) for name, spec in QUANTITIES.items()
+             if spec.section in sections}
+    gridded = [name for name, q in known.items() if q is not None and q.kind == "grid"]
+    varying = [name for name, q in known.items() if q is not None and q.varies]
+    gridded_text = ", ".join(gridded) or "none"
+    complete = all(section in sections for section in ("body", "contact", "release"))
     problems = []
-    if not isinstance(data, dict):
-        return problems
-    body = _get(data, "body") or {}
-    shape = _get(body, "shape") or "capsule"
-    if shape == "sphere":
-        for name in ("aspect_ratio", "length"):
-            if _get(body, name) is not None:
-                problems.append((("body", name), f"a sphere has no {name}; remove it"))
-    elif shape in ("capsule", "spheroid", "cylinder") and isinstance(body, dict):
-        given = [n for n in ("aspect_ratio", "length") if _get(body, n) is not None]
-        if len(given) != 1:
-            problems.append((("body",), f"a {shape} needs exactly one of aspect_ratio or length"
-                             + (f"; got {' and '.join(given)}" if given else "")))
-        low = _low(_get(body, "aspect_ratio"))
-        if shape == "capsule" and low is not None and low < 1:
-            problems.append((("body", "aspect_ratio"), "a capsule's aspect ratio must be >= 1 "
-                             f"(it is at least a sphere), got {low:g}"))
-        low = _low(_get(body, "length"))
-        if shape in ("spheroid", "cylinder") and low is not None and low <= 0:
-            problems.append((("body", "length"), f"a {shape}'s length must be > 0 m, got {low:g}"))
-    kinds = {name: _kind(_get(data, QUANTITIES[name][0], name)) for name in QUANTITIES}
-    gridded = [n for n, k in kinds.items() if k == "grid"]
-    varying = [n for n, k in kinds.items() if k not in (None, "fixed")]
-    analyses = _get(data, "analyses") or {}
-    for i, m in enumerate(_get(analyses, "maps") or []):
-        for axis in ("x", "y"):
-            name = _get(m, axis)
-            if name in QUANTITIES and name not in gridded:
-                problems.append((("analyses", "maps", i, axis), f"{name} is not swept on a grid; map axes must "
-                                 f"be grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
-        if _get(m, "x") is not None and _get(m, "x") == _get(m, "y"):
-            problems.append((("analyses", "maps", i, "y"), "x and y must differ"))
-    for i, c in enumerate(_get(analyses, "curves") or []):
-        name = _get(c, "x")
-        if name in QUANTITIES and name not in gridded:
-            problems.append((("analyses", "curves", i, "x"), f"{name} is not swept on a grid; curve axes must be "
-                             f"grid quantities (gridded here: {', '.join(gridded) or 'none'})"))
-    if _get(analyses, "sensitivity") is not None and len(varying) < 2:
-        problems.append((("analyses", "sensitivity"), "needs at least two quantities that vary (grid or "
-                         f"distribution), got {len(varying)}"))
-    wants_picks = _get(analyses, "picks") is not None
-    wants_robust = _get(analyses, "robustness") is not False
-    if (wants_picks or wants_robust) and not gridded:
-        problems.append((("analyses", "picks" if wants_picks else "robustness"),
-                         "picks and the robustness map need at least one grid quantity (set robustness: false "
-                         "for a ranking-only study)"))
-    bounce = _get(data, "metric", "bounce")
-    impacts = _get(data, "run", "impacts")
-    impacts = impacts if isinstance(impacts, int) else RunSettings().impacts
-    if isinstance(bounce, int) and not isinstance(bounce, bool) and bounce > impacts:
-        problems.append((("metric", "bounce"), f"bounce {bounce} can never be seen with run.impacts {impacts}; "
-                         "raise run.impacts"))
-    if _get(data, "run", "scheduler") is not None and _get(data, "run", "backend") != "dask":
+    analyses = sections.get("analyses")
+    if analyses is not None:
+        for i, spec in enumerate(analyses.maps):
+            for axis in ("x", "y"):
+                name = getattr(spec, axis)
+                if name in known and name not in gridded:
+                    problems.append((("analyses", "maps", i, axis), f"{name} is not swept on a grid; map axes "
+                                     f"must be grid quantities (gridded here: {gridded_text})"))
+            if spec.x == spec.y:
+                problems.append((("analyses", "maps", i, "y"), "x and y must differ"))
+        for i, spec in enumerate(analyses.curves):
+            if spec.x in known and spec.x not in gridded:
+                problems.append((("analyses", "curves", i, "x"), f"{spec.x} is not swept on a grid; curve axes "
+                                 f"must be grid quantities (gridded here: {gridded_text})"))
+        if complete and analyses.sensitivity is not None and len(varying) < 2:
+            problems.append((("analyses", "sensitivity"), "needs at least two quantities that vary (grid or "
+                             f"distribution), got {len(varying)}"))
+        if complete and (analyses.picks is not None or analyses.robustness) and not gridded:
+            problems.append((("analyses", "picks" if analyses.picks is not None else "robustness"),
+                             "picks and the robustness map need at least one grid quantity (set robustness: "
+                             "false for a ranking-only study)"))
+    metric, run = sections.get("metric"), sections.get("run")
+    if metric is not None and run is not None and isinstance(metric.bounce, int) and metric.bounce > run.impacts:
+        problems.append((("metric", "bounce"), f"bounce {metric.bounce} can never be seen with run.impacts "
+                         f"{run.impacts}; raise run.impacts"))
+    if run is not None and run.scheduler is not None and run.backend != "dask":
         problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
     return problems
+
+
+def _sections_alone(plain):
+    """The sections of a study file that validate on their own."""
+    out = {}
+    for name in SECTIONS:
+        model = Study.model_fields[name].annotation
+        value = plain.get(name) if isinstance(plain, dict) else None
+        try:
+            out[name] = model.model_validate(value) if value is not None else Study.model_fields[name].default
+        except ValidationError:
+            continue
+        if out[name] is None:
+            del out[name]
+    return out
 
 
 def check_size(study: Study):
@@ -534,7 +538,11 @@ def parse_study(text, filename="<study>") -> Study:
             loc = tuple(err["loc"])
             line, col = _position(data, loc)
             found.append((line, col, f"{_loc_text(loc)}: {_message(err)}"))
-    for loc, msg in cross_check(plain) + (check_size(study) if study is not None else []):
+        # the sections that are right on their own can still contradict each other
+        for loc, msg in contradictions(_sections_alone(plain)):
+            line, col = _position(data, loc)
+            found.append((line, col, f"{_loc_text(loc)}: {msg}"))
+    for loc, msg in (check_size(study) if study is not None else []):
         line, col = _position(data, loc)
         found.append((line, col, f"{_loc_text(loc)}: {msg}"))
     messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
@@ -546,8 +554,10 @@ def parse_study(text, filename="<study>") -> Study:
 _BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
 
 
-def _field_bounds(loc):
-    """(ge/gt, le/lt) declared on the model field at ``loc``, if any."""
+def _field_interval(loc):
+    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
+    on the model field at ``loc``, so that its message reads like every
+    other range's; None where the field declares none."""
     model, info = Study, None
     for key in loc:
         if isinstance(key, int):
@@ -558,20 +568,17 @@ def _field_bounds(loc):
         info = fields[key]
         annotation = info.annotation
         model = next((a for a in getattr(annotation, "__args__", (annotation,))
-                      if isinstance(a, type) and issubclass(a, BaseModel)), None)
-        if model is None:
-            model = annotation
+                      if isinstance(a, type) and issubclass(a, BaseModel)), annotation)
     if info is None:
         return None
-    low = high = None
-    for meta in info.metadata:
-        for name, side in (("ge", "["), ("gt", "(")):
-            if getattr(meta, name, None) is not None:
-                low = (side, getattr(meta, name))
-        for name, side in (("le", "]"), ("lt", ")")):
-            if getattr(meta, name, None) is not None:
-                high = (side, getattr(meta, name))
-    return low, high
+    bounds = {name: getattr(meta, name) for meta in info.metadata for name in ("ge", "gt", "le", "lt")
+              if getattr(meta, name, None) is not None}
+    if not bounds:
+        return None
+    low_closed, high_closed = "gt" not in bounds, "lt" not in bounds
+    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
+    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
+                    closed=closed[low_closed, high_closed])
 
 
 def _message(err):
@@ -582,18 +589,10 @@ def _message(err):
     if kind == "missing":
         return "required field is missing"
     if kind in _BOUND_WORDS:
-        bounds = _field_bounds(tuple(err["loc"]))
-        if bounds:
-            low, high = bounds
-            num = lambda v: str(v) if isinstance(v, int) else f"{v:g}"  # noqa: E731
-            if low and high:
-                text = f"in {low[0]}{num(low[1])}, {num(high[1])}{high[0]}"
-            elif low:
-                text = (">= " if low[0] == "[" else "> ") + num(low[1])
-            else:
-                text = ("<= " if high[0] == "]" else "< ") + num(high[1])
-            return f"must be {text}, got {err['input']!r}"
-    if "input" in err and kind != "value_error" and "got" not in msg:
+        interval = _field_interval(tuple(err["loc"]))
+        if interval is not None:
+            return f"must be {interval.describe()}, got {err['input']!r}"
+    if "input" in err and kind not in ("value_error", "study") and "got" not in msg:
         return f"{msg}, got {err['input']!r}"
     return msg
 

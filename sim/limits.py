@@ -24,6 +24,8 @@ def number_text(value):
     """A number as a person reads it: ``0.3``, ``1e-05``, ``inf``."""
     if isinstance(value, (bool, np.bool_)):
         return repr(bool(value))
+    if isinstance(value, (int, np.integer)):
+        return str(int(value))
     value = float(value)
     return "inf" if value == math.inf else "-inf" if value == -math.inf else f"{value:g}"
 
