@@ -13,23 +13,34 @@ import pandas as pd
 import sim
 from sim.impact import LAWS, SLIP_HISTORY
 
+from sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
+
 from .errors import InputError
+
+def _per_shape(dimension):
+    """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
+    return "; ".join(f"{kind}: {cls.dimension(dimension).meaning}" if dimension in
+                     [d.name for d in cls.dimensions] else f"{kind}: ignored" for kind, cls in sim.SHAPES.items())
+
 
 #: Input columns, their units, and default values (None: required).
 INPUT_COLUMNS = {
-    "shape": ("capsule | sphere | spheroid | cylinder", None),
-    "length": ("m; capsule: cylindrical part; spheroid, cylinder: full length; sphere: ignored", 0.0),
-    "radius": ("m; capsule: cap; spheroid: equatorial; cylinder, sphere: radius", None),
+    "shape": (" | ".join(sim.SHAPES), None),
+    "length": ("m; " + _per_shape("length"), 0.0),
+    "radius": ("m; " + _per_shape("radius"), None),
     "density": ("kg/m^3", None),
     "height": ("m, release height of the centre of mass", None),
     "angle": ("deg, counter-clockwise from +x to the axis", None),
     "spin": ("rad/s, counter-clockwise positive", 0.0),
     "vx": ("m/s", 0.0),
     "vy": ("m/s", 0.0),
-    "restitution": ("-, in [0, 1]", None),
-    "friction": ("-, >= 0", None),
-    "law": ("energetic | poisson | newton", None),
+    "restitution": ("-, " + RESTITUTION.describe(), None),
+    "friction": ("-, " + FRICTION.describe(), None),
+    "law": (" | ".join(LAWS), None),
 }
+#: Columns read as numbers for every row; the shapes' own dimensions
+#: (length, radius) are checked per shape, as each shape declares them.
+NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")
 
 #: Output columns (one row per drop and impact) and their units.
 OUTPUT_COLUMNS = {
@@ -93,24 +104,24 @@ def _row_errors(frame, law):
         bad = np.asarray(bad, dtype=bool) & (errors == "")
         errors[bad] = [message(i) for i in np.flatnonzero(bad)]
 
-    for column in ("length", "radius", "density", "height", "angle", "spin", "vx", "vy",
-                   "restitution", "friction"):
-        values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
-        raw = frame[column].to_numpy()
-        flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
-    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float)
-           for c in ("length", "radius", "density", "height", "restitution", "friction")}
+    def numbers(column):
+        return pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+
     kinds = frame["shape"].astype(str).str.strip().str.lower().to_numpy()
     flag(~np.isin(kinds, list(sim.SHAPES)),
          lambda i: f"shape must be one of {', '.join(sim.SHAPES)}, got {frame['shape'].iloc[i]!r}")
-    flag(num["radius"] <= 0, lambda i: f"radius must be > 0 m, got {num['radius'][i]}")
-    flag(num["density"] <= 0, lambda i: f"density must be > 0 kg/m^3, got {num['density'][i]}")
-    needs_length = np.isin(kinds, ["spheroid", "cylinder"])
-    flag(needs_length & (num["length"] <= 0), lambda i: f"length must be > 0 m for a {kinds[i]}, got {num['length'][i]}")
-    flag((kinds == "capsule") & (num["length"] < 0), lambda i: f"length must be >= 0 m for a capsule, got {num['length'][i]}")
-    flag((num["restitution"] < 0) | (num["restitution"] > 1),
-         lambda i: f"restitution must be in [0, 1], got {num['restitution'][i]}")
-    flag(num["friction"] < 0, lambda i: f"friction must be >= 0, got {num['friction'][i]}")
+    for kind, cls in sim.SHAPES.items():
+        for dimension in cls.dimensions:
+            values, raw = numbers(dimension.name), frame[dimension.name].to_numpy()
+            flag((kinds == kind) & ~dimension.allowed.contains(values),
+                 lambda i, d=dimension, v=values, r=raw: f"{d.name} of a {kinds[i]} ({d.meaning}) must be "
+                 f"{d.allowed.describe()}, got {_shown(r[i]) if np.isnan(v[i]) else number_text(v[i])}")
+    for column in NUMBERS:
+        values, raw = numbers(column), frame[column].to_numpy()
+        flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
+    for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION)):
+        values = numbers(column)
+        flag(~allowed.contains(values), lambda i, c=column, a=allowed, v=values: a.problem(c, v[i]))
     laws = frame["law"].fillna(law).astype(str).str.strip().str.lower().to_numpy() if "law" in frame else np.full(n, law)
     flag(~np.isin(laws, LAWS), lambda i: f"law must be one of {', '.join(LAWS)}, got {laws[i]!r}")
     return errors, kinds, laws

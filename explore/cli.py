@@ -51,25 +51,35 @@ def _positive_int(name, low=1):
     return convert
 
 
+def _per_shape(dimension):
+    """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
+    import sim
+    return "; ".join(f"{kind}: {cls.dimension(dimension).meaning}" for kind, cls in sim.SHAPES.items()
+                     if any(d.name == dimension for d in cls.dimensions))
+
+
 def build_parser():
+    import sim
+    from sim.limits import FRICTION, RESTITUTION
+
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
     sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
 
     # --- drop --------------------------------------------------------
     d = sub.add_parser("drop", help="simulate one drop, print its impacts and bounces, draw pictures")
-    d.add_argument("--shape", default="capsule", choices=["capsule", "sphere", "spheroid", "cylinder"])
+    d.add_argument("--shape", default="capsule", choices=list(sim.SHAPES))
     d.add_argument("--length", type=_finite("--length"), default=None,
-                   help="[m] capsule: cylindrical part; spheroid, cylinder: full length (default 0.014)")
+                   help=f"[m] {_per_shape('length')} (default 0.014)")
     d.add_argument("--radius", type=_finite("--radius"), default=None,
-                   help="[m] capsule: cap radius; spheroid: equatorial; cylinder, sphere: radius (default 0.0035)")
+                   help=f"[m] {_per_shape('radius')} (default 0.0035)")
     d.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
                    help="overall length / diameter, instead of --length (uses --radius)")
     d.add_argument("--density", type=_finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
     d.add_argument("--mass", type=_finite("--mass"), default=None, help="[kg] total mass, instead of --density")
-    d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help="[-] in [0, 1] (default 0.8)")
-    d.add_argument("--friction", type=_finite("--friction"), default=0.3, help="[-] Coulomb, >= 0 (default 0.3)")
-    d.add_argument("--law", default="energetic", choices=["energetic", "poisson", "newton"])
+    d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
+    d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
+    d.add_argument("--law", default="energetic", choices=sim.LAWS)
     d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
@@ -81,7 +91,7 @@ def build_parser():
     d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
     d.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0,
                    help="[ms] impacts closer than this make one visible bounce (default 10)")
-    d.add_argument("--reference", default="centre", choices=["centre", "bottom", "top"],
+    d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
     d.add_argument("--csv", type=Path, default=None, help="write the impact table to this CSV file")
     d.add_argument("--out", type=Path, default=Path("hopscape-drop"),
@@ -98,7 +108,7 @@ def build_parser():
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
     b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
-    b.add_argument("--law", default="energetic", choices=["energetic", "poisson", "newton"],
+    b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic)")
     b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
 
@@ -153,6 +163,7 @@ def _user_value_errors(call):
 
 def cmd_drop(args):
     import sim
+    from sim.limits import MASS
     from .batch import impact_table
     from .report_text import drop_report
 
@@ -161,18 +172,13 @@ def cmd_drop(args):
     radius = 0.0035 if args.radius is None else args.radius
 
     def build():
-        if args.aspect_ratio is not None:
-            if args.length is not None:
-                raise ValueError("give --length or --aspect-ratio, not both")
-            cls = sim.SHAPES[args.shape]
-            shape = cls.from_aspect_ratio(args.aspect_ratio, 2 * radius, args.density)
-        else:
-            length = 0.014 if args.length is None else args.length
-            shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density)
+        if args.aspect_ratio is not None and args.length is not None:
+            raise ValueError("give --length or --aspect-ratio, not both")
+        length = 0.014 if args.length is None else args.length
+        shape = sim.SHAPES[args.shape].from_diameter(2 * radius, args.density, aspect_ratio=args.aspect_ratio,
+                                                     length=length)
         if args.mass is not None:
-            if not args.mass > 0:
-                raise ValueError(f"--mass must be > 0 kg, got {args.mass}")
-            shape = shape.with_mass(args.mass)
+            shape = shape.with_mass(MASS.check("--mass", args.mass))
         release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of)
         contact = sim.Contact(args.restitution, args.friction, args.law)

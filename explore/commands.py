@@ -4,7 +4,6 @@ from __future__ import annotations
 import json
 import re
 import time
-from importlib import resources
 from pathlib import Path
 
 from .errors import InputError
@@ -111,8 +110,8 @@ def cmd_new(args):
     out = args.out or Path("studies") / f"{args.name}.yaml"
     if out.exists():
         raise InputError(f"{out} exists; choose another name or --out (nothing was overwritten)")
-    text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
+    from .study import template_text
     out.parent.mkdir(parents=True, exist_ok=True)
-    out.write_text(text.replace("name: NAME", f"name: {args.name}"), encoding="utf-8")
+    out.write_text(template_text(args.name), encoding="utf-8")
     print(f"wrote {out}; edit it, then: hopscape check {out} && hopscape run {out}")
     return 0

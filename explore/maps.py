@@ -15,22 +15,14 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
+from .metric_kinds import METRIC_KINDS  # noqa: E402
 from .plan import cell_coordinates  # noqa: E402
 from .study import COLUMN, Study, label  # noqa: E402
 
 
 def metric_words(study: Study):
-    """(what the value is, what the event is) in plain words."""
-    m = study.metric
-    point = {"centre": "centre", "bottom": "lowest point", "top": "top point"}[m.reference]
-    if m.kind == "ratio":
-        which = {"later": "best later bounce", "first": "first bounce"}.get(m.bounce, f"bounce {m.bounce}")
-        return (f"rebound ratio of the {which} ({point} height / its release height)",
-                f"{which} above {m.threshold:g} x the release height of the {point}")
-    if m.kind == "beats_release":
-        return (f"a bounce beats the release height of the {point}",
-                f"a bounce rises above the release height of the {point}")
-    return (f"a later bounce beats the first ({point})", f"a later bounce rises above the first ({point})")
+    """(what the value is, what the event is) in plain words, from the metric's kind."""
+    return METRIC_KINDS[study.metric.kind].words(study.metric)
 
 
 def energy_note(study: Study):
@@ -89,7 +81,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     base = folder / f"map-{x}-{y}"
     cells.to_csv(base.with_suffix(".csv"), index=False)
     value_words, event_words = metric_words(study)
-    show_probability = per_cell > 1 or study.metric.kind != "ratio"
+    show_probability = per_cell > 1 or METRIC_KINDS[study.metric.kind].is_flag
     column = "event_probability" if show_probability else "mean_value"
     xs, ys, z = _grid(cells, x, y, column)
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
@@ -143,7 +135,7 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     ax.fill_between(frame[col], frame["p10_value"], frame["p90_value"], color="#56B4E9", alpha=0.4,
                     label="10-90 % of drops (other quantities)")
     ax.plot(frame[col], frame["median_value"], color="#0072B2", lw=2, label="median")
-    if study.metric.kind == "ratio":
+    if not METRIC_KINDS[study.metric.kind].is_flag:
         ax.axhline(study.metric.threshold, color="#D55E00", ls="--",
                    label=f"ratio {study.metric.threshold:g}: the release height (left axis)")
     ax2 = ax.twinx()
@@ -152,7 +144,7 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     ax2.set_ylabel("probability of the event [-]", color="#009E73")
     ax.plot([], [], color="#009E73", ls=":", label=f"probability: {event_words}")
     ax.set_xlabel(label(x))
-    ax.set_ylabel("rebound ratio [-]" if study.metric.kind == "ratio" else "fraction of drops [-]")
+    ax.set_ylabel("fraction of drops [-]" if METRIC_KINDS[study.metric.kind].is_flag else "rebound ratio [-]")
     fig.text(0.01, 0.005, _wrap(f"Metric: {value_words}. {energy_note(study)}", 130), fontsize=7, va="bottom")
     fig.get_layout_engine().set(rect=(0, 0.08, 1, 0.92))
     ax.set_ylim(bottom=0)

@@ -21,15 +21,10 @@ def table(headers, rows):
     return "\n".join(lines)
 
 
-def _end_name(code, kind):
-    if kind in ("sphere", "spheroid"):
-        return "surface"
-    return {1: "end +", -1: "end -", 0: "flat"}[int(code)]
-
-
 def drop_report(shape, result, bounces, reference="centre"):
     """Impacts, bounces and the energy bound of drop 0, as text."""
     kind = getattr(shape, "kind", "body")
+    struck_names = getattr(shape, "struck_names", sim.Shape.struck_names)
     n = int(result.count[0])
     tb, rb, pb = result.energy_before()
     ta, ra, pa = result.energy_after()
@@ -37,7 +32,7 @@ def drop_report(shape, result, bounces, reference="centre"):
     for j in range(n):
         rows.append([
             j + 1, f"{result.time[0, j] * 1e3:.2f}", f"{wrap_degrees(result.theta[0, j]):.1f}",
-            _end_name(result.end[0, j], kind), SLIP_HISTORY[result.slip[0, j]],
+            struck_names[int(result.end[0, j])], SLIP_HISTORY[result.slip[0, j]],
             f"{result.vx[0, j]:+.3f}", f"{result.vy[0, j]:+.3f}", f"{result.spin[0, j]:+.1f}",
             f"{result.impulse_normal[0, j] * 1e3:.4f}",
             f"{(tb + rb + pb)[0, j] * 1e3:.4f}", f"{(ta + ra + pa)[0, j] * 1e3:.4f}",

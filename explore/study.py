@@ -14,6 +14,8 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+import string
+from importlib import resources
 from pathlib import Path
 from typing import Literal, Optional, Union
 
@@ -429,6 +431,16 @@ def grid_cells(study):
     for name in study.gridded():
         cells *= study.quantity(name).grid.steps
     return cells
+
+
+def template_text(name):
+    """The commented study template for ``hopscape new``, named ``name``,
+    with the choices of each kind filled in from their declarations."""
+    text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
+    laws = " | ".join(f"{law}{' (default)' if law == 'energetic' else ''}" for law in sim.LAWS)
+    return string.Template(text).substitute(
+        shapes=" | ".join(sim.SHAPES), laws=laws, metric_kinds=" | ".join(METRIC_KINDS),
+        references=" | ".join(sim.REFERENCES)).replace("name: NAME", f"name: {name}")
 
 
 # ----------------------------------------------------------------------

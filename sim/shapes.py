@@ -152,6 +152,9 @@ class Shape:
     kind: ClassVar[str] = "shape"
     dimensions: ClassVar[tuple] = ()
     aspect_ratio_allowed: ClassVar[Interval] = Interval(0.0, float("inf"), closed="right")
+    #: Name of the feature that strikes, by the impact's ``end`` code (+1 the
+    #: end the axis points to, -1 the other end, 0 the middle: lying flat).
+    struck_names: ClassVar[dict] = {1: "end +", -1: "end -", 0: "flat"}
     #: Listed in :data:`SHAPES` (False for helper classes such as mixed batches).
     named: ClassVar[bool] = True
 
@@ -256,6 +259,7 @@ class Capsule(Shape):
     dimensions = (Dimension("length", "cylindrical part between the caps", SIZE_OR_ZERO, (0.0, 0.5)),
                   Dimension("radius", "cap radius"))
     aspect_ratio_allowed = Interval(1.0, float("inf"))
+    struck_names = {1: "cap +", -1: "cap -", 0: "side"}
 
     def __post_init__(self):
         sizes, rho = _checked(self)
@@ -283,6 +287,7 @@ class Sphere(Shape):
     kind = "sphere"
     dimensions = (Dimension("radius", "radius"),)
     aspect_ratio_allowed = Interval(1.0, 1.0)
+    struck_names = dict.fromkeys((1, -1, 0), "surface")
 
     def __post_init__(self):
         sizes, rho = _checked(self)
@@ -313,6 +318,7 @@ class Spheroid(Shape):
     kind = "spheroid"
     dimensions = (Dimension("length", "full length along the axis", plausible=(5e-5, 0.5)),
                   Dimension("radius", "equatorial radius"))
+    struck_names = dict.fromkeys((1, -1, 0), "surface")
 
     def __post_init__(self):
         sizes, rho = _checked(self)
@@ -341,6 +347,7 @@ class Cylinder(Shape):
     kind = "cylinder"
     dimensions = (Dimension("length", "full length along the axis", plausible=(5e-5, 0.5)),
                   Dimension("radius", "radius"))
+    struck_names = {1: "rim +", -1: "rim -", 0: "flat face"}
 
     def __post_init__(self):
         sizes, rho = _checked(self)
