@@ -483,3 +483,60 @@ def test_make_shape_by_name():
         4 / 3 * np.pi * 0.003 ** 3, rel=1e-14)
     with pytest.raises(ValueError, match="shape must be one of"):
         sim.make_shape("cube", length=0.01, radius=0.003, density=1.0)
+
+
+# --- declarations: what each shape tells the other layers ------------------
+
+def test_registry_is_built_from_the_classes():
+    assert sim.SHAPES == {"capsule": sim.Capsule, "sphere": sim.Sphere, "spheroid": sim.Spheroid,
+                          "cylinder": sim.Cylinder}
+    assert "mixed" not in sim.SHAPES
+
+
+@pytest.mark.parametrize("kind", ["capsule", "spheroid", "cylinder"])
+def test_aspect_ratio_and_length_describe_the_same_body(kind):
+    # the length rule each class declares: overall length / diameter = aspect ratio
+    cls = sim.SHAPES[kind]
+    by_ratio = cls.from_diameter(0.006, 1100.0, aspect_ratio=3.5)
+    by_length = cls.from_diameter(0.006, 1100.0, length=by_ratio.length)
+    assert by_ratio.aspect_ratio == pytest.approx(3.5, rel=1e-14)
+    assert by_length.mass == by_ratio.mass and by_length.inertia == by_ratio.inertia
+
+
+def test_sphere_ignores_a_length_and_needs_aspect_ratio_one():
+    sphere = sim.Sphere.from_diameter(0.01, 1000.0, length=np.nan)
+    assert float(sphere.mass) == pytest.approx(1000.0 * np.pi / 6 * 0.01 ** 3, rel=1e-14)  # rho pi d^3 / 6
+    with pytest.raises(ValueError, match=r"aspect_ratio of a sphere must be 1, got 2"):
+        sim.Sphere.from_aspect_ratio(2.0, 0.01, 1000.0)
+
+
+@pytest.mark.parametrize("kind, value, message", [
+    ("capsule", -0.001, "length must be >= 0 m, got -0.001"),
+    ("cylinder", 0.0, "length must be > 0 m, got 0"),
+    ("spheroid", np.nan, "length must be > 0 m, got nan"),
+])
+def test_declared_dimension_ranges_are_what_the_classes_enforce(kind, value, message):
+    with pytest.raises(ValueError, match=message):
+        sim.make_shape(kind, length=value, radius=0.003, density=1000.0)
+
+
+def test_capsule_aspect_ratio_below_one_is_refused():
+    with pytest.raises(ValueError, match=r"aspect_ratio of a capsule must be >= 1, got 0\.5"):
+        sim.Capsule.from_aspect_ratio(0.5, 0.006, 1000.0)
+
+
+def test_every_shape_declares_its_dimensions_and_struck_features():
+    for kind, cls in sim.SHAPES.items():
+        names = [d.name for d in cls.dimensions]
+        assert "radius" in names, kind
+        assert set(cls.struck_names) == {1, -1, 0}, kind
+        for d in cls.dimensions:
+            low, high = d.plausible
+            assert 0 <= low < high and d.meaning, (kind, d.name)
+
+
+def test_with_mass_keeps_the_declared_dimensions():
+    capsule = sim.Capsule(length=0.01, radius=0.003, density=1000.0)
+    heavier = capsule.with_mass(2 * float(capsule.mass))
+    assert float(heavier.mass) == pytest.approx(2 * float(capsule.mass), rel=1e-14)
+    assert heavier.length == capsule.length and heavier.radius == capsule.radius

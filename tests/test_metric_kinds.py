@@ -1,0 +1,75 @@
+"""explore/metric_kinds.py: each metric kind's value, event and wording.
+
+The ratios below are hand-built (bounce heights over release height), so
+every expected value is read off the table by eye.
+"""
+import numpy as np
+import pytest
+
+from explore.errors import InputError
+from explore.metric_kinds import METRIC_KINDS, Outcome
+from explore.study import Metric, parse_study
+
+# three drops, three bounces each: rebound ratio of each bounce
+RATIOS = np.array([
+    [0.6, 1.3, 0.2],   # a later bounce beats the first and the release height
+    [0.9, 0.4, 0.0],   # the first bounce is the highest; nothing beats release
+    [1.1, 0.0, 0.0],   # one bounce only, above release
+])
+
+
+def test_outcome_reads_the_ratio_table():
+    outcome = Outcome(RATIOS)
+    assert outcome.best_later.tolist() == [1.3, 0.4, 0.0]
+    assert outcome.of_bounce("first").tolist() == [0.6, 0.9, 1.1]
+    assert outcome.of_bounce(3).tolist() == [0.2, 0.0, 0.0]
+    assert outcome.beats_release.tolist() == [True, False, True]
+    assert outcome.beats_first.tolist() == [True, False, False]
+
+
+def test_one_bounce_has_no_later_bounce():
+    assert Outcome(np.array([[1.4], [0.2]])).best_later.tolist() == [0.0, 0.0]
+
+
+@pytest.mark.parametrize("kind, settings, value, event", [
+    ("ratio", {"bounce": "later", "threshold": 1.0}, [1.3, 0.4, 0.0], [True, False, False]),
+    ("ratio", {"bounce": "first", "threshold": 0.8}, [0.6, 0.9, 1.1], [False, True, True]),
+    ("ratio", {"bounce": 2, "threshold": 0.3}, [1.3, 0.4, 0.0], [True, True, False]),
+    ("beats_release", {}, [1.0, 0.0, 1.0], [True, False, True]),
+    ("beats_first", {}, [1.0, 0.0, 0.0], [True, False, False]),
+])
+def test_each_kind_gives_its_value_and_event(kind, settings, value, event):
+    metric = Metric(kind=kind, **settings)
+    declared = METRIC_KINDS[kind]
+    got = declared.value(Outcome(RATIOS), metric)
+    assert got.tolist() == value
+    assert declared.event(got, metric).tolist() == event
+
+
+def test_flags_ignore_the_threshold():
+    metric = Metric(kind="beats_release", threshold=5.0)
+    value = METRIC_KINDS["beats_release"].value(Outcome(RATIOS), metric)
+    assert METRIC_KINDS["beats_release"].event(value, metric).tolist() == [True, False, True]
+
+
+def test_a_drop_inside_the_floor_is_never_an_event():
+    metric = Metric(kind="ratio", threshold=1.0)
+    assert METRIC_KINDS["ratio"].event(np.array([np.nan, 2.0]), metric).tolist() == [False, True]
+
+
+def test_words_name_the_point_and_the_bounce():
+    value, event = METRIC_KINDS["ratio"].words(Metric(kind="ratio", bounce=3, reference="bottom", threshold=1.5))
+    assert "bounce 3" in value and "lowest point" in value
+    assert event == "bounce 3 above 1.5 x the release height of the lowest point"
+    assert "top point" in METRIC_KINDS["beats_first"].words(Metric(kind="beats_first", reference="top"))[1]
+
+
+def test_the_study_schema_offers_exactly_the_declared_kinds():
+    text = ("name: t\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 0.8, friction: 0.2}\n"
+            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\nmetric: {kind: highest}\n")
+    with pytest.raises(InputError) as caught:
+        parse_study(text, "t.yaml")
+    (message,) = caught.value.messages
+    assert message.startswith("t.yaml:5:10: metric.kind: ")
+    for name in METRIC_KINDS:
+        assert repr(name) in message
