@@ -59,6 +59,7 @@ def _per_shape(dimension):
 
 
 def build_parser():
+    """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     import sim
     from sim.limits import FRICTION, RESTITUTION
 
@@ -125,6 +126,8 @@ def build_parser():
 
 
 def main(argv=None):
+    """Run the ``hopscape`` command with ``argv``; return the exit code
+    (0 success, 1 other failure, 2 bad input, 130 interrupted)."""
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
@@ -162,6 +165,7 @@ def _user_value_errors(call):
 
 
 def cmd_drop(args):
+    """``hopscape drop``: one drop, its impacts and bounces as tables, three pictures."""
     import sim
     from sim.limits import MASS
     from .batch import impact_table
@@ -205,6 +209,7 @@ def cmd_drop(args):
 
 
 def cmd_batch(args):
+    """``hopscape batch``: many drops from a table, one output row per drop and impact."""
     from .batch import read_table, run_batch, write_table
 
     if args.merge_ms < 0:
@@ -228,6 +233,7 @@ def cmd_batch(args):
 
 
 def cmd_bench(args):
+    """``hopscape bench``: drops per second on the benchmark population."""
     from .bench import run_bench
 
     result = run_bench(args.drops, args.jobs, args.repeat)

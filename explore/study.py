@@ -35,10 +35,14 @@ __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"
 
 
 class Strict(BaseModel):
+    """Base of every study model: unknown fields are errors; values are frozen."""
+
     model_config = ConfigDict(extra="forbid", frozen=True)
 
 
 class Uniform(Strict):
+    """Uniform between ``low`` and ``high`` (in the quantity's unit)."""
+
     low: float
     high: float
 
@@ -56,6 +60,8 @@ class Grid(Uniform):
 
 
 class LogUniform(Uniform):
+    """Uniform in the logarithm between ``low`` > 0 and ``high``."""
+
     low: float = Field(gt=0)
 
 
@@ -102,12 +108,14 @@ class Quantity(Strict):
 
     @property
     def kind(self):
+        """``"fixed"``, ``"grid"``, ``"uniform"``, ``"normal"`` or ``"log_uniform"``."""
         for k in ("value", "grid", "uniform", "normal", "log_uniform"):
             if getattr(self, k) is not None:
                 return "fixed" if k == "value" else k
 
     @property
     def varies(self):
+        """True unless the quantity is fixed."""
         return self.kind != "fixed"
 
     def span(self):
@@ -141,6 +149,12 @@ def _problems(title, problems):
         for loc, message in problems])
 
 
+def _quantity_field(name, *default):
+    """A section's field for quantity ``name``, described from its declaration."""
+    spec = QUANTITIES[name]
+    return Field(*default, description=f"{spec.label}, {spec.allowed.describe()}")
+
+
 class _Section(Strict):
     @field_validator("*", mode="after")
     @classmethod
@@ -158,10 +172,10 @@ class Body(_Section):
     """
 
     shape: Literal[tuple(sim.SHAPES)] = Field("capsule", description="shape of the body")
-    diameter: Quantity = Field(description="extent across the axis [m]")
-    aspect_ratio: Optional[Quantity] = Field(None, description="overall length / diameter [-]")
-    length: Optional[Quantity] = Field(None, description="length as the shape defines it [m]")
-    density: Quantity = Field(Quantity(value=1200.0), description="density of the solid [kg/m^3]")
+    diameter: Quantity = _quantity_field("diameter")
+    aspect_ratio: Optional[Quantity] = _quantity_field("aspect_ratio", None)
+    length: Optional[Quantity] = _quantity_field("length", None)
+    density: Quantity = _quantity_field("density", Quantity(value=1200.0))
 
     @field_validator("aspect_ratio", "length", mode="after")
     @classmethod
@@ -195,28 +209,33 @@ class Body(_Section):
 
 
 class Contact(_Section):
-    law: Literal[tuple(sim.LAWS)] = "energetic"
-    restitution: Quantity
-    friction: Quantity
+    """The floor contact: impact law, restitution and friction."""
+
+    law: Literal[tuple(sim.LAWS)] = Field("energetic", description="impact law (sim.LAWS)")
+    restitution: Quantity = _quantity_field("restitution")
+    friction: Quantity = _quantity_field("friction")
 
 
 class Release(_Section):
-    height: Quantity
-    height_of: Literal["centre", "bottom"] = "centre"
-    angle: Quantity
-    spin: Quantity = Quantity(value=0.0)
-    vx: Quantity = Quantity(value=0.0)
-    vy: Quantity = Quantity(value=0.0)
+    """How the body leaves the rig: height (of the centre or the lowest
+    point), angle, spin and velocity."""
+
+    height: Quantity = _quantity_field("height")
+    height_of: Literal["centre", "bottom"] = Field("centre", description="the point the height is measured to")
+    angle: Quantity = _quantity_field("angle")
+    spin: Quantity = _quantity_field("spin", Quantity(value=0.0))
+    vx: Quantity = _quantity_field("vx", Quantity(value=0.0))
+    vy: Quantity = _quantity_field("vy", Quantity(value=0.0))
 
 
 class Metric(Strict):
-    """What counts: the rebound ratio of a bounce, or one of two flags."""
+    """What counts in each drop (:data:`explore.metric_kinds.METRIC_KINDS`)."""
 
-    kind: Literal[tuple(METRIC_KINDS)] = "ratio"
-    bounce: Union[int, str] = "later"
-    reference: Literal[tuple(sim.REFERENCES)] = "centre"
-    goal: Literal["seek", "avoid"] = "seek"
-    threshold: float = Field(default=1.0, gt=0, le=10)
+    kind: Literal[tuple(METRIC_KINDS)] = Field("ratio", description="metric kind")
+    bounce: Union[int, str] = Field("later", description="'later' (best later bounce), 'first' or a bounce number")
+    reference: Literal[tuple(sim.REFERENCES)] = Field("centre", description="the point whose height counts")
+    goal: Literal["seek", "avoid"] = Field("seek", description="whether the event is wanted or to be avoided")
+    threshold: float = Field(default=1.0, gt=0, le=10, description="event: value above this [-]")
 
     @field_validator("bounce", mode="before")
     @classmethod
@@ -226,22 +245,32 @@ class Metric(Strict):
         raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v!r}")
 
 
+_FORMATS = Field(["png"], description="picture file formats")
+
+
 class MapSpec(Strict):
-    x: Literal[tuple(QUANTITIES)]
-    y: Literal[tuple(QUANTITIES)]
-    formats: list[Literal["png", "svg", "pdf"]] = ["png"]
+    """A regime map over two grid quantities."""
+
+    x: Literal[tuple(QUANTITIES)] = Field(description="grid quantity on the horizontal axis")
+    y: Literal[tuple(QUANTITIES)] = Field(description="grid quantity on the vertical axis")
+    formats: list[Literal["png", "svg", "pdf"]] = _FORMATS
 
 
 class CurveSpec(Strict):
-    x: Literal[tuple(QUANTITIES)]
-    formats: list[Literal["png", "svg", "pdf"]] = ["png"]
+    """A curve of the metric over one grid quantity."""
+
+    x: Literal[tuple(QUANTITIES)] = Field(description="grid quantity on the horizontal axis")
+    formats: list[Literal["png", "svg", "pdf"]] = _FORMATS
 
 
 class Sensitivity(Strict):
-    method: Literal["sobol", "morris"] = "sobol"
-    samples: int = Field(default=1024, ge=4, le=2 ** 20)
-    second_order: bool = False
-    levels: int = Field(default=4, ge=2, le=16)
+    """Which quantities matter: a global sensitivity analysis."""
+
+    method: Literal["sobol", "morris"] = Field("sobol", description="sensitivity method")
+    samples: int = Field(default=1024, ge=4, le=2 ** 20,
+                         description="base samples (Sobol: a power of two) or trajectories (Morris)")
+    second_order: bool = Field(False, description="also the second-order Sobol indices")
+    levels: int = Field(default=4, ge=2, le=16, description="grid levels of a Morris design")
 
     @model_validator(mode="after")
     def _power_of_two(self):
@@ -254,35 +283,44 @@ class Sensitivity(Strict):
 class Tolerance(Strict):
     """Release tolerance of the rig, as +- half-widths of uniform errors."""
 
-    angle: float = Field(default=2.0, ge=0, le=90)
-    height: float = Field(default=0.005, ge=0, le=10)
-    spin: float = Field(default=0.0, ge=0, le=1000)
-    draws: int = Field(default=32, ge=2, le=4096)
+    angle: float = Field(default=2.0, ge=0, le=90, description="release angle error, +- half-width [deg]")
+    height: float = Field(default=0.005, ge=0, le=10, description="release height error, +- half-width [m]")
+    spin: float = Field(default=0.0, ge=0, le=1000, description="release spin error, +- half-width [rad/s]")
+    draws: int = Field(default=32, ge=2, le=4096, description="toleranced drops per grid cell")
 
 
 class Picks(Strict):
-    count: int = Field(default=5, ge=1, le=100)
-    target: float = Field(default=0.8, gt=0, le=1)
-    chaotic_spread: float = Field(default=0.1, gt=0, le=10)
+    """Recommended drop conditions."""
+
+    count: int = Field(default=5, ge=1, le=100, description="how many conditions to recommend")
+    target: float = Field(default=0.8, gt=0, le=1, description="event probability a pick must reach [-]")
+    chaotic_spread: float = Field(default=0.1, gt=0, le=10,
+                                  description="mean change of the value under tolerance above which a cell is "
+                                              "chaotic [-]")
 
 
 class Analyses(Strict):
-    maps: list[MapSpec] = []
-    curves: list[CurveSpec] = []
-    draws: int = Field(default=16, ge=1, le=4096)
-    robustness: bool = True
-    sensitivity: Optional[Sensitivity] = None
-    picks: Optional[Picks] = None
+    """What to compute from the drops."""
+
+    maps: list[MapSpec] = Field([], description="regime maps")
+    curves: list[CurveSpec] = Field([], description="curves over one grid quantity")
+    draws: int = Field(default=16, ge=1, le=4096, description="drops per grid cell over the random quantities")
+    robustness: bool = Field(True, description="the robustness map under the release tolerance")
+    sensitivity: Optional[Sensitivity] = Field(None, description="global sensitivity ranking")
+    picks: Optional[Picks] = Field(None, description="recommended drop conditions")
 
 
 class RunSettings(Strict):
-    jobs: int = Field(default=2, ge=1, le=512)
-    backend: Literal["loky", "threading", "sequential", "dask"] = "loky"
-    scheduler: Optional[str] = None
-    chunk_size: int = Field(default=20000, ge=100, le=1_000_000)
-    seed: int = Field(default=1, ge=1, le=2 ** 32 - 1)
-    impacts: int = Field(default=6, ge=1, le=50)
-    merge_ms: float = Field(default=10.0, ge=0, le=1000)
+    """How to run: workers, backend, chunks, seed, impacts per drop."""
+
+    jobs: int = Field(default=2, ge=1, le=512, description="worker processes")
+    backend: Literal["loky", "threading", "sequential", "dask"] = Field("loky", description="parallel backend")
+    scheduler: Optional[str] = Field(None, description="address of a Dask scheduler (backend: dask)")
+    chunk_size: int = Field(default=20000, ge=100, le=1_000_000, description="drops per task and result part")
+    seed: int = Field(default=1, ge=1, le=2 ** 32 - 1, description="seed of every random draw")
+    impacts: int = Field(default=6, ge=1, le=50, description="impacts followed per drop")
+    merge_ms: float = Field(default=10.0, ge=0, le=1000,
+                            description="impacts closer than this are one visible bounce [ms]")
 
 
 #: The sections of a study file that hold settings.
@@ -290,8 +328,15 @@ SECTIONS = ("body", "contact", "release", "metric", "tolerance", "analyses", "ru
 
 
 class Study(Strict):
-    name: str = Field(pattern=r"^[A-Za-z0-9][A-Za-z0-9_.-]*$", max_length=80)
-    description: str = ""
+    """A validated study: what is dropped, how, what counts, what to compute.
+
+    Build one with :func:`load_study` (a file) or :func:`parse_study` (text);
+    both report every mistake at once as ``file:line:col: field: message``.
+    """
+
+    name: str = Field(pattern=r"^[A-Za-z0-9][A-Za-z0-9_.-]*$", max_length=80,
+                      description="name of the study and of its run folder")
+    description: str = Field("", description="what the study is for, in a sentence")
     body: Body
     contact: Contact
     release: Release
@@ -322,12 +367,15 @@ class Study(Strict):
         return out
 
     def gridded(self):
+        """Names of the quantities swept on a grid, in declaration order."""
         return [n for n, q in self.quantities().items() if q.kind == "grid"]
 
     def random(self):
+        """Names of the quantities drawn from a distribution."""
         return [n for n, q in self.quantities().items() if q.kind in ("uniform", "normal", "log_uniform")]
 
     def varying(self):
+        """Names of the quantities that are not fixed."""
         return [n for n, q in self.quantities().items() if q.varies]
 
     def numbers(self):
@@ -418,6 +466,7 @@ def _sections_alone(plain):
 
 
 def check_size(study: Study):
+    """Problems of size (the grid stage's drops over the limit), as (location, message)."""
     cells = grid_cells(study)
     total = cells * max(study.analyses.draws if study.random() else 1, 1)
     if total > 20_000_000:
@@ -427,6 +476,7 @@ def check_size(study: Study):
 
 
 def grid_cells(study):
+    """Number of grid cells: the product of the grid quantities' steps."""
     cells = 1
     for name in study.gridded():
         cells *= study.quantity(name).grid.steps
@@ -523,6 +573,25 @@ def load_study(path) -> Study:
 
 
 def parse_study(text, filename="<study>") -> Study:
+    """Validate the text of a study file.
+
+    Parameters
+    ----------
+    text : str
+        YAML 1.2 text of the study.
+    filename : str
+        Name used in messages (``file:line:col``).
+
+    Returns
+    -------
+    Study
+
+    Raises
+    ------
+    InputError
+        With every problem at once, one ``file:line:col: field: message``
+        line each.
+    """
     yaml = YAML(typ="rt")
     yaml.version = (1, 2)
     yaml.allow_duplicate_keys = True
@@ -566,10 +635,8 @@ def parse_study(text, filename="<study>") -> Study:
 _BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
 
 
-def _field_interval(loc):
-    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
-    on the model field at ``loc``, so that its message reads like every
-    other range's; None where the field declares none."""
+def _field_info(loc):
+    """The pydantic field declaration at ``loc`` (None where there is none)."""
     model, info = Study, None
     for key in loc:
         if isinstance(key, int):
@@ -581,6 +648,14 @@ def _field_interval(loc):
         annotation = info.annotation
         model = next((a for a in getattr(annotation, "__args__", (annotation,))
                       if isinstance(a, type) and issubclass(a, BaseModel)), annotation)
+    return info
+
+
+def _field_interval(loc):
+    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
+    on the model field at ``loc``, so that its message reads like every
+    other range's; None where the field declares none."""
+    info = _field_info(loc)
     if info is None:
         return None
     bounds = {name: getattr(meta, name) for meta in info.metadata for name in ("ge", "gt", "le", "lt")
@@ -599,7 +674,9 @@ def _message(err):
     if kind == "extra_forbidden":
         return "unknown field (check the spelling; `hopscape new` writes every field)"
     if kind == "missing":
-        return "required field is missing"
+        info = _field_info(tuple(err["loc"]))
+        return "required field is missing" + (f" ({info.description})" if info is not None and info.description
+                                               else "")
     if kind in _BOUND_WORDS:
         interval = _field_interval(tuple(err["loc"]))
         if interval is not None:
