@@ -38,6 +38,12 @@ INPUT_COLUMNS = {
     "friction": ("-, " + FRICTION.describe(), None),
     "law": (" | ".join(LAWS), None),
 }
+# every further dimension a shape declares gets a column of its own,
+# optional (an empty cell or no column: the shape's default)
+INPUT_COLUMNS.update({d.name: ("m; " + _per_shape(d.name), np.nan) for cls in sim.SHAPES.values()
+                      for d in cls.dimensions if d.name not in INPUT_COLUMNS})
+#: Dimensions some shape declares, in column order.
+DIMENSIONS = tuple(dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions))
 #: Columns read as numbers for every row; the shapes' own dimensions
 #: (length, radius) are checked per shape, as each shape declares them.
 NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")
@@ -113,7 +119,8 @@ def _row_errors(frame, law):
     for kind, cls in sim.SHAPES.items():
         for dimension in cls.dimensions:
             values, raw = numbers(dimension.name), frame[dimension.name].to_numpy()
-            flag((kinds == kind) & ~dimension.allowed.contains(values),
+            given = np.ones(n, bool) if dimension.required else ~np.isnan(values)
+            flag((kinds == kind) & given & ~dimension.allowed.contains(values),
                  lambda i, d=dimension, v=values, r=raw: f"{d.name} of a {kinds[i]} ({d.meaning}) must be "
                  f"{d.allowed.describe()}, got {_shown(r[i]) if np.isnan(v[i]) else number_text(v[i])}")
     for column in NUMBERS:
@@ -149,12 +156,16 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
         return pd.DataFrame(columns=list(OUTPUT_COLUMNS))
     errors, kinds, laws = _row_errors(frame, law)
     ok = errors == ""
-    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float) for c in
-           ("length", "radius", "density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")}
+    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float) for c in DIMENSIONS + NUMBERS}
     good = np.flatnonzero(ok)
+
+    def bodies(rows):
+        sizes = {name: num[name][rows] for name in DIMENSIONS}
+        return sim.shapes.make_shapes(kinds[rows], density=num["density"][rows], **sizes)
+
     # a body inside the floor is a per-row error too
     if good.size:
-        shapes = sim.shapes.make_shapes(kinds[good], num["length"][good], num["radius"][good], num["density"][good])
+        shapes = bodies(good)
         gap = num["height"][good] - shapes.depth(np.radians(num["angle"][good]))
         inside = gap <= 0
         errors[good[inside]] = [f"height {num['height'][i]} m puts the body touching or inside the floor "
@@ -162,7 +173,7 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
         good = good[~inside]
     tables = []
     if good.size:
-        shapes = sim.shapes.make_shapes(kinds[good], num["length"][good], num["radius"][good], num["density"][good])
+        shapes = bodies(good)
         release = sim.Release(height=num["height"][good], angle=np.radians(num["angle"][good]),
                               spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good])
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))

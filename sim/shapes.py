@@ -107,12 +107,27 @@ class Dimension:
     plausible : tuple of float
         ``(low, high)`` a real part or rig lies in [m]; outside it a value
         is probably typed in the wrong unit (warnings, not errors).
+    required : bool
+        False when the shape has a default for it: then None, or NaN in an
+        element, means "not given".
     """
 
     name: str
     meaning: str
     allowed: Interval = POSITIVE_SIZE
     plausible: tuple = (5e-5, 0.25)
+    required: bool = True
+
+    def checked(self, value):
+        """``value`` as a float array (or None where an optional dimension
+        is not given); ValueError for a value outside :attr:`allowed`."""
+        if not self.required:
+            if value is None:
+                return None
+            value = np.asarray(value, dtype=float)
+            self.allowed.check(self.name, value[~np.isnan(value)])
+            return value
+        return self.allowed.check(self.name, value)
 
 
 #: Every shape class that can be named, by its ``kind``; filled as the
@@ -176,8 +191,9 @@ class Shape:
     @classmethod
     def from_dimensions(cls, *, density, **sizes):
         """Build from keyword sizes, ignoring the ones this shape has not
-        (a sphere takes no ``length``)."""
-        return cls(density=density, **{d.name: sizes[d.name] for d in cls.dimensions})
+        (a sphere takes no ``length``); an optional dimension may be left out."""
+        return cls(density=density, **{d.name: sizes[d.name] for d in cls.dimensions
+                                        if d.required or sizes.get(d.name) is not None})
 
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
@@ -233,7 +249,7 @@ class Shape:
 
 def _checked(shape):
     """The shape's declared dimensions and its density, checked, as arrays."""
-    sizes = {d.name: d.allowed.check(d.name, getattr(shape, d.name)) for d in shape.dimensions}
+    sizes = {d.name: d.checked(getattr(shape, d.name)) for d in shape.dimensions}
     return sizes, DENSITY.check("density", shape.density)
 
 
@@ -369,15 +385,16 @@ def _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density):
     return cls(density=density, length=aspect_ratio * 2 * radius, radius=radius)
 
 
-def make_shape(kind, *, length=0.0, radius, density):
+def make_shape(kind, *, length=0.0, radius, density, **sizes):
     """Build a shape by name from the batch-table dimensions.
 
-    ``length`` is the cylindrical part for a capsule and the full length
-    along the axis for a spheroid or cylinder; it is ignored for a sphere.
+    ``length`` is what the shape declares it to be (the cylindrical part for
+    a capsule, the full length along the axis for a spheroid or cylinder);
+    sizes a shape does not declare (a sphere's length) are ignored.
     """
     if kind not in SHAPES:
         raise ValueError(f"shape must be one of {', '.join(SHAPES)}, got {kind!r}")
-    return SHAPES[kind].from_dimensions(density=density, length=length, radius=radius)
+    return SHAPES[kind].from_dimensions(density=density, length=length, radius=radius, **sizes)
 
 
 @dataclass(frozen=True)
@@ -400,19 +417,21 @@ class MixedShapes(Shape):
         self._set(**values)
 
 
-def make_shapes(kinds, length, radius, density):
+def make_shapes(kinds, length, radius, density, **sizes):
     """One body per element from the batch-table columns, in input order.
 
+    ``sizes`` holds the columns of further dimensions some shapes declare.
     Returns a :class:`Shape` whose arrays follow the order of ``kinds``.
     """
     kinds = np.asarray(kinds, dtype=object)
-    length, radius, density = (np.broadcast_to(np.asarray(v, dtype=float), kinds.shape) for v in (length, radius, density))
+    columns = {name: np.broadcast_to(np.asarray(v, dtype=float), kinds.shape)
+               for name, v in dict(sizes, length=length, radius=radius, density=density).items()}
     order = []
     parts = []
     for kind in SHAPES:
         pick = np.flatnonzero(kinds == kind)
         if pick.size:
-            parts.append(make_shape(kind, length=length[pick], radius=radius[pick], density=density[pick]))
+            parts.append(make_shape(kind, **{name: v[pick] for name, v in columns.items()}))
             order.append(pick)
     unknown = set(kinds.tolist()) - set(SHAPES)
     if unknown:
