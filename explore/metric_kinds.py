@@ -120,6 +120,14 @@ METRIC_KINDS = {kind.name: kind for kind in (
         words=lambda metric: (f"a bounce beats the release height of the {POINT_WORDS[metric.reference]}",
                               f"a bounce rises above the release height of the {POINT_WORDS[metric.reference]}")),
     MetricKind(
+        "later_over_first", "height of the best later bounce / height of the first bounce",
+        is_flag=False, uses_threshold=True,
+        value=lambda outcome, metric: np.divide(outcome.best_later, outcome.ratios[:, 0],
+                                                out=np.zeros(len(outcome.ratios)), where=outcome.ratios[:, 0] > 0),
+        words=lambda metric: (f"best later bounce / first bounce ({POINT_WORDS[metric.reference]} heights)",
+                              f"a later bounce rises above {metric.threshold:g} x the first "
+                              f"({POINT_WORDS[metric.reference]})")),
+    MetricKind(
         "beats_first", "a later bounce rises above the first",
         is_flag=True,
         value=lambda outcome, metric: outcome.beats_first.astype(float),

@@ -404,11 +404,11 @@ class RoundedTablet(Shape):
 
     length: float | np.ndarray = 0.0
     radius: float | np.ndarray = 0.0
-    edge: float | np.ndarray = 0.0
+    edge: float | np.ndarray | None = None
     kind = "rounded_tablet"
     dimensions = (Dimension("length", "full thickness along the axis", plausible=(5e-5, 0.5)),
                   Dimension("radius", "outer radius"),
-                  Dimension("edge", "radius of the rounded rim", SIZE_OR_ZERO, (0.0, 0.1)))
+                  Dimension("edge", "radius of the rounded rim", SIZE_OR_ZERO, (0.0, 0.1), required=False))
     struck_names = {1: "rim +", -1: "rim -", 0: "flat face"}
     #: rim rounding of a body described by aspect ratio or diameter alone,
     #: as a fraction of the smaller of radius and half length
@@ -417,6 +417,8 @@ class RoundedTablet(Shape):
     def __post_init__(self):
         sizes, rho = _checked(self)
         length, radius, edge = sizes["length"], sizes["radius"], sizes["edge"]
+        default = self.EDGE_FRACTION * np.minimum(radius, length / 2)
+        edge = default if edge is None else np.where(np.isnan(edge), default, edge)
         too_round = edge > np.minimum(radius, length / 2) * (1 + 1e-12)
         if np.any(too_round):
             raise ValueError(f"edge of a {self.kind} must be <= its radius and half its length, got "
@@ -438,21 +440,9 @@ class RoundedTablet(Shape):
 
     @classmethod
     def from_aspect_ratio(cls, aspect_ratio, diameter, density):
-        """Tablet of full length ``aspect_ratio * diameter``, rim rounded by
-        :attr:`EDGE_FRACTION` of the smaller of radius and half length."""
-        return cls.from_diameter(diameter, density, length=_check_aspect_ratio(cls, aspect_ratio) *
-                                 np.asarray(diameter, dtype=float))
-
-    @classmethod
-    def from_diameter(cls, diameter, density, *, aspect_ratio=None, length=None, edge=None):
-        """As :meth:`Shape.from_diameter`; ``edge`` [m] defaults to
-        :attr:`EDGE_FRACTION` of the smaller of radius and half length."""
-        if aspect_ratio is not None:
-            length = _check_aspect_ratio(cls, aspect_ratio) * np.asarray(diameter, dtype=float)
-        radius = np.asarray(diameter, dtype=float) / 2
-        if edge is None:
-            edge = cls.EDGE_FRACTION * np.minimum(radius, np.asarray(length, dtype=float) / 2)
-        return cls(density=density, length=length, radius=radius, edge=edge)
+        """Tablet of full length ``aspect_ratio * diameter``, its rim rounded
+        by :attr:`EDGE_FRACTION` of the smaller of radius and half length."""
+        return _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density)
 
 
 def _full_length_from_aspect_ratio(cls, aspect_ratio, diameter, density):

@@ -37,6 +37,8 @@ def test_one_bounce_has_no_later_bounce():
     ("ratio", {"bounce": 2, "threshold": 0.3}, [1.3, 0.4, 0.0], [True, True, False]),
     ("beats_release", {}, [1.0, 0.0, 1.0], [True, False, True]),
     ("beats_first", {}, [1.0, 0.0, 0.0], [True, False, False]),
+    # 1.3 / 0.6, 0.4 / 0.9, and 0 for a drop with no later bounce
+    ("later_over_first", {"threshold": 1.0}, [1.3 / 0.6, 0.4 / 0.9, 0.0], [True, False, False]),
 ])
 def test_each_kind_gives_its_value_and_event(kind, settings, value, event):
     metric = Metric(kind=kind, **settings)
@@ -73,3 +75,10 @@ def test_the_study_schema_offers_exactly_the_declared_kinds():
     assert message.startswith("t.yaml:5:10: metric.kind: ")
     for name in METRIC_KINDS:
         assert repr(name) in message
+
+
+def test_later_over_first_is_zero_without_a_first_bounce():
+    # a drop that never rose again has no first bounce to compare with
+    metric = Metric(kind="later_over_first")
+    value = METRIC_KINDS["later_over_first"].value(Outcome(np.array([[0.0, 0.0]])), metric)
+    assert value.tolist() == [0.0]
