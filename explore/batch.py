@@ -16,6 +16,7 @@ from sim.impact import LAWS, SLIP_HISTORY
 from sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
 from .errors import InputError
+from .plausibility import drop_warnings
 
 def _per_shape(dimension):
     """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
@@ -135,11 +136,14 @@ def _row_errors(frame, law):
 
 
 def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
-              progress=None):
+              progress=None, warn=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 
     Rows that cannot be simulated appear once, with ``impact`` empty and the
-    reason in ``error``; they never stop the batch.
+    reason in ``error``; they never stop the batch. ``warn``, if given, is
+    called once before anything is simulated with the list of warnings
+    about implausible values (:mod:`explore.plausibility`), one line per
+    column and shape.
     """
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
@@ -163,6 +167,8 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
         sizes = {name: num[name][rows] for name in DIMENSIONS}
         return sim.shapes.make_shapes(kinds[rows], density=num["density"][rows], **sizes)
 
+    if warn is not None:
+        warn(_warnings(kinds, num, good, bodies))
     # a body inside the floor is a per-row error too
     if good.size:
         shapes = bodies(good)
@@ -194,6 +200,21 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
     table["bounce"] = table["bounce"].astype("Int64")
     table["end"] = table["end"].astype("Int64")
     return table
+
+
+def _warnings(kinds, num, good, bodies):
+    """Warning lines for the implausible values of the rows ``good``."""
+    lines = []
+    for kind in sim.SHAPES:
+        rows = good[kinds[good] == kind]
+        if not rows.size:
+            continue
+        values = {name: num[name][rows] for name in NUMBERS + DIMENSIONS}
+        for name, bad, message in drop_warnings(bodies(rows), values):
+            count = int(bad.sum())
+            lines.append(f"column {name}: {count} {kind} row{'s' if count > 1 else ''} (first: drop "
+                         f"{rows[np.argmax(bad)]}): {message}")
+    return lines
 
 
 def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):

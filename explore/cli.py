@@ -58,6 +58,26 @@ def _per_shape(dimension):
                      if any(d.name == dimension for d in cls.dimensions))
 
 
+STRICT_HELP = "treat warnings about implausible values (units mixed up?) as errors (exit 2)"
+
+
+def _further_dimensions():
+    """Dimensions some shape declares besides length and radius (their own options)."""
+    import sim
+    return [name for name in dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions)
+            if name not in ("length", "radius")]
+
+
+def report_warnings(lines, strict):
+    """Print each warning as ``hopscape: warning: ...`` on stderr; with
+    ``strict``, refuse them as bad input instead."""
+    lines = list(lines)
+    if strict and lines:
+        raise InputError([f"{line} (--strict)" for line in lines])
+    for line in lines:
+        print(f"hopscape: warning: {line}", file=sys.stderr)
+
+
 def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     import sim
@@ -74,6 +94,9 @@ def build_parser():
                    help=f"[m] {_per_shape('length')} (default 0.014)")
     d.add_argument("--radius", type=_finite("--radius"), default=None,
                    help=f"[m] {_per_shape('radius')} (default 0.0035)")
+    for name in _further_dimensions():
+        d.add_argument(f"--{name.replace('_', '-')}", type=_finite(f"--{name}"), default=None,
+                       help=f"[m] {_per_shape(name)} (default: the shape's own)")
     d.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
                    help="overall length / diameter, instead of --length (uses --radius)")
     d.add_argument("--density", type=_finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
@@ -98,6 +121,7 @@ def build_parser():
     d.add_argument("--out", type=Path, default=Path("hopscape-drop"),
                    help="folder for the pictures (default hopscape-drop)")
     d.add_argument("--no-plots", action="store_true", help="print only, draw nothing")
+    d.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- batch -------------------------------------------------------
     from .batch import INPUT_COLUMNS
@@ -112,6 +136,7 @@ def build_parser():
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic)")
     b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
+    b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
     n = sub.add_parser("bench", help="time the kernel on the benchmark population")
@@ -179,8 +204,12 @@ def cmd_drop(args):
         if args.aspect_ratio is not None and args.length is not None:
             raise ValueError("give --length or --aspect-ratio, not both")
         length = 0.014 if args.length is None else args.length
-        shape = sim.SHAPES[args.shape].from_diameter(2 * radius, args.density, aspect_ratio=args.aspect_ratio,
-                                                     length=length)
+        further = {name: getattr(args, name) for name in _further_dimensions()}
+        cls = sim.SHAPES[args.shape]
+        if args.aspect_ratio is not None:
+            shape = cls.from_aspect_ratio(args.aspect_ratio, 2 * radius, args.density)
+        else:
+            shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density, **further)
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
         release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
@@ -190,6 +219,12 @@ def cmd_drop(args):
         return shape, result
 
     shape, result = _user_value_errors(build)
+    from .plausibility import drop_warnings
+    given = {"height": args.height, "spin": args.spin, "vx": args.vx, "vy": args.vy, "density": args.density,
+             "friction": args.friction, "length": args.length, "radius": args.radius,
+             **{name: getattr(args, name) for name in _further_dimensions()}}
+    report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
+                     drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
     bounces = sim.group_bounces(result, args.merge_ms / 1e3)
     print(drop_report(shape, result, bounces, args.reference))
     if args.csv is not None:
@@ -221,7 +256,8 @@ def cmd_batch(args):
         print(f"hopscape: note: ignoring column(s) {', '.join(map(str, unknown))} (known: {', '.join(INPUT_COLUMNS)})",
               file=sys.stderr)
     start = time.perf_counter()
-    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3)
+    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3,
+                      warn=lambda lines: report_warnings(lines, args.strict))
     elapsed = time.perf_counter() - start
     write_table(table, args.out)
     failed = int((table["error"] != "").sum())

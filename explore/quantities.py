@@ -66,7 +66,7 @@ QUANTITIES = {spec.name: spec for spec in (
     QuantitySpec("friction", "contact", "-", "friction coefficient", _rig(0.0, 5.0, "-")),
     QuantitySpec("height", "release", "m", "release height", _rig(1e-5, 100.0, "m")),
     QuantitySpec("angle", "release", "deg", "release angle", _rig(-360.0, 360.0, "deg")),
-    QuantitySpec("spin", "release", "rad/s", "release spin", _rig(-10000.0, 10000.0, "rad/s")),
+    QuantitySpec("spin", "release", "rad/s", "release spin", _rig(-1e6, 1e6, "rad/s")),
     QuantitySpec("vx", "release", "m/s", "release velocity x", _rig(-100.0, 100.0, "m/s")),
     QuantitySpec("vy", "release", "m/s", "release velocity y", _rig(-100.0, 100.0, "m/s")),
 )}

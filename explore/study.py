@@ -19,7 +19,7 @@ from importlib import resources
 from pathlib import Path
 from typing import Literal, Optional, Union
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, ValidationInfo, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, ValidationError, ValidationInfo, field_validator, model_validator
 from pydantic_core import InitErrorDetails, PydanticCustomError
 from ruamel.yaml import YAML
 from ruamel.yaml.error import MarkedYAMLError
@@ -29,6 +29,7 @@ from sim.limits import Interval, number_text
 
 from .errors import InputError
 from .metric_kinds import METRIC_KINDS
+from .plausibility import study_warnings
 from .quantities import COLUMN, QUANTITIES, label
 
 __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"]
@@ -337,6 +338,7 @@ class Study(Strict):
     name: str = Field(pattern=r"^[A-Za-z0-9][A-Za-z0-9_.-]*$", max_length=80,
                       description="name of the study and of its run folder")
     description: str = Field("", description="what the study is for, in a sentence")
+    _warnings: tuple = PrivateAttr(default=())
     body: Body
     contact: Contact
     release: Release
@@ -351,6 +353,13 @@ class Study(Strict):
         if problems:
             raise _problems("Study", problems)
         return self
+
+    @property
+    def warnings(self):
+        """Legal but suspicious values (:mod:`explore.plausibility`), one
+        ``file:line:col: field: message`` line each, as found by
+        :func:`parse_study`."""
+        return self._warnings
 
     # ------------------------------------------------------------------
     def quantity(self, name):
@@ -629,6 +638,11 @@ def parse_study(text, filename="<study>") -> Study:
     messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
     if messages:
         raise InputError(messages)
+    warnings = []
+    for loc, message in study_warnings(study):
+        line, col = _position(data, loc)
+        warnings.append((line, col, f"{filename}:{line}:{col}: {_loc_text(loc)}: {message}"))
+    study._warnings = tuple(text for *_, text in sorted(warnings))
     return study
 
 
