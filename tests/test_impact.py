@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 
 import sim
 import sim.bench
-import sim.flight
+import sim.search
 from sim.impact import LAW_CODE, REVERSED, SLIP, STICK, impulse_matrix, routh_impact
 
 LAW_NAMES = ("newton", "poisson", "energetic")
@@ -248,7 +248,7 @@ def test_capsule_spin_to_lift_through_a_drop():
     # search tolerance: contact is declared up to CONTACT_GAP (1e-9 m)
     # early, i.e. 1e-9 s at 1 m/s; twice that for the time, and g times it
     # (1e-8 m/s, x10) for the speed
-    early = sim.flight.CONTACT_GAP / 1.0
+    early = sim.search.CONTACT_GAP / 1.0
     assert tau - 2 * early <= result.time[0, 0] <= tau + 1e-12
     assert result.vy_before[0, 0] == pytest.approx(-1.0, abs=1e-7)
     assert result.vx[0, 0] == pytest.approx(-0.0061, abs=5e-5)
