@@ -31,7 +31,7 @@ import numpy as np
 from ._memory import keep_freed_memory
 from .flight import GRAVITY
 from .geometry import contact_offset_at, curvature_bound, depth, depth_range
-from .impact import impulse_matrix, law_codes, routh_impact
+from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -104,13 +104,13 @@ class Contact:
     friction : float or array
         Coulomb friction coefficient, >= 0. [-]
     law : str or sequence of str
-        ``"energetic"`` (Stronge; default, never creates energy),
-        ``"poisson"`` or ``"newton"``.
+        A name of :data:`sim.impact.LAW_TABLE` (``"energetic"``, the
+        default, never creates energy).
     """
 
     restitution: float | np.ndarray = 0.8
     friction: float | np.ndarray = 0.3
-    law: str | tuple = "energetic"
+    law: str | tuple = LAWS[0]
 
     def __post_init__(self):
         e = _array("restitution", self.restitution)
@@ -142,7 +142,7 @@ BEFORE_FIELDS = {"vx_before": "m/s", "vy_before": "m/s", "spin_before": "rad/s"}
 IMPACT_CODES = {
     "end": "+1 the end the axis points to, -1 the other, 0 middle (flat or round)",
     "slip": "0 slip, 1 stick, 2 reversed (sim.impact.SLIP_HISTORY)",
-    "energy_gain": "True where the impact created kinetic energy (Newton law)",
+    "energy_gain": f"True where the impact created kinetic energy (possible under: {', '.join(ENERGY_CREATING)})",
 }
 
 
