@@ -74,7 +74,7 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     turn for the lowest point and has its own top-point search.
 
     Peaks are within :data:`PEAK_SLACK` (1e-10 m) of the true peak, up to
-    rounding; checked against dense sampling in ``tests/test_flight.py``.
+    rounding; checked against dense sampling in ``tests/test_peaks.py``.
 
     Returns
     -------
