@@ -1,8 +1,8 @@
 """Where the kernel's time goes: contact search, flight peaks, the rest.
 
 Runs ``sim.simulate`` on the benchmark population (``sim.bench``) and times
-the calls to ``sim.flight.next_contact`` and ``sim.flight.flight_peaks``
-inside it; "rest" is impacts and bookkeeping. Best of ``--repeat`` runs
+the calls to ``sim.search.next_contact`` and ``sim.peaks.flight_peaks``
+inside it (as ``sim.drop`` calls them); "rest" is impacts and bookkeeping. Best of ``--repeat`` runs
 (this machine is noisy: compare two versions of the code by running this
 script alternately on both, several times, e.g. one checkout on
 ``PYTHONPATH``).
@@ -17,12 +17,12 @@ import json
 import time
 
 import sim
-import sim.flight
+import sim.drop
 from sim.bench import IMPACTS, population
 
 
 def _timed(table, name):
-    inner = getattr(sim.flight, name)
+    inner = getattr(sim.drop, name)
 
     def wrapper(*args, **kwargs):
         start = time.perf_counter()
@@ -30,7 +30,7 @@ def _timed(table, name):
         table[name] = table.get(name, 0.0) + time.perf_counter() - start
         return out
 
-    setattr(sim.flight, name, wrapper)
+    setattr(sim.drop, name, wrapper)
 
 
 def split(drops, repeat=5):

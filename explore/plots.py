@@ -23,19 +23,9 @@ MJ = 1e3
 
 
 def outline(profile, x, y, theta, points=90):
-    """Closed outline of a body (rectangle part swept by the ellipse). [m]"""
-    half_long, half_wide, round_long, round_wide = profile
-    phi = np.linspace(0, 2 * np.pi, points)
-    # support-point parametrisation: for each outward normal direction the
-    # boundary point of a Minkowski sum is the sum of the parts' points
-    nx, ny = np.cos(phi), np.sin(phi)
-    px = half_long * np.sign(np.round(nx, 12))
-    py = half_wide * np.sign(np.round(ny, 12))
-    norm = np.hypot(round_long * nx, round_wide * ny)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ex = np.where(norm > 0, round_long ** 2 * nx / norm, 0.0)
-        ey = np.where(norm > 0, round_wide ** 2 * ny / norm, 0.0)
-    bx, by = px + ex, py + ey
+    """Closed outline of a body (:func:`sim.geometry.outline`) with its
+    centre at ``(x, y)`` and its axis at ``theta``. [m]"""
+    bx, by = sim.geometry.outline(profile, points)
     c, s = np.cos(theta), np.sin(theta)
     return x + c * bx - s * by, y + s * bx + c * by
 
@@ -49,7 +39,7 @@ def strobe(result, drop=0, frames=26, path=None, title=None):
     profile = tuple(p[drop] for p in result.profile)
     height = max(float(np.nanmax(hist["top"])), 1e-3)
     travel = float(np.ptp(hist["x"]))
-    size = 2 * float(sim.flight.depth_range(*profile)[1])
+    size = 2 * float(sim.geometry.depth_range(*profile)[1])
     # spread the outlines sideways by time when the body barely travels, so
     # that they do not pile up; the axis label says so
     wide = max(2.5 * height, 3 * size)

@@ -11,6 +11,7 @@ from __future__ import annotations
 import numpy as np
 
 from .drop import Contact, Release
+from .geometry import depth
 from .shapes import Capsule
 
 CAP_RADIUS = 3.5e-3  # [m]
@@ -26,7 +27,7 @@ def population(n, seed=1):
     restitution = rng.uniform(0.5, 0.95, n)
     friction = rng.uniform(0.0, 0.6, n)
     length = rng.uniform(0.5, 6.0, n) * CAP_RADIUS
-    lowest_safe = length / 2 * np.abs(np.sin(angle)) + CAP_RADIUS
+    lowest_safe = depth(angle, length / 2, 0.0, CAP_RADIUS, CAP_RADIUS)
     height = rng.uniform(0.03, 0.5, n)
     inside = height <= lowest_safe
     while np.any(inside):

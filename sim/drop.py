@@ -2,7 +2,8 @@
 
 A drop is a rigid body released above the floor ``y = 0``. Each drop runs
 through up to ``impacts`` impacts; between them the flight is exact
-(:mod:`sim.flight`) and each impact is Routh's method (:mod:`sim.impact`).
+(:mod:`sim.flight`; its end found by :mod:`sim.search`, its peaks by
+:mod:`sim.peaks`) and each impact is Routh's method (:mod:`sim.impact`).
 All drops advance together as arrays, in chunks to bound memory; nothing
 loops over drops in Python, and the result of a drop does not depend on
 which other drops share its chunk.
@@ -23,16 +24,18 @@ When a drop ends early
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 
 import numpy as np
 
-from . import flight
 from ._memory import keep_freed_memory
 from .flight import GRAVITY
+from .geometry import contact_offset_at, curvature_bound, depth, depth_range
+from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact
 from .limits import FRICTION, RESTITUTION
-from .impact import LAW_CODE, impulse_matrix, law_codes, routh_impact
-from .shapes import FLAT_TOLERANCE, Shape, depth
+from .peaks import flight_peaks
+from .search import next_contact
+from .shapes import Shape
 
 #: Why each drop stopped, by the code stored in ``DropResult.status``.
 STATUS = ("impacts", "settled", "resting", "failed")
@@ -102,13 +105,13 @@ class Contact:
     friction : float or array
         Coulomb friction coefficient, >= 0. [-]
     law : str or sequence of str
-        ``"energetic"`` (Stronge; default, never creates energy),
-        ``"poisson"`` or ``"newton"``.
+        A name of :data:`sim.impact.LAW_TABLE` (``"energetic"``, the
+        default, never creates energy).
     """
 
     restitution: float | np.ndarray = 0.8
     friction: float | np.ndarray = 0.3
-    law: str | tuple = "energetic"
+    law: str | tuple = LAWS[0]
 
     def __post_init__(self):
         RESTITUTION.check("restitution", self.restitution)
@@ -136,7 +139,7 @@ BEFORE_FIELDS = {"vx_before": "m/s", "vy_before": "m/s", "spin_before": "rad/s"}
 IMPACT_CODES = {
     "end": "+1 the end the axis points to, -1 the other, 0 middle (flat or round)",
     "slip": "0 slip, 1 stick, 2 reversed (sim.impact.SLIP_HISTORY)",
-    "energy_gain": "True where the impact created kinetic energy (Newton law)",
+    "energy_gain": f"True where the impact created kinetic energy (possible under: {', '.join(ENERGY_CREATING)})",
 }
 
 
@@ -306,9 +309,47 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
 
 
+@dataclass
+class _Flying:
+    """The drops of a chunk still in the air, one array per field (each
+    drop at the same place in every array), and what they carry."""
+
+    index: np.ndarray  # place in the chunk
+    time: np.ndarray  # since release [s]
+    x: np.ndarray  # centre [m]
+    y: np.ndarray  # centre [m]
+    vx: np.ndarray  # [m/s]
+    vy: np.ndarray  # [m/s]
+    theta: np.ndarray  # [rad]
+    spin: np.ndarray  # [rad/s]
+    mass: np.ndarray  # [kg]
+    inertia: np.ndarray  # [kg m^2]
+    half_long: np.ndarray  # profile [m]
+    half_wide: np.ndarray
+    round_long: np.ndarray
+    round_wide: np.ndarray
+    restitution: np.ndarray  # [-]
+    friction: np.ndarray  # [-]
+    law: np.ndarray  # sim.impact.LAW_CODE
+    curvature_bound: np.ndarray  # sim.geometry.curvature_bound [m]
+    d_low: np.ndarray  # sim.geometry.depth_range [m]
+    d_high: np.ndarray
+    rest_energy: np.ndarray  # lowest resting energy m g d_low [J]
+    excess_at_release: np.ndarray  # energy above rest at release [J]
+    impacting: np.ndarray  # strikes again after the next flight (False: settled, flight only)
+
+    @property
+    def profile(self):
+        return self.half_long, self.half_wide, self.round_long, self.round_wide
+
+    def take(self, where):
+        """The drops at the places ``where`` (indices into these arrays)."""
+        return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
+
+
 def _strike(live, along, across):
     """Every live drop's impact at its contact (``along``, ``across``: the
-    touching corners, :func:`sim.flight.next_contact`).
+    touching corners, :func:`sim.search.next_contact`).
 
     Returns the impact's record (:data:`IMPACT_FIELDS` taken at the
     impact, and the flags), the normal speed at which the struck point
@@ -317,28 +358,19 @@ def _strike(live, along, across):
     they would otherwise hold some 200 bytes per drop through them.
     """
     # contact offset: mean over touching corners (flat landing: the middle)
-    hl, hw, rl, rw = live["hl"], live["hw"], live["rl"], live["rw"]
-    theta = live["th"]
-    # snap cos(pi/2) ~ 6e-17 and the like to 0: a body released exactly
-    # upright or flat lands exactly so
-    s, cs = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in flight.sincos(theta))
-    # the round part's support and slope (exactly the radius and 0 for
-    # a circle: capsules, spheres and cylinders skip the square root)
-    ellipse, e_slope = flight._ellipse(s, cs, rl, rw, rl != rw)
-    r_x = -(hl * cs * along - hw * s * across + e_slope)
-    r_y = -(hl * s * along + hw * cs * across + ellipse)
-    m_i, in_i = live["mass"], live["inertia"]
-    v_x, v_y, w = live["vx"], live["vy"], live["om"]
+    r_x, r_y = contact_offset_at(live.theta, live.profile, along, across)
+    m_i, in_i = live.mass, live.inertia
+    v_x, v_y, w = live.vx, live.vy, live.spin
     k_tt, k_nn, k_tn = impulse_matrix(m_i, in_i, r_x, r_y)
     u_t = v_x - w * r_y
     u_n = v_y + w * r_x
-    p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live["e"], live["mu"], live["law"])
+    p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live.restitution, live.friction, live.law)
     v_x2 = v_x + p_t / m_i
     v_y2 = v_y + p_n / m_i
     w2 = w + (r_x * p_n - r_y * p_t) / in_i
     ke_before = 0.5 * m_i * (v_x ** 2 + v_y ** 2) + 0.5 * in_i * w ** 2
     ke_after = 0.5 * m_i * (v_x2 ** 2 + v_y2 ** 2) + 0.5 * in_i * w2 ** 2
-    record = {"time": live["t"], "x": live["x"], "y": live["y"], "theta": theta,
+    record = {"time": live.time, "x": live.x, "y": live.y, "theta": live.theta,
               "vx": v_x2, "vy": v_y2, "spin": w2, "impulse_normal": p_n, "impulse_tangential": p_t,
               "slip": slip, "energy_gain": ke_after > ke_before * (1 + 1e-12),
               # a piece with along = +1 lies A sin(theta) BELOW the centre:
@@ -356,38 +388,34 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
     before its last impact, so nothing is gathered at all.
     """
     n = mass.size
-    d_low, d_high = flight.depth_range(*profile)
+    d_low, d_high = depth_range(*profile)
     rest_energy = mass * GRAVITY * d_low
-    live = {
-        "index": np.arange(n), "t": np.zeros(n), "x": np.zeros(n), "y": y0.copy(), "vx": vx0.copy(),
-        "vy": vy0.copy(), "th": th0.copy(), "om": om0.copy(), "mass": mass, "inertia": inertia,
-        "hl": profile[0], "hw": profile[1], "rl": profile[2], "rw": profile[3], "e": e, "mu": mu,
-        "law": laws, "d2": flight.curvature_bound(*profile), "d_low": d_low, "d_high": d_high,
-        "rest_energy": rest_energy,
-        "energy0": (0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * GRAVITY * y0
-                    - rest_energy),
-        # strikes again after the next flight (False: settled, flight only)
-        "impacting": np.ones(n, bool),
-    }
+    live = _Flying(
+        index=np.arange(n), time=np.zeros(n), x=np.zeros(n), y=y0.copy(), vx=vx0.copy(), vy=vy0.copy(),
+        theta=th0.copy(), spin=om0.copy(), mass=mass, inertia=inertia, half_long=profile[0],
+        half_wide=profile[1], round_long=profile[2], round_wide=profile[3], restitution=e, friction=mu,
+        law=laws, curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
+        rest_energy=rest_energy,
+        excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * GRAVITY * y0
+                           - rest_energy),
+        impacting=np.ones(n, bool))
 
-    def keep(rows, mask):
-        where = np.flatnonzero(mask)
-        return {name: a.take(where) for name, a in rows.items()}
+    def keep(drops, mask):
+        return drops.take(np.flatnonzero(mask))
 
-    def put(name, j, rows, value):
+    def put(name, j, drops, value):
         # every drop of the chunk still live: a plain column write
-        if rows["index"].size == n:
+        if drops.index.size == n:
             out[name][:, j] = value
         else:
-            out[name][rows["index"], j] = value
+            out[name][drops.index, j] = value
 
     for j in range(k + 1):
-        if live["index"].size == 0:
+        if live.index.size == 0:
             break
-        prof = (live["hl"], live["hw"], live["rl"], live["rw"])
         # after the last impact only the flight's length is wanted
-        tau, along, across = flight.next_contact(live["y"], live["vy"], live["th"], live["om"], prof,
-                                                 live["d2"], live["d_high"], strikes=j < k)
+        tau, along, across = next_contact(live.y, live.vy, live.theta, live.spin, live.profile,
+                                          live.curvature_bound, live.d_high, strikes=j < k)
         failed = np.isnan(tau)
         any_failed = bool(failed.any())
         if j > 0:
@@ -395,48 +423,46 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             flown = keep(live, ~failed) if any_failed else live
             tau_ok = tau[~failed] if any_failed else tau
             put("flight", j - 1, flown, tau_ok)
-            c, b, tp = flight.flight_peaks(flown["y"], flown["vy"], flown["th"], flown["om"], tau_ok,
-                                           (flown["hl"], flown["hw"], flown["rl"], flown["rw"]),
-                                           flown["d_low"], flown["d_high"])
+            c, b, tp = flight_peaks(flown.y, flown.vy, flown.theta, flown.spin, tau_ok, flown.profile,
+                                    flown.d_low, flown.d_high)
             put("peak_centre", j - 1, flown, c)
             put("peak_bottom", j - 1, flown, b)
             put("peak_top", j - 1, flown, tp)
         if any_failed:
-            status[live["index"][failed]] = FAILED
+            status[live.index[failed]] = FAILED
         if j == k:
             break
-        go = ~failed & live["impacting"]
+        go = ~failed & live.impacting
         if not go.all():
             live = keep(live, go)
             tau, along, across = tau[go], along[go], across[go]
         # advance to the contact
-        live["t"] += tau
-        live["x"] += live["vx"] * tau
-        live["y"] += live["vy"] * tau - 0.5 * GRAVITY * tau ** 2
-        live["vy"] -= GRAVITY * tau
-        live["th"] += live["om"] * tau
+        live.time += tau
+        live.x += live.vx * tau
+        live.y += live.vy * tau - 0.5 * GRAVITY * tau ** 2
+        live.vy -= GRAVITY * tau
+        live.theta += live.spin * tau
         record, separating, ke_after = _strike(live, along, across)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)
-        count[live["index"]] = j + 1
-        live["vx"], live["vy"], live["om"] = record["vx"], record["vy"], record["spin"]
+        count[live.index] = j + 1
+        live.vx, live.vy, live.spin = record["vx"], record["vy"], record["spin"]
         del record
         # does it fly on?
         resting = separating <= RESTING_SPEED
-        above_rest = ke_after + live["mass"] * GRAVITY * live["y"] - live["rest_energy"]
-        settled = ~resting & (above_rest < settle_fraction * live["energy0"])
-        live["impacting"] = ~(resting | settled)
+        above_rest = ke_after + live.mass * GRAVITY * live.y - live.rest_energy
+        settled = ~resting & (above_rest < settle_fraction * live.excess_at_release)
+        live.impacting = ~(resting | settled)
         del separating, ke_after, above_rest
         if settled.any():
-            status[live["index"][settled]] = SETTLED
+            status[live.index[settled]] = SETTLED
         if resting.any():
             still = keep(live, resting)
-            ids = still["index"]
+            ids = still.index
             status[ids] = RESTING
             out["flight"][ids, j] = 0.0
-            out["peak_centre"][ids, j] = still["y"]
+            out["peak_centre"][ids, j] = still.y
             out["peak_bottom"][ids, j] = 0.0
-            out["peak_top"][ids, j] = still["y"] + depth(still["th"], still["hl"], still["hw"], still["rl"],
-                                                        still["rw"])
+            out["peak_top"][ids, j] = still.y + depth(still.theta, *still.profile)
             live = keep(live, ~resting)

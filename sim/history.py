@@ -5,7 +5,7 @@ import numpy as np
 
 from .drop import DropResult
 from .flight import GRAVITY
-from .shapes import depth
+from .geometry import depth
 
 
 def history(result: DropResult, drop: int, times) -> dict:

@@ -23,16 +23,95 @@ References
 """
 from __future__ import annotations
 
-import numpy as np
+from dataclasses import dataclass
+from typing import Callable, NamedTuple
 
-#: Impact laws, by the code stored per drop. ``energetic`` is the default:
-#: it never creates energy.
-LAWS = ("energetic", "poisson", "newton")
-LAW_CODE = {name: code for code, name in enumerate(LAWS)}
+import numpy as np
 
 #: Slip histories, by the code stored per impact.
 SLIP_HISTORY = ("slip", "stick", "reversed")
 SLIP, STICK, REVERSED = range(3)
+
+
+class Phases(NamedTuple):
+    """What every restitution law starts from: the normal-impulse space of
+    one impact (:func:`routh_impact`), each an array. ``u_n(p)`` is
+    ``u_n0 + b1 p`` up to ``p_s`` and ``u_s + b2 (p - p_s)`` after, and the
+    work ``W(p) = integral of u_n dp``."""
+
+    normal_velocity: np.ndarray  # u_n0, before impact (< 0) [m/s]
+    restitution: np.ndarray  # e, in the sense of the law [-]
+    slope_1: np.ndarray  # b1 = du_n/dp while slipping as at first [1/kg]
+    slope_2: np.ndarray  # b2 = du_n/dp after the slip stopped [1/kg]
+    slip_end: np.ndarray  # p_s, where the first slip stops (inf if never) [N s]
+    velocity_at_slip_end: np.ndarray  # u_s = u_n(p_s) [m/s]
+    work_at_slip_end: np.ndarray  # W(p_s) [J]
+    compression_in_phase_1: np.ndarray  # whether u_n reaches 0 before p_s
+    compression_end_2: np.ndarray  # p where u_n = 0 on the second phase's line [N s]
+    compression_end: np.ndarray  # p_c, where u_n = 0 [N s]
+    compression_work: np.ndarray  # W(p_c) [J]
+
+
+def _energetic_impulse(ph):
+    """Stronge's energetic law: ``W(p_f) = (1 - e^2) W(p_c)``. With
+    compression ending in phase 1 and restitution too, that is
+    ``(1 + e) p_c``; with compression ending in phase 2, ``W = W_c + b2 (p -
+    p_c)^2 / 2`` there, so ``p_f = p_c + e sqrt(-2 W_c / b2)``; otherwise
+    restitution starts in phase 1 and ends in phase 2 (written without
+    cancellation)."""
+    e, p_s, u_s, b2, w_c = ph.restitution, ph.slip_end, ph.velocity_at_slip_end, ph.slope_2, ph.compression_work
+    p_poisson = (1 + e) * ph.compression_end
+    w_target = (1 - e ** 2) * w_c
+    p_phase2 = ph.compression_end_2 + e * np.sqrt(np.maximum(-2 * w_c / b2, 0.0))
+    excess = np.maximum(w_target - ph.work_at_slip_end, 0.0)
+    q = 2 * excess / (u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * excess, 0.0)))
+    return np.where(ph.compression_in_phase_1, np.where(p_poisson <= p_s, p_poisson, p_s + q), p_phase2)
+
+
+def _poisson_impulse(ph):
+    """Poisson's law: ``p_f = (1 + e) p_c``."""
+    return (1 + ph.restitution) * ph.compression_end
+
+
+def _newton_impulse(ph):
+    """Newton's law: ``u_n(p_f) = -e u_n0``."""
+    u_n0, b1, p_s = ph.normal_velocity, ph.slope_1, ph.slip_end
+    u_target = -ph.restitution * u_n0
+    p_newton1 = (u_target - u_n0) / b1
+    return np.where((b1 > 0) & (p_newton1 <= p_s), p_newton1,
+                    p_s + (u_target - ph.velocity_at_slip_end) / ph.slope_2)
+
+
+@dataclass(frozen=True)
+class Law:
+    """One restitution law: how an impact's normal impulse ends."""
+
+    name: str  # as users write it (study files, CLI, batch tables)
+    code: int  # as stored per drop (int8)
+    description: str  # one line, with its reference
+    creates_energy: bool  # whether it can create kinetic energy (then flagged)
+    terminal_impulse: Callable[[Phases], np.ndarray]  # p_f [N s] from the impact's phases
+
+
+#: The restitution laws, in the order of their codes; the first is the
+#: default. Adding a law: one entry here and its terminal-impulse function.
+LAW_TABLE = (
+    Law("energetic", 0, "work of restitution = e^2 x work of compression (Stronge, Proc. R. Soc. Lond. A "
+        "431:169, 1990); never creates energy", False, _energetic_impulse),
+    Law("poisson", 1, "impulse of restitution = e x impulse of compression (Poisson; Stronge, Impact "
+        "Mechanics, 2000, ch. 4)", False, _poisson_impulse),
+    Law("newton", 2, "separating normal speed = e x approach speed (Newton); creates energy when slip "
+        "reverses (Stronge, J. Appl. Mech. 58:1049, 1991)", True, _newton_impulse),
+)
+if [law.code for law in LAW_TABLE] != list(range(len(LAW_TABLE))):
+    raise ValueError("sim.impact.LAW_TABLE: the codes must be 0, 1, 2, ... in table order")
+
+#: Law names, by the code stored per drop (``energetic``, the default,
+#: never creates energy).
+LAWS = tuple(law.name for law in LAW_TABLE)
+LAW_CODE = {law.name: law.code for law in LAW_TABLE}
+#: The laws that can create kinetic energy (their impacts are flagged).
+ENERGY_CREATING = tuple(law.name for law in LAW_TABLE if law.creates_energy)
 
 
 def law_codes(law, size):
@@ -78,8 +157,7 @@ def routh_impact(tangential_velocity, normal_velocity, k_tt, k_nn, k_tn,
     friction : array_like
         Coulomb friction coefficient >= 0. [-]
     law : array_like of int
-        Codes from :data:`LAW_CODE`: energetic (Stronge), Poisson (kinetic)
-        or Newton (kinematic) restitution.
+        Codes from :data:`LAW_CODE` (the laws of :data:`LAW_TABLE`).
 
     Returns
     -------
@@ -125,38 +203,19 @@ def routh_impact(tangential_velocity, normal_velocity, k_tt, k_nn, k_tn,
         p_c = np.where(in_phase1, p_c1, p_c2)
         w_c = np.where(in_phase1, 0.5 * u_n0 * p_c1, w_s - u_s ** 2 / (2 * b2))
 
-        # Poisson: p_f = (1 + e) p_c
-        p_poisson = (1 + e) * p_c
+        phases = Phases(normal_velocity=u_n0, restitution=e, slope_1=b1, slope_2=b2, slip_end=p_s,
+                        velocity_at_slip_end=u_s, work_at_slip_end=w_s, compression_in_phase_1=in_phase1,
+                        compression_end_2=p_c2, compression_end=p_c, compression_work=w_c)
         # only the laws that occur are worked out (one, in most calls)
-        law = np.asarray(law)
-        present = [bool(np.any(law == LAW_CODE[name])) for name in LAWS]
-        finals = {}
-
-        if present[LAW_CODE["newton"]]:
-            # Newton: u_n(p_f) = -e u_n0
-            u_target = -e * u_n0
-            p_newton1 = (u_target - u_n0) / b1
-            finals["newton"] = np.where((b1 > 0) & (p_newton1 <= p_s), p_newton1, p_s + (u_target - u_s) / b2)
-
-        if present[LAW_CODE["energetic"]]:
-            # Energetic: W(p_f) = (1 - e^2) W(p_c). With compression ending
-            # in phase 1 and restitution too, that is (1 + e) p_c; with
-            # compression ending in phase 2, W = W_c + b2 (p - p_c)^2 / 2
-            # there, so p_f = p_c + e sqrt(-2 W_c / b2); otherwise
-            # restitution starts in phase 1 and ends in phase 2 (written
-            # without cancellation).
-            w_target = (1 - e ** 2) * w_c
-            p_phase2 = p_c2 + e * np.sqrt(np.maximum(-2 * w_c / b2, 0.0))
-            excess = np.maximum(w_target - w_s, 0.0)
-            q = 2 * excess / (u_s + np.sqrt(np.maximum(u_s ** 2 + 2 * b2 * excess, 0.0)))
-            finals["energetic"] = np.where(in_phase1, np.where(p_poisson <= p_s, p_poisson, p_s + q), p_phase2)
-        finals["poisson"] = p_poisson
-
-        if sum(present) == 1:
-            p_f = finals[LAWS[present.index(True)]]
+        codes = np.asarray(law)
+        present = [each for each in LAW_TABLE if bool(np.any(codes == each.code))]
+        if len(present) == 1:
+            p_f = present[0].terminal_impulse(phases)
         else:
-            p_f = np.select([law == LAW_CODE["energetic"], law == LAW_CODE["poisson"]],
-                            [finals.get("energetic", p_poisson), p_poisson], finals.get("newton", p_poisson))
+            # each drop its own law (a code outside the table gives NaN)
+            p_f = np.full(np.shape(p_c), np.nan)
+            for each in present:
+                p_f = np.where(codes == each.code, each.terminal_impulse(phases), p_f)
         p_t = -s * mu * np.minimum(p_f, p_s) + np.where(p_f > p_s, dpt2 * (p_f - p_s), 0.0)
 
     reached_phase2 = (p_f > p_s) & (mu > 0)

@@ -8,23 +8,8 @@ spheroid (ellipse) and the flat-ended cylinder (rectangle), and the kernels
 only ever see its four numbers, so a new member of the family is one small
 class: its four profile numbers, its mass and its transverse moment.
 
-Depth of the lowest point
--------------------------
-With the axis at angle ``theta`` from +x (counter-clockwise), the support
-function of a Minkowski sum is the sum of the supports, so the depth of the
-lowest point below the centre is::
-
-    d(theta) = half_long |sin theta| + half_wide |cos theta|
-               + sqrt(round_long^2 sin^2 theta + round_wide^2 cos^2 theta)
-
-Contact offset (envelope theorem): the lowest point q*(theta) maximises the
-depth ``-q_y`` over the body points q, so ``d'(theta) = -dq*_y/dtheta`` at
-fixed body point; rotating a body point q by dtheta moves its height by
-``q_x dtheta``, hence ``d'(theta) = -r_x`` and the offset from the centre to
-the contact is ``r = (-d'(theta), -d(theta))``.
-
-The body is centrally symmetric, so the top point stands ``d(theta)`` above
-the centre.
+The depth of the lowest point below the centre, the contact offset and
+the outline of the family are worked out in :mod:`sim.geometry`.
 
 All numbers in SI units; angles in radians.
 """
@@ -35,60 +20,8 @@ from typing import ClassVar
 
 import numpy as np
 
+from .geometry import contact_offset, depth
 from .limits import DENSITY, POSITIVE_SIZE, SIZE_OR_ZERO, Interval
-
-#: Below this |sin| or |cos| the rectangle part counts as exactly flat on the
-#: floor (both ends, or the whole flat face, touch at once). ``cos(pi/2)`` is
-#: 6e-17 in floating point; a real tilt is far above 1e-12 rad.
-FLAT_TOLERANCE = 1e-12
-
-
-def _flat_sign(x):
-    return np.where(np.abs(x) < FLAT_TOLERANCE, 0.0, np.sign(x))
-
-
-def depth(theta, half_long, half_wide, round_long, round_wide):
-    """Depth of the lowest point below the centre of mass.
-
-    Parameters
-    ----------
-    theta : array_like
-        Angle from +x to the symmetry axis, counter-clockwise. [rad]
-    half_long, half_wide : array_like
-        Half-extents of the rectangle part along and across the axis. [m]
-    round_long, round_wide : array_like
-        Semi-axes of the ellipse part along and across the axis. [m]
-
-    Returns
-    -------
-    numpy.ndarray
-        Depth ``d(theta)`` of the lowest point below the centre. [m]
-    """
-    s, c = np.sin(theta), np.cos(theta)
-    return (half_long * np.abs(s) + half_wide * np.abs(c)
-            + np.sqrt((round_long * s) ** 2 + (round_wide * c) ** 2))
-
-
-def contact_offset(theta, half_long, half_wide, round_long, round_wide):
-    """Offset ``(r_x, r_y)`` from the centre to the lowest point.
-
-    ``r = (-d'(theta), -d(theta))`` (envelope theorem, see the module notes).
-    Where the rectangle part lies exactly flat (two corners equally low) the
-    offset is the midpoint of the touching edge, which is what a symmetric
-    two-point impact reduces to.
-
-    Returns
-    -------
-    tuple of numpy.ndarray
-        ``r_x`` and ``r_y``. [m]
-    """
-    s, c = np.sin(theta), np.cos(theta)
-    ellipse = np.sqrt((round_long * s) ** 2 + (round_wide * c) ** 2)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ellipse_slope = np.where(ellipse > 0, (round_long ** 2 - round_wide ** 2) * s * c / ellipse, 0.0)
-    slope = half_long * _flat_sign(s) * c - half_wide * _flat_sign(c) * s + ellipse_slope
-    d = half_long * np.abs(s) + half_wide * np.abs(c) + ellipse
-    return -slope, -d
 
 
 @dataclass(frozen=True)

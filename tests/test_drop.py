@@ -10,7 +10,7 @@ import pytest
 
 import sim
 import sim.bench
-import sim.flight
+import sim.search
 from sim.drop import RAN_ALL, SETTLED, DropResult
 
 IMPACT_KEYS = tuple(sim.IMPACT_FIELDS) + tuple(sim.IMPACT_CODES)
@@ -411,10 +411,10 @@ def test_history_matches_the_impact_table(benchmark_drops):
         for k, name in enumerate(("translational", "rotational", "potential")):
             assert np.allclose(at[name], after[k][drop, :count], rtol=1e-13, atol=0), name
         # every impact happens on the floor: the search declares contact
-        # within sim.flight.CONTACT_GAP above y = 0 (1e-9 m now), plus
+        # within sim.search.CONTACT_GAP above y = 0 (1e-9 m now), plus
         # rounding of heights below 1 m (1e-12 m)
         assert np.all(at["bottom"] >= -1e-12)
-        assert np.all(at["bottom"] <= sim.flight.CONTACT_GAP + 1e-12)
+        assert np.all(at["bottom"] <= sim.search.CONTACT_GAP + 1e-12)
         # just before: the total equals the table's energy before (flights
         # conserve it exactly, so even a little earlier it is the same);
         # "a little": 1 us or half the flight that led there

@@ -18,10 +18,12 @@ from hypothesis import strategies as st
 
 import sim
 import sim.bench
-import sim.flight
-from sim.impact import LAW_CODE, REVERSED, SLIP, STICK, impulse_matrix, routh_impact
+import sim.search
+from sim.impact import LAW_CODE, LAW_TABLE, LAWS, REVERSED, SLIP, STICK, impulse_matrix, routh_impact
 
-LAW_NAMES = ("newton", "poisson", "energetic")
+# every law of sim.impact.LAW_TABLE: a law added there is held to the
+# closed forms, agreements and properties below
+LAW_NAMES = LAWS
 
 
 def collide(mass, inertia, r_x, r_y, vx, vy, spin, restitution, friction, law):
@@ -248,7 +250,7 @@ def test_capsule_spin_to_lift_through_a_drop():
     # search tolerance: contact is declared up to CONTACT_GAP (1e-9 m)
     # early, i.e. 1e-9 s at 1 m/s; twice that for the time, and g times it
     # (1e-8 m/s, x10) for the speed
-    early = sim.flight.CONTACT_GAP / 1.0
+    early = sim.search.CONTACT_GAP / 1.0
     assert tau - 2 * early <= result.time[0, 0] <= tau + 1e-12
     assert result.vy_before[0, 0] == pytest.approx(-1.0, abs=1e-7)
     assert result.vx[0, 0] == pytest.approx(-0.0061, abs=5e-5)
@@ -467,6 +469,29 @@ def test_newton_slip_reversal_drop_flags_energy_gain(law, gains):
     assert after / before == pytest.approx(expected, abs=1e-4)
     assert result.slip[0, 0] == REVERSED
     assert bool(result.energy_gain[0, 0]) is gains
+    # ... and the law table says so
+    assert LAW_TABLE[LAW_CODE[law]].creates_energy is gains
+
+
+def test_each_drop_takes_its_own_law():
+    # Routh's method per drop with the law of its code: a batch mixing every
+    # law of the table gives each impact the very bits it gets in a batch of
+    # its law alone (no law stands in for another), and a code outside the
+    # table gives NaN, not some law's impulse. Exact comparison: the same
+    # arithmetic per element.
+    mass, inertia, r_x, r_y, u_t, u_n, e, friction = random_impacts(3000, seed=21)
+    k = impulse_matrix(mass, inertia, r_x, r_y)
+    codes = (np.arange(mass.size) % len(LAW_TABLE)).astype(np.int8)
+    mixed = routh_impact(u_t, u_n, *k, e, friction, codes)
+    for law in LAW_TABLE:
+        alone = impulses(u_t, u_n, k, e, friction, law.name)
+        mine = codes == law.code
+        for got, expected in zip(mixed, alone):
+            assert np.array_equal(got[mine], expected[mine])
+    unknown = codes.copy()
+    unknown[::7] = len(LAW_TABLE)
+    p_n = routh_impact(u_t, u_n, *k, e, friction, unknown)[0]
+    assert np.isnan(p_n[::7]).all() and np.isfinite(np.delete(p_n, np.s_[::7])).all()
 
 
 def test_law_codes_by_name_and_per_drop():

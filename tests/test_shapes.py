@@ -489,7 +489,7 @@ def test_make_shape_by_name():
 
 def test_registry_is_built_from_the_classes():
     assert sim.SHAPES == {"capsule": sim.Capsule, "sphere": sim.Sphere, "spheroid": sim.Spheroid,
-                          "cylinder": sim.Cylinder}
+                          "cylinder": sim.Cylinder, "rounded_tablet": sim.shapes.RoundedTablet}
     assert "mixed" not in sim.SHAPES
 
 
