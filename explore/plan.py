@@ -29,10 +29,10 @@ from .distributions import Distribution
 from .sensitivity import METHODS, plan_values
 from .study import COLUMN, QUANTITIES, Study, grid_cells
 
-#: Stage names; each stage's random stream is numbered by its place here, and
-#: METHODS only grows at its end, so adding a method changes no earlier draws.
-STAGES = ("grid", "robust", *METHODS)
-_STREAM = {stage: i + 1 for i, stage in enumerate(STAGES)}
+#: Random stream of each stage: fixed numbers, the sensitivity methods' from
+#: their declarations, so adding a method changes no earlier study's draws.
+_STREAM = {"grid": 1, "robust": 2, **{name: method.stream for name, method in METHODS.items()}}
+STAGES = tuple(_STREAM)
 
 
 def distribution(name, q) -> Distribution:

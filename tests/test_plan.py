@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from explore.plan import STAGES, build_stages, count_drops
+from explore.plan import _STREAM, STAGES, build_stages, count_drops
 from explore.sensitivity import METHODS
 from explore.study import COLUMN, parse_study
 
@@ -79,7 +79,6 @@ def test_counts_agree_with_the_stage_tables(settings, rows):
 
 
 def test_stage_streams_keep_their_numbers():
-    # each stage's random stream is numbered by its place in STAGES: new
-    # methods are appended, so an existing study's draws never change
-    assert STAGES[:4] == ("grid", "robust", "sobol", "morris")
-    assert STAGES[2:] == tuple(METHODS)
+    # the numbers every earlier study's draws were made with
+    assert _STREAM == {"grid": 1, "robust": 2, "sobol": 3, "morris": 4}
+    assert STAGES == ("grid", "robust", *METHODS) and len(set(_STREAM.values())) == len(STAGES)

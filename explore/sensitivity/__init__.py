@@ -8,7 +8,8 @@ analysis never has to be told them a second time and a mismatch (wrong row
 count, second order on at sampling but off at analysis, other levels, ...)
 is an error instead of a silently wrong answer.
 
-One module per method, each ending in its :class:`Method` declaration:
+One module per method, each ending in its :class:`Method` declaration
+(``METHOD``), found here by looking through the package:
 
 * :mod:`.sobol`: Sobol' variance-based indices (:func:`sobol_plan`,
   :func:`sobol_analyze`, :func:`sobol_convergence`);
@@ -23,9 +24,12 @@ matplotlib.
 """
 from __future__ import annotations
 
+import importlib
+import pkgutil
+
 from .._arguments import SensitivityError, fail
 from ..distributions import Distribution
-from . import _checks, morris, sobol
+from . import _checks
 from ._checks import DEFAULT_RESAMPLES, DEFAULT_SEED
 from ._method import Method, Picture, Table
 from .morris import MORRIS_COLUMNS, MorrisPlan, morris_analyze, morris_plan
@@ -41,10 +45,23 @@ __all__ = [
     "DEFAULT_SEED", "DEFAULT_RESAMPLES",
 ]
 
-#: Every sensitivity method by name. Append new methods at the end: the
-#: order numbers the random streams of the planner's stages
-#: (explore.plan.STAGES), so reordering would change earlier studies' draws.
-METHODS = {method.name: method for method in (sobol.METHOD, morris.METHOD)}
+
+
+def _declarations():
+    """The ``METHOD`` of every public module of this package, in the order of their streams."""
+    found = [importlib.import_module(f"{__name__}.{module.name}").METHOD
+             for module in pkgutil.iter_modules(__path__) if not module.name.startswith("_")]
+    found.sort(key=lambda method: method.stream)
+    for earlier, method in zip(found, found[1:]):
+        if method.stream == earlier.stream or method.name == earlier.name:
+            raise RuntimeError(f"sensitivity methods {earlier.name} and {method.name} share a stream or a name")
+    if found and found[0].stream <= 2:
+        raise RuntimeError(f"sensitivity method {found[0].name}: stream must be > 2 (1, 2: grid, robust)")
+    return found
+
+
+#: Every sensitivity method by name, in the order of their random streams.
+METHODS = {method.name: method for method in _declarations()}
 
 #: The method names, for the study file's ``analyses.sensitivity.method``.
 METHOD_NAMES = tuple(METHODS)

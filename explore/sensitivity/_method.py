@@ -57,6 +57,11 @@ class Method:
     name : str
         Its key in :data:`explore.sensitivity.METHODS`, the study file's
         ``analyses.sensitivity.method`` and the name of its stage of drops.
+    stream : int
+        Number of its stage's random stream in the planner
+        (:mod:`explore.plan`), unique, > 2 (1 and 2 are the grid and
+        robust stages). Never change it once given: it fixes the draws of
+        every study that uses the method.
     title : str
         Its name in the report's heading (``Sobol indices``).
     plan_type : type
@@ -86,6 +91,7 @@ class Method:
     """
 
     name: str
+    stream: int
     title: str
     plan_type: type
     make_plan: Callable

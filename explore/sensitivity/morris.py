@@ -214,6 +214,7 @@ def _analyse_for_study(plan, y):
 
 METHOD = Method(
     name="morris",
+    stream=4,
     title="Morris screening",
     plan_type=MorrisPlan,
     make_plan=_plan_for_study,

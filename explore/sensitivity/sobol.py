@@ -335,6 +335,7 @@ def _draw_convergence(table, path, study_name):
 
 METHOD = Method(
     name="sobol",
+    stream=3,
     title="Sobol indices",
     plan_type=SobolPlan,
     make_plan=_plan_for_study,
