@@ -150,10 +150,8 @@ def convergence_chart(conv_table, path, title="Convergence of Sobol indices"):
     ----------
     conv_table : pandas.DataFrame
         The frame of :func:`explore.sensitivity.sobol_convergence`.
-    path : str or pathlib.Path
-        Output file; the format follows the suffix (.png, .svg or .pdf).
-    title : str, optional
-        Chart title.
+    path, title
+        As in :func:`ranking_chart`.
 
     Returns
     -------

@@ -129,6 +129,7 @@ def grid_frame(study: Study) -> pd.DataFrame:
     Parameters
     ----------
     study : Study
+        Its grid, distributions, ``analyses.draws`` and seed are used.
 
     Returns
     -------

@@ -17,23 +17,13 @@ from explore.study import COLUMN, parse_study
 
 ROOT = Path(__file__).resolve().parents[1]
 
+# 3 x 4 grid cells x 2 draws = 24 grid drops; four quantities vary
 STUDY = """\
 name: plan
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 3}}
-  density: 1150
-contact:
-  restitution: {uniform: {low: 0.8, high: 0.95}}
-  friction: 0.2
-release:
-  height: {normal: {mean: 0.05, sd: 0.01}}
-  angle: {grid: {low: 0, high: 90, steps: 4}}
-analyses:
-  draws: 2
-  robustness: false
-  sensitivity: SETTINGS
+body: {shape: capsule, diameter: 0.006, density: 1150, aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 3}}}
+contact: {restitution: {uniform: {low: 0.8, high: 0.95}}, friction: 0.2}
+release: {height: {normal: {mean: 0.05, sd: 0.01}}, angle: {grid: {low: 0, high: 90, steps: 4}}}
+analyses: {draws: 2, robustness: false, sensitivity: SETTINGS}
 run: {seed: 3}
 """
 
