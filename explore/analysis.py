@@ -1,4 +1,10 @@
-"""All analyses of a finished run: maps, curves, robustness, ranking, picks."""
+"""All analyses of a finished run: maps, curves, robustness, ranking, picks.
+
+Where the analysis writes in the run folder is declared here
+(:data:`FIGURE_FOLDER`, :data:`PICKS_FILE`, :func:`output_names`), the
+sensitivity files by each method's declaration in
+:data:`explore.sensitivity.METHODS`.
+"""
 from __future__ import annotations
 
 import time
@@ -8,29 +14,95 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import maps, sensitivity
+from . import maps
 from .picks import picks as make_picks
-from .runner import RunOutcome
+from .sensitivity import METHODS, RANKING_FILE, output_files
+
+#: Folder of every figure of a run (maps, curves, robustness, sensitivity
+#: charts) and of the CSV file behind each map, inside the run folder.
+FIGURE_FOLDER = "maps"
+
+#: The recommended drop conditions, inside the run folder.
+PICKS_FILE = "picks.csv"
+
+
+def output_names():
+    """Every file and folder :func:`analyse` can write, relative to the run folder.
+
+    Returns
+    -------
+    tuple of str
+        The figure folder, the picks file and every sensitivity method's
+        CSV files (whichever method a run used).
+    """
+    return (FIGURE_FOLDER, PICKS_FILE, *output_files())
 
 
 @dataclass
 class Artefacts:
+    """What :func:`analyse` made: tables, and paths of the files it wrote."""
+
     maps: list = field(default_factory=list)        # (title, [image paths], csv path)
     curves: list = field(default_factory=list)
     robustness: list = field(default_factory=list)
-    ranking: pd.DataFrame | None = None
-    second_order: pd.DataFrame | None = None
-    convergence: pd.DataFrame | None = None
+    method: str | None = None                       # key in METHODS of the sensitivity method that ran
+    ranking: pd.DataFrame | None = None             # that method's ranking, rank 1 first
+    sensitivity_tables: dict = field(default_factory=dict)  # Table.key -> its further tables
     ranking_charts: list = field(default_factory=list)
     picks: pd.DataFrame | None = None
     notes: list = field(default_factory=list)
     seconds: dict = field(default_factory=dict)
 
 
-def analyse(outcome: RunOutcome) -> Artefacts:
+def _sensitivity(outcome, art, folder, figures):
+    """Rank the quantities with the plan's method; write its tables and charts."""
+    plan = outcome.plan
+    method = METHODS[plan.method]
+    art.method = method.name
+    table = outcome.tables[method.name].sort_values("sample")
+    y = table["value"].to_numpy(dtype=float)
+    missing = int(np.isnan(y).sum())
+    if missing:
+        art.notes.append(f"{missing} sensitivity drop(s) would start inside the floor; they count as "
+                         "no rebound (metric 0) in the ranking.")
+        y = np.nan_to_num(y, nan=0.0)
+    found = method.analyse(plan, y)
+    art.ranking = found["ranking"].sort_values("rank").reset_index(drop=True)
+    art.ranking.to_csv(folder / RANKING_FILE, index=False)
+    for extra in method.tables:
+        frame = found.get(extra.key)
+        if frame is not None and len(frame):
+            art.sensitivity_tables[extra.key] = frame
+            frame.to_csv(folder / extra.file, index=False)
+    shown = {"ranking": art.ranking, **art.sensitivity_tables}
+    for picture in method.pictures:
+        if picture.table in shown:
+            path = figures / picture.file
+            picture.draw(shown[picture.table], path, outcome.study.name)
+            art.ranking_charts.append(path)
+
+
+def analyse(outcome) -> Artefacts:
+    """Every analysis the study asks for, on a finished run.
+
+    Parameters
+    ----------
+    outcome : explore.runner.RunOutcome
+        The run: its study, folder, stage tables and sensitivity plan.
+
+    Returns
+    -------
+    Artefacts
+        The maps, curves and robustness figures (paths), the sensitivity
+        ranking with its method's further tables and charts, the picks,
+        notes for the report and the time taken. [s for ``seconds``]
+        Files go to the run folder: figures in :data:`FIGURE_FOLDER`, the
+        ranking in ``sensitivity.csv``, each further table in its declared
+        file, the picks in :data:`PICKS_FILE`.
+    """
     study, folder, tables = outcome.study, Path(outcome.folder), outcome.tables
     art = Artefacts()
-    map_dir = folder / "maps"
+    map_dir = folder / FIGURE_FOLDER
     t0 = time.perf_counter()
     grid = tables.get("grid")
     robust = tables.get("robust")
@@ -51,40 +123,10 @@ def analyse(outcome: RunOutcome) -> Artefacts:
         art.robustness.append((f"robustness over {x}" + (f" and {y}" if y else ""), paths, csv))
     art.seconds["plotting"] = time.perf_counter() - t0
     t1 = time.perf_counter()
-    plan = outcome.plan
-    if plan is not None:
-        method = study.analyses.sensitivity.method
-        table = tables[method].sort_values("sample")
-        y = table["value"].to_numpy(dtype=float)
-        missing = int(np.isnan(y).sum())
-        if missing:
-            art.notes.append(f"{missing} sensitivity drop(s) would start inside the floor; they count as "
-                             "no rebound (metric 0) in the ranking.")
-            y = np.nan_to_num(y, nan=0.0)
-        if method == "sobol":
-            ranked = sensitivity.sobol_analyze(plan, y)
-            if isinstance(ranked, tuple):
-                ranked, art.second_order = ranked
-            art.convergence = sensitivity.sobol_convergence(plan, y, full=ranked)
-        else:
-            ranked = sensitivity.morris_analyze(plan, y)
-        art.ranking = ranked.sort_values("rank").reset_index(drop=True)
-        ranked = art.ranking
-        ranked.to_csv(folder / "sensitivity.csv", index=False)
-        if art.second_order is not None:
-            art.second_order.to_csv(folder / "sensitivity-second-order.csv", index=False)
-        if method == "sobol":
-            chart = folder / "maps" / "ranking.png"
-            chart.parent.mkdir(parents=True, exist_ok=True)
-            sensitivity.ranking_chart(ranked, chart, title=f"{study.name}: which quantities matter")
-            art.ranking_charts.append(chart)
-            if art.convergence is not None and len(art.convergence):
-                conv = folder / "maps" / "ranking-convergence.png"
-                art.convergence.to_csv(folder / "sensitivity-convergence.csv", index=False)
-                sensitivity.convergence_chart(art.convergence, conv)
-                art.ranking_charts.append(conv)
+    if outcome.plan is not None:
+        _sensitivity(outcome, art, folder, map_dir)
     art.seconds["analysis"] = time.perf_counter() - t1
     if robust is not None and len(robust) and (study.analyses.picks is not None):
         art.picks = make_picks(study, robust, grid)
-        art.picks.to_csv(folder / "picks.csv", index=False)
+        art.picks.to_csv(folder / PICKS_FILE, index=False)
     return art

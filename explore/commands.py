@@ -14,8 +14,18 @@ HANDLERS = {}
 #: example studies here (kernel, metrics, Parquet, analysis and plots).
 ESTIMATE_RATE = 35_000
 
+#: Drop counts and time taken of the last run, inside the run folder.
+RUN_RECORD = "run.json"
+
 
 def register(sub):
+    """Add the ``run``, ``check`` and ``new`` commands and their handlers.
+
+    Parameters
+    ----------
+    sub : argparse._SubParsersAction
+        The command line's sub-command parsers.
+    """
     run = sub.add_parser("run", help="run a study: maps, ranking, picks and report.html")
     run.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
     run.add_argument("--out", type=Path, default=None, help="run folder (default runs/<name>)")
@@ -33,6 +43,22 @@ def register(sub):
 
 
 def find_study(text):
+    """The study file a command names.
+
+    Parameters
+    ----------
+    text : str
+        A path, or a name looked up as ``studies/NAME.yaml`` (or ``.yml``).
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    InputError
+        When neither exists (the message says where it looked).
+    """
     path = Path(text)
     if path.is_file():
         return path
@@ -44,6 +70,18 @@ def find_study(text):
 
 
 def cmd_check(args):
+    """``hopscape check``: validate a study file and say what it will run.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        ``study``: the study file or name.
+
+    Returns
+    -------
+    int
+        The exit code, 0.
+    """
     from .plan import count_drops
     from .study import load_study
 
@@ -62,9 +100,27 @@ def cmd_check(args):
 
 
 def cmd_run(args):
+    """``hopscape run``: simulate a study, analyse it and write its report.
+
+    Prints the drop counts, the time of each step, the quantities that
+    matter most (by the ranking column of the sensitivity method that ran)
+    and the best pick, and records counts and times in :data:`RUN_RECORD`.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The ``run`` options (study, out, fresh, jobs, backend, scheduler,
+        quiet).
+
+    Returns
+    -------
+    int
+        The exit code, 0.
+    """
     from .analysis import analyse
     from .report import write_report
     from .runner import run_study
+    from .sensitivity import METHODS
     from .study import load_study
 
     path = find_study(args.study)
@@ -83,12 +139,13 @@ def cmd_run(args):
     report = write_report(outcome, art, seconds)
     seconds["report"] = time.perf_counter() - t
     seconds["total"] = time.perf_counter() - start
-    (outcome.folder / "run.json").write_text(json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
-                                                          "seconds": seconds}, indent=1))
+    (outcome.folder / RUN_RECORD).write_text(json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
+                                                          "sensitivity_method": art.method, "seconds": seconds},
+                                                         indent=1))
     print(f"{study.name}: {outcome.total:,} drops ({outcome.simulated:,} simulated now) in {seconds['total']:.1f} s")
     print("  time: " + ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items() if k != "total"))
     if art.ranking is not None:
-        col = "ST" if "ST" in art.ranking else "mu_star"
+        col = METHODS[art.method].ranking_column
         top = art.ranking.sort_values(col, ascending=False).head(3)
         print("  matters most: " + ", ".join(f"{p} ({col} {v:.2f})" for p, v in zip(top["parameter"], top[col])))
     if art.picks is not None and len(art.picks):
@@ -104,6 +161,19 @@ def cmd_run(args):
 
 
 def cmd_new(args):
+    """``hopscape new``: write a commented study template.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        ``name`` (the study's name) and ``out`` (the file, default
+        ``studies/NAME.yaml``; never overwritten).
+
+    Returns
+    -------
+    int
+        The exit code, 0.
+    """
     if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_.-]*", args.name):
         raise InputError(f"name must be letters, digits, '.', '_' or '-', starting with a letter or digit; "
                          f"got {args.name!r}")

@@ -16,6 +16,7 @@ import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
 from .metric_kinds import METRIC_KINDS  # noqa: E402
+from .figures import OKABE_ITO, save_figure  # noqa: E402
 from .plan import cell_coordinates  # noqa: E402
 from .study import COLUMN, Study, label  # noqa: E402
 
@@ -63,16 +64,6 @@ def _grid(cells, x, y, column):
     return xs, ys, z.to_numpy()
 
 
-def _save(fig, base: Path, formats):
-    paths = []
-    for fmt in formats:
-        path = base.with_suffix("." + fmt)
-        fig.savefig(path, dpi=130)
-        paths.append(path)
-    plt.close(fig)
-    return paths
-
-
 def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("png",)):
     """Map of the metric over two grid quantities; returns (paths, csv path)."""
     folder.mkdir(parents=True, exist_ok=True)
@@ -117,7 +108,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
                + ". " + energy_note(study))
     fig.text(0.01, 0.005, _wrap(caption, 120), fontsize=7, va="bottom")
     fig.get_layout_engine().set(rect=(0, 0.06, 1, 0.94))
-    return _save(fig, base, formats), base.with_suffix(".csv")
+    return save_figure(fig, base, formats), base.with_suffix(".csv")
 
 
 def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
@@ -132,17 +123,17 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     frame.to_csv(base.with_suffix(".csv"), index=False)
     value_words, event_words = metric_words(study)
     fig, ax = plt.subplots(figsize=(8, 4.8), constrained_layout=True)
-    ax.fill_between(frame[col], frame["p10_value"], frame["p90_value"], color="#56B4E9", alpha=0.4,
+    ax.fill_between(frame[col], frame["p10_value"], frame["p90_value"], color=OKABE_ITO["sky"], alpha=0.4,
                     label="10-90 % of drops (other quantities)")
-    ax.plot(frame[col], frame["median_value"], color="#0072B2", lw=2, label="median")
+    ax.plot(frame[col], frame["median_value"], color=OKABE_ITO["blue"], lw=2, label="median")
     if not METRIC_KINDS[study.metric.kind].is_flag:
-        ax.axhline(study.metric.threshold, color="#D55E00", ls="--",
+        ax.axhline(study.metric.threshold, color=OKABE_ITO["red"], ls="--",
                    label=f"ratio {study.metric.threshold:g}: the release height (left axis)")
     ax2 = ax.twinx()
-    ax2.plot(frame[col], frame["event_probability"], color="#009E73", lw=1.2, ls=":")
+    ax2.plot(frame[col], frame["event_probability"], color=OKABE_ITO["green"], lw=1.2, ls=":")
     ax2.set_ylim(0, 1.02)
-    ax2.set_ylabel("probability of the event [-]", color="#009E73")
-    ax.plot([], [], color="#009E73", ls=":", label=f"probability: {event_words}")
+    ax2.set_ylabel("probability of the event [-]", color=OKABE_ITO["green"])
+    ax.plot([], [], color=OKABE_ITO["green"], ls=":", label=f"probability: {event_words}")
     ax.set_xlabel(label(x))
     ax.set_ylabel("fraction of drops [-]" if METRIC_KINDS[study.metric.kind].is_flag else "rebound ratio [-]")
     fig.text(0.01, 0.005, _wrap(f"Metric: {value_words}. {energy_note(study)}", 130), fontsize=7, va="bottom")
@@ -150,7 +141,7 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     ax.set_ylim(bottom=0)
     ax.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, frameon=False)
     ax.set_title(f"{study.name}: metric against {label(x)}", fontsize=11)
-    return _save(fig, base, formats), base.with_suffix(".csv")
+    return save_figure(fig, base, formats), base.with_suffix(".csv")
 
 
 def tolerance_effect(robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFrame:
@@ -190,13 +181,13 @@ def robustness(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, x, y, fol
         target = study.analyses.picks.target if study.analyses.picks else 0.8
         if np.nanmin(p) < target < np.nanmax(p):
             ax.contour(xs, ys, p, levels=[target], colors="white", linewidths=2.2)
-            ax.contour(xs, ys, p, levels=[target], colors="#0072B2", linewidths=1.2)
-            ax.legend(handles=[plt.Line2D([], [], color="#0072B2", lw=1.5,
+            ax.contour(xs, ys, p, levels=[target], colors=OKABE_ITO["blue"], linewidths=1.2)
+            ax.legend(handles=[plt.Line2D([], [], color=OKABE_ITO["blue"], lw=1.5,
                                           label=f"event in {target:.0%} of toleranced drops")],
                       loc="upper center", bbox_to_anchor=(0.5, -0.13), fontsize=8, frameon=False)
         ax.set_ylabel(label(y))
     else:
-        ax.plot(cells[COLUMN[x]], cells["mean_change"], color="#CC79A7", lw=2)
+        ax.plot(cells[COLUMN[x]], cells["mean_change"], color=OKABE_ITO["purple"], lw=2)
         ax.set_ylabel("mean change of the metric caused by release errors [-]")
     ax.set_xlabel(label(x))
     ax.set_title(f"{study.name}: robustness to release errors ({tol_text})", fontsize=11)
@@ -205,7 +196,7 @@ def robustness(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, x, y, fol
                                 "drop released exactly (same restitution, friction, ...).", 120),
              fontsize=7, va="bottom")
     fig.get_layout_engine().set(rect=(0, 0.05, 1, 0.95))
-    return _save(fig, base, formats), base.with_suffix(".csv")
+    return save_figure(fig, base, formats), base.with_suffix(".csv")
 
 
 def _wrap(text, width):

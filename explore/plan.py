@@ -16,7 +16,7 @@ Stages
     Every grid cell times ``tolerance.draws`` drops whose release angle,
     height and spin are moved by uniform errors within the stated
     tolerance. The robustness map and the picks come from here.
-``sobol`` / ``morris``
+one per sensitivity method (``sobol``, ``morris``: ``explore.sensitivity.METHODS``)
     The sensitivity sample: gridded quantities count as uniform over their
     range, distributed ones keep their distribution.
 """
@@ -25,15 +25,37 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .sensitivity import Distribution, morris_plan, plan_values, sobol_plan
+from .distributions import Distribution
+from .sensitivity import METHODS, plan_values
 from .study import COLUMN, QUANTITIES, Study, grid_cells
 
-STAGES = ("grid", "robust", "sobol", "morris")
-_STREAM = {stage: i + 1 for i, stage in enumerate(STAGES)}
+#: Random stream of each stage: fixed numbers, the sensitivity methods' from
+#: their declarations, so adding a method changes no earlier study's draws.
+_STREAM = {"grid": 1, "robust": 2, **{name: method.stream for name, method in METHODS.items()}}
+STAGES = tuple(_STREAM)
 
 
 def distribution(name, q) -> Distribution:
-    """The distribution a quantity is drawn from (a grid counts as uniform)."""
+    """The distribution a quantity is drawn from (a grid counts as uniform).
+
+    Parameters
+    ----------
+    name : str
+        The quantity's name (a key of ``explore.study.QUANTITIES``).
+    q : explore.study.Quantity
+        Its validated setting: a grid or a distribution.
+
+    Returns
+    -------
+    Distribution
+        Uniform over a grid's range; a normal is truncated to the range the
+        quantity allows. [unit of the quantity]
+
+    Raises
+    ------
+    ValueError
+        For a fixed quantity, which has no distribution.
+    """
     low, high = QUANTITIES[name].allowed.low, QUANTITIES[name].allowed.high
     if q.grid is not None:
         return Distribution("uniform", low=q.grid.low, high=q.grid.high, mean=None, sd=None)
@@ -47,13 +69,36 @@ def distribution(name, q) -> Distribution:
 
 
 def grid_axes(study: Study):
-    """Values of each gridded quantity, in the study's order."""
+    """Values of each gridded quantity, in the study's order.
+
+    Parameters
+    ----------
+    study : Study
+
+    Returns
+    -------
+    dict of str to numpy.ndarray
+        For each gridded quantity, its ``steps`` evenly spaced values from
+        ``low`` to ``high``. [unit of the quantity]
+    """
     return {name: np.linspace(study.quantity(name).grid.low, study.quantity(name).grid.high,
                               study.quantity(name).grid.steps) for name in study.gridded()}
 
 
 def cell_coordinates(study: Study) -> pd.DataFrame:
-    """Nominal value of every gridded quantity per grid cell (``cell`` index)."""
+    """Nominal value of every gridded quantity per grid cell.
+
+    Parameters
+    ----------
+    study : Study
+
+    Returns
+    -------
+    pandas.DataFrame
+        Column ``cell`` (0, 1, ...; the last gridded quantity varies
+        fastest) and one column per gridded quantity.
+        [units of the columns' names]
+    """
     axes = grid_axes(study)
     mesh = np.meshgrid(*axes.values(), indexing="ij") if axes else []
     frame = {"cell": np.arange(grid_cells(study))}
@@ -79,6 +124,22 @@ def _fill(study, n, rng, values):
 
 
 def grid_frame(study: Study) -> pd.DataFrame:
+    """Input table of the grid stage: every grid cell times the draws.
+
+    Parameters
+    ----------
+    study : Study
+        Its grid, distributions, ``analyses.draws`` and seed are used.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``cell``, ``draw`` and one per quantity: the cell's grid
+        values, fixed values, and ``analyses.draws`` draws of the
+        distributed quantities per cell (one draw when nothing is
+        distributed), from the grid stage's own random stream.
+        [units of the columns' names]
+    """
     axes = grid_axes(study)
     draws = study.analyses.draws if study.random() else 1
     mesh = np.meshgrid(*axes.values(), indexing="ij") if axes else []
@@ -98,6 +159,19 @@ def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
     release angle, height and spin by uniform errors within the tolerance,
     so the change of the metric between the pair is due to the release
     error alone. ``pair`` is the row of the partner in the grid table.
+
+    Parameters
+    ----------
+    study : Study
+    grid : pandas.DataFrame
+        The grid stage's table (:func:`grid_frame`).
+
+    Returns
+    -------
+    pandas.DataFrame
+        ``tolerance.draws`` rows per cell, the grid table's columns plus
+        ``pair``; heights are kept at or above the smallest allowed height.
+        [units of the columns' names]
     """
     tol = study.tolerance
     draws = tol.draws
@@ -118,28 +192,67 @@ def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
 
 
 def sensitivity_plan(study: Study):
-    """The SALib plan for the study's sensitivity analysis (or None)."""
+    """The plan of the study's sensitivity analysis.
+
+    Parameters
+    ----------
+    study : Study
+        A validated study.
+
+    Returns
+    -------
+    plan or None
+        The plan its method (``analyses.sensitivity.method``, a key of
+        ``explore.sensitivity.METHODS``) makes over the varying quantities
+        with the run's seed; its ``method`` attribute names the method.
+        None when the study asks for no sensitivity analysis.
+    """
     sens = study.analyses.sensitivity
     if sens is None:
         return None
-    names = tuple(study.varying())
-    seed = study.run.seed
-    if sens.method == "sobol":
-        return sobol_plan(names, sens.samples, second_order=sens.second_order, seed=seed)
-    return morris_plan(names, trajectories=sens.samples, levels=sens.levels, seed=seed)
+    return METHODS[sens.method].make_plan(tuple(study.varying()), sens, study.run.seed)
 
 
 def sensitivity_frame(study: Study, plan) -> pd.DataFrame:
+    """Input table of a sensitivity plan's drops.
+
+    Parameters
+    ----------
+    study : Study
+        The study the plan was made for.
+    plan : object
+        A plan of :func:`sensitivity_plan`.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per plan row, in plan order: ``sample`` (the row number)
+        and a column per quantity (plan values for the varying ones, the
+        fixed values for the rest). [units of the columns' names]
+    """
     dists = {name: distribution(name, study.quantity(name)) for name in plan.names}
     values = plan_values(plan, dists)
-    rows = len(next(iter(values.values())))
-    frame = {"sample": np.arange(rows)}
-    frame.update(_fill(study, rows, _rng(study, study.analyses.sensitivity.method), values))
+    frame = {"sample": np.arange(plan.rows)}
+    frame.update(_fill(study, plan.rows, _rng(study, plan.method), values))
     return pd.DataFrame(frame)
 
 
 def build_stages(study: Study):
-    """Every stage's input table, keyed by stage name, and the SALib plan."""
+    """Every stage's input table, and the sensitivity plan.
+
+    Parameters
+    ----------
+    study : Study
+
+    Returns
+    -------
+    stages : dict of str to pandas.DataFrame
+        Input tables keyed by stage name (see the module docstring); a
+        study with nothing gridded and no sensitivity analysis gets one
+        ``grid`` table of its draws.
+    plan : object or None
+        The sensitivity plan (:func:`sensitivity_plan`), None without one.
+    """
     stages = {}
     if study.gridded():
         stages["grid"] = grid_frame(study)
@@ -147,7 +260,7 @@ def build_stages(study: Study):
         stages["robust"] = robust_frame(study, stages["grid"])
     plan = sensitivity_plan(study)
     if plan is not None:
-        stages[study.analyses.sensitivity.method] = sensitivity_frame(study, plan)
+        stages[plan.method] = sensitivity_frame(study, plan)
     if not stages:
         # nothing gridded and no sensitivity: one drop per draw of the study
         n = study.analyses.draws if study.random() else 1
@@ -158,7 +271,17 @@ def build_stages(study: Study):
 
 
 def count_drops(study: Study):
-    """Drops per stage without building the tables (for ``hopscape check``)."""
+    """Drops per stage without building the tables (for ``hopscape check``).
+
+    Parameters
+    ----------
+    study : Study
+
+    Returns
+    -------
+    dict of str to int
+        Rows :func:`build_stages` would give each stage. [-]
+    """
     counts = {}
     cells = grid_cells(study)
     if study.gridded():
@@ -167,11 +290,7 @@ def count_drops(study: Study):
             counts["robust"] = cells * study.tolerance.draws
     sens = study.analyses.sensitivity
     if sens is not None:
-        d = len(study.varying())
-        if sens.method == "sobol":
-            counts["sobol"] = sens.samples * ((2 * d + 2) if sens.second_order else (d + 2))
-        else:
-            counts["morris"] = sens.samples * (d + 1)
+        counts[sens.method] = METHODS[sens.method].count_rows(sens, len(study.varying()))
     if not counts:
         counts["grid"] = study.analyses.draws if study.random() else 1
     return counts

@@ -13,9 +13,7 @@ import numpy as np  # noqa: E402
 
 import sim  # noqa: E402
 
-#: Okabe & Ito (2008) colour-blind-safe palette.
-OKABE_ITO = {"orange": "#E69F00", "sky": "#56B4E9", "green": "#009E73", "yellow": "#F0E442",
-             "blue": "#0072B2", "red": "#D55E00", "purple": "#CC79A7", "black": "#000000"}
+from .figures import OKABE_ITO, save_figure  # noqa: E402
 
 MM = 1e3
 MS = 1e3
@@ -132,6 +130,5 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
 
 def _finish(fig, path):
     if path is not None:
-        fig.savefig(path, dpi=130)
-        plt.close(fig)
+        save_figure(fig, path)
     return fig

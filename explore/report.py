@@ -9,19 +9,25 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from .figures import OKABE_ITO
 from .maps import energy_note, metric_words
+from .sensitivity import METHODS
 from .study import QUANTITIES, Study
+
+#: The page, inside the run folder.
+REPORT_FILE = "report.html"
 
 SAFETY = ("Drops from height and heavy, sharp or brittle parts (glass, coated tablets that shatter) can injure "
           "people nearby: wear eye protection, guard the drop zone, keep hands clear of release jigs, and follow "
           "your site's safety rules, which take precedence over anything here.")
 
-_CSS = """body{font-family:system-ui,sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#222}
+_CSS = ("""body{font-family:system-ui,sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#222}
 h1{margin-bottom:0}.sub{color:#555;margin-top:.2em}table{border-collapse:collapse;margin:.6em 0}
 td,th{border:1px solid #ccc;padding:.25em .6em;text-align:right}th{background:#f2f2f2}
-td.l,th.l{text-align:left}.box{border-left:4px solid #E69F00;background:#fff8e6;padding:.6em 1em;margin:1em 0}
-.note{border-left:4px solid #0072B2;background:#eef5fb;padding:.6em 1em;margin:1em 0}
+td.l,th.l{text-align:left}.box{border-left:4px solid WARNING;background:#fff8e6;padding:.6em 1em;margin:1em 0}
+.note{border-left:4px solid NOTE;background:#eef5fb;padding:.6em 1em;margin:1em 0}
 img{max-width:100%;border:1px solid #ddd;margin:.4em 0}figure{margin:1em 0}figcaption{color:#555;font-size:.9em}"""
+        .replace("WARNING", OKABE_ITO["orange"]).replace("NOTE", OKABE_ITO["blue"]))
 
 
 def _describe(name, q):
@@ -66,6 +72,24 @@ def _figures(items, folder):
 
 
 def write_report(outcome, art, seconds) -> Path:
+    """Write ``report.html``, the page a person reads first, into the run folder.
+
+    Parameters
+    ----------
+    outcome : explore.runner.RunOutcome
+        The run: its study, folder and stage tables.
+    art : explore.analysis.Artefacts
+        What :func:`explore.analysis.analyse` made of it; the sensitivity
+        section is worded by the declaration of the method that ran
+        (``art.method``).
+    seconds : dict of str to float
+        Time of each step, shown at the end. [s]
+
+    Returns
+    -------
+    pathlib.Path
+        The page (:data:`REPORT_FILE` in the run folder).
+    """
     study: Study = outcome.study
     folder = Path(outcome.folder)
     value_words, event_words = metric_words(study)
@@ -100,18 +124,14 @@ def write_report(outcome, art, seconds) -> Path:
     if art.robustness:
         parts += ["<h2>Robustness to release errors</h2>", _figures(art.robustness, folder)]
     if art.ranking is not None:
-        method = study.analyses.sensitivity.method
-        parts += [f"<h2>Which quantities matter ({'Sobol indices' if method == 'sobol' else 'Morris screening'})</h2>",
-                  _table(art.ranking)]
-        if method == "sobol":
-            parts.append("<p>S1: share of the metric's variance due to the quantity alone; ST: including all its "
-                         "interactions; *_conf: half-width of the 95 % bootstrap interval. A quantity with ST near 0 "
-                         "can be fixed anywhere in its range.</p>")
+        method = METHODS[art.method]
+        parts += [f"<h2>Which quantities matter ({html.escape(method.title)})</h2>", _table(art.ranking),
+                  f"<p>{html.escape(method.words)}</p>"]
         for chart in art.ranking_charts:
             parts.append(f'<figure><img src="{html.escape(os.path.relpath(chart, folder))}"></figure>')
-        if art.convergence is not None and len(art.convergence):
-            parts.append("<p>Convergence: indices recomputed on a quarter, a half and all of the base samples "
-                         "(sensitivity-convergence.csv). If they still move, raise analyses.sensitivity.samples.</p>")
+        for extra in method.tables:
+            if extra.key in art.sensitivity_tables:
+                parts.append(f"<p>{html.escape(extra.words)}</p>")
     if art.picks is not None:
         parts += ["<h2>Recommended drop conditions</h2>",
                   f"<p>Ranked by the probability of the event under the release tolerance "
@@ -135,6 +155,6 @@ def write_report(outcome, art, seconds) -> Path:
     split = ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items())
     parts.append(f"<p>Time: {html.escape(split)}. Drops simulated in this call: {outcome.simulated:,} of "
                  f"{outcome.total:,} (the rest were already on disk).</p></body></html>")
-    path = folder / "report.html"
+    path = folder / REPORT_FILE
     path.write_text("\n".join(parts), encoding="utf-8")
     return path

@@ -62,16 +62,55 @@ def write_atomic(frame: pd.DataFrame, path: Path):
         os.close(fd)
 
 
+def _earlier_outputs():
+    """Every file and folder a run writes in its folder, except the study file (rewritten each time)."""
+    # imported here: chunk workers import this module and need neither the analysis nor plotting
+    from .analysis import output_names
+    from .commands import RUN_RECORD
+    from .report import REPORT_FILE
+
+    return ("results", "fingerprint.json", *output_names(), REPORT_FILE, RUN_RECORD)
+
+
 def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
-    """Create or reuse the run folder; refuse one that holds another study."""
+    """Create or reuse the run folder; refuse one that holds another study.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study to run.
+    folder : pathlib.Path
+        The run folder; created when missing.
+    source_text : str
+        The study file's text, kept as ``study.yaml``; empty when called
+        from Python, then the validated study is written instead.
+    fresh : bool, optional
+        Remove everything an earlier run wrote here first (result parts,
+        figures, every analysis file of any sensitivity method, the report
+        and the run record); other files in the folder are left alone.
+
+    Returns
+    -------
+    pathlib.Path
+        The folder, holding ``results/``, ``study.yaml`` and
+        ``fingerprint.json``.
+
+    Raises
+    ------
+    InputError
+        When the folder holds results of another study or result parts of
+        unknown origin (and ``fresh`` is off).
+    """
     folder = Path(folder)
     stamp = folder / "fingerprint.json"
     if fresh and folder.exists():
-        for sub in ("results", "maps"):
-            shutil.rmtree(folder / sub, ignore_errors=True)
-        for name in ("fingerprint.json", "sensitivity.csv", "picks.csv", "report.html", "run.json"):
-            with contextlib.suppress(FileNotFoundError):
-                (folder / name).unlink()
+        for name in _earlier_outputs():
+            path = folder / name
+            if path.is_dir():
+                shutil.rmtree(path, ignore_errors=True)
+            else:
+                with contextlib.suppress(FileNotFoundError):
+                    path.unlink()
     if stamp.exists():
         old = json.loads(stamp.read_text())
         if old.get("fingerprint") != study.fingerprint():

@@ -30,6 +30,7 @@ from sim.limits import Interval, number_text
 from .errors import InputError
 from .metric_kinds import METRIC_KINDS
 from .plausibility import study_warnings
+from .sensitivity import METHOD_NAMES, METHODS
 from .quantities import COLUMN, QUANTITIES, label
 
 __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"]
@@ -267,17 +268,17 @@ class CurveSpec(Strict):
 class Sensitivity(Strict):
     """Which quantities matter: a global sensitivity analysis."""
 
-    method: Literal["sobol", "morris"] = Field("sobol", description="sensitivity method")
+    method: Literal[METHOD_NAMES] = Field("sobol", description="sensitivity method")
     samples: int = Field(default=1024, ge=4, le=2 ** 20,
                          description="base samples (Sobol: a power of two) or trajectories (Morris)")
     second_order: bool = Field(False, description="also the second-order Sobol indices")
     levels: int = Field(default=4, ge=2, le=16, description="grid levels of a Morris design")
 
     @model_validator(mode="after")
-    def _power_of_two(self):
-        if self.method == "sobol" and self.samples & (self.samples - 1):
-            raise ValueError(f"samples must be a power of two for Sobol sampling, got {self.samples} "
-                             f"(nearest: {2 ** round(math.log2(self.samples))})")
+    def _fits_the_method(self):
+        problem = METHODS[self.method].settings_problem(self)
+        if problem is not None:
+            raise ValueError(problem)
         return self
 
 

@@ -1,251 +1,22 @@
-"""Sensitivity module: Sobol' and Morris through hopscape's own pipeline.
+"""The sensitivity package's shared contract (explore.sensitivity): checks every method makes, the registry.
 
-Reference values and where they come from:
-
-* Ishigami analytic indices, a = 7, b = 0.1, inputs uniform on [-pi, pi]:
-  S1 = 0.3139, 0.4424, 0; ST = 0.5576, 0.4424, 0.2437 (Ishigami & Homma
-  1990; Sobol' & Levitan 1999; S1 also in the docstring of SALib's
-  ``test_functions/Ishigami.py``). The closed forms are also checked here
-  against Gauss-Legendre quadrature, which uses none of them.
-* Tolerance of the Sobol' estimates: SALib's own regression test,
-  ``tests/test_regression.py::test_regression_sobol`` in the SALib
-  repository (read at commit 6c4b21ffff36f8469555d3f6be1d79a7461efa15),
-  checks Ishigami S1 and ST with
-  ``assert_allclose(..., atol=5e-2, rtol=1e-1)``; the installed SALib 1.6
-  wheel ships no tests, so the value was read from the repository source.
-  We use the same tolerance, against the analytic values instead of
-  SALib's two-decimal ones.
-* Morris on Ishigami with 4 levels: the elementary effects are worked out
-  by hand in ``test_morris_ishigami`` (SALib's regression test for vanilla
-  Morris has mu_star(x2) = 7.875 too).
+Checks written from the package's own rules (seeds >= 1 because SALib
+reads 0 as no seed, names unique, distributions matching the plan); the
+methods' numbers are checked against published values in
+test_sensitivity_sobol.py and test_sensitivity_morris.py.
 """
 import re
+from types import SimpleNamespace as sens_settings  # the study's analyses.sensitivity, as the methods read it
 
-import matplotlib
-import matplotlib.container
-import matplotlib.colors
 import numpy as np
 import pandas as pd
 import pytest
-from numpy.testing import assert_allclose
-from scipy import special, stats
 
+from _ishigami import UNIFORM_PI, ishigami_outputs
 from explore import sensitivity as sens
 from explore.errors import InputError
-from explore.sensitivity import Distribution, SensitivityError
-from explore.test_functions import (ISHIGAMI_NAMES, ISHIGAMI_S1, ISHIGAMI_S2, ISHIGAMI_ST, ishigami,
-                                    ishigami_indices)
-from SALib.analyze import sobol as salib_sobol
-
-# SALib's regression tolerance for Ishigami Sobol' indices (see module docstring)
-SALIB_ATOL, SALIB_RTOL = 5e-2, 1e-1
-
-BASE = 2 ** 12
-SEED = 20240607
-UNIFORM_PI = Distribution("uniform", low=-np.pi, high=np.pi)
-
-
-def ishigami_outputs(plan):
-    values = sens.plan_values(plan, {name: UNIFORM_PI for name in ISHIGAMI_NAMES})
-    return ishigami(values["x1"], values["x2"], values["x3"])
-
-
-@pytest.fixture(scope="module")
-def ishigami_run():
-    plan = sens.sobol_plan(ISHIGAMI_NAMES, BASE, second_order=False, seed=SEED)
-    y = ishigami_outputs(plan)
-    indices, pairs = sens.sobol_analyze(plan, y)
-    return plan, y, indices, pairs
-
-
-# --------------------------------------------------------------------------
-# reference function
-# --------------------------------------------------------------------------
-
-def test_ishigami_closed_forms_round_to_published_values():
-    computed = ishigami_indices()
-    for name in ISHIGAMI_NAMES:
-        assert round(computed["S1"][name], 4) == ISHIGAMI_S1[name]
-        assert round(computed["ST"][name], 4) == ISHIGAMI_ST[name]
-    for pair, value in ISHIGAMI_S2.items():
-        assert round(computed["S2"][pair], 4) == value
-
-
-def test_ishigami_closed_forms_match_quadrature():
-    # tensor Gauss-Legendre on [-pi, pi]^3: f is a trigonometric-polynomial
-    # mix, smooth, so 40 nodes a side are exact to rounding; the quadrature
-    # knows nothing of the closed forms
-    nodes, weights = np.polynomial.legendre.leggauss(40)
-    x, w = np.pi * nodes, weights / 2.0  # weights of the uniform density
-    f = ishigami(x[:, None, None], x[None, :, None], x[None, None, :])
-    w1, w2, w3 = w[:, None, None], w[None, :, None], w[None, None, :]
-    mean = np.sum(w1 * w2 * w3 * f)
-    variance = np.sum(w1 * w2 * w3 * (f - mean) ** 2)
-    given_x1 = np.sum(w2 * w3 * f, axis=(1, 2))  # E[f | x1]
-    v1 = np.sum(w * (given_x1 - mean) ** 2)
-    given_x2 = np.sum(w1 * w3 * f, axis=(0, 2))
-    v2 = np.sum(w * (given_x2 - mean) ** 2)
-    # total effect of x1: E over (x2, x3) of Var over x1
-    spread_x1 = np.sum(w1 * (f - np.sum(w1 * f, axis=0, keepdims=True)) ** 2, axis=0)
-    t1 = np.sum(w[:, None] * w[None, :] * spread_x1)
-    spread_x3 = np.sum(w3 * (f - np.sum(w3 * f, axis=2, keepdims=True)) ** 2, axis=2)
-    t3 = np.sum(w[:, None] * w[None, :] * spread_x3)
-    computed = ishigami_indices()
-    assert_allclose(variance, computed["variance"], rtol=1e-12)
-    assert_allclose([v1 / variance, v2 / variance], [computed["S1"]["x1"], computed["S1"]["x2"]], rtol=1e-12)
-    assert_allclose([t1 / variance, t3 / variance], [computed["ST"]["x1"], computed["ST"]["x3"]], rtol=1e-12)
-
-
-def test_ishigami_scalar_and_array_agree():
-    points = np.array([[0.3, -1.2, 2.5], [-3.0, 0.1, -0.7]])
-    array = ishigami(points[:, 0], points[:, 1], points[:, 2])
-    scalars = [float(ishigami(*row)) for row in points]
-    assert_allclose(array, scalars, rtol=0, atol=0)
-    # hand value at (pi/2, pi/2, 1): 1 + 7 + 0.1
-    assert_allclose(ishigami(np.pi / 2, np.pi / 2, 1.0), 8.1, rtol=1e-15)
-
-
-# --------------------------------------------------------------------------
-# (a) Sobol' on Ishigami through our pipeline
-# --------------------------------------------------------------------------
-
-def test_sobol_ishigami_first_and_total(ishigami_run):
-    plan, _, indices, pairs = ishigami_run
-    assert list(indices.columns) == ["parameter", "S1", "S1_conf", "ST", "ST_conf", "rank"]
-    assert list(indices["parameter"]) == list(ISHIGAMI_NAMES)
-    assert pairs is None
-    expected_s1 = [ISHIGAMI_S1[n] for n in ISHIGAMI_NAMES]
-    expected_st = [ISHIGAMI_ST[n] for n in ISHIGAMI_NAMES]
-    assert_allclose(indices["S1"], expected_s1, atol=SALIB_ATOL, rtol=SALIB_RTOL)
-    assert_allclose(indices["ST"], expected_st, atol=SALIB_ATOL, rtol=SALIB_RTOL)
-    # the 95 % intervals are positive and cover the analytic values
-    assert (indices["S1_conf"] > 0).all() and (indices["ST_conf"] > 0).all()
-    assert (np.abs(indices["S1"] - expected_s1) <= indices["S1_conf"]).all()
-    assert (np.abs(indices["ST"] - expected_st) <= indices["ST_conf"]).all()
-    # ST: x1 > x2 > x3
-    assert list(indices["rank"]) == [1, 2, 3]
-    assert indices.attrs == {"confidence_level": 0.95, "base_samples": BASE}
-    assert plan.rows == BASE * (3 + 2)
-
-
-def test_sobol_ishigami_second_order():
-    plan = sens.sobol_plan(ISHIGAMI_NAMES, BASE, second_order=True, seed=SEED)
-    assert plan.rows == BASE * (2 * 3 + 2)
-    indices, pairs = sens.sobol_analyze(plan, ishigami_outputs(plan))
-    assert_allclose(indices["ST"], [ISHIGAMI_ST[n] for n in ISHIGAMI_NAMES], atol=SALIB_ATOL, rtol=SALIB_RTOL)
-    assert list(pairs.columns) == ["parameter_1", "parameter_2", "S2", "S2_conf"]
-    assert list(zip(pairs["parameter_1"], pairs["parameter_2"])) == list(ISHIGAMI_S2)
-    # same tolerance as SALib's regression check of S2
-    assert_allclose(pairs["S2"], list(ISHIGAMI_S2.values()), atol=SALIB_ATOL, rtol=SALIB_RTOL)
-
-
-def test_sobol_is_repeatable_and_seed_matters(ishigami_run):
-    plan, y, indices, _ = ishigami_run
-    again = sens.sobol_plan(ISHIGAMI_NAMES, BASE, seed=SEED)
-    np.testing.assert_array_equal(again.unit, plan.unit)
-    repeat, _ = sens.sobol_analyze(again, ishigami_outputs(again))
-    pd.testing.assert_frame_equal(repeat, indices)
-    other = sens.sobol_plan(ISHIGAMI_NAMES, BASE, seed=SEED + 1)
-    assert not np.array_equal(other.unit, plan.unit)
-    # another bootstrap seed moves the intervals, not the estimates
-    reseeded, _ = sens.sobol_analyze(plan, y, seed=7)
-    assert_allclose(reseeded["ST"], indices["ST"], rtol=0, atol=0)
-    assert not np.allclose(reseeded["ST_conf"], indices["ST_conf"], rtol=0, atol=0)
-
-
-def test_sobol_plan_layout_is_salib_cross_sampling():
-    # each base sample: A, then A with column j from B (j = 0..D-1), then B
-    plan = sens.sobol_plan(["a", "b"], 8, seed=3)
-    block = plan.unit.reshape(8, 4, 2)
-    a, ab0, ab1, b = block[:, 0], block[:, 1], block[:, 2], block[:, 3]
-    np.testing.assert_array_equal(ab0[:, 1], a[:, 1])
-    np.testing.assert_array_equal(ab0[:, 0], b[:, 0])
-    np.testing.assert_array_equal(ab1[:, 0], a[:, 0])
-    np.testing.assert_array_equal(ab1[:, 1], b[:, 1])
-    assert ((plan.unit > 0) & (plan.unit < 1)).all()
-
-
-def test_plan_is_frozen():
-    plan = sens.sobol_plan(["a", "b"], 4, seed=3)
-    with pytest.raises(ValueError, match="read-only"):
-        plan.unit[0, 0] = 0.5
-    with pytest.raises(AttributeError):
-        plan.base_samples = 8
-
-
-# --------------------------------------------------------------------------
-# (b) settings checks
-# --------------------------------------------------------------------------
-
-def six_parameter_plan():
-    return sens.sobol_plan([f"p{i}" for i in range(6)], 128, seed=5)
-
-
-def test_wrong_length_y_names_both_counts_and_settings():
-    plan = six_parameter_plan()
-    message = "y has 1000 values but the Sobol plan has 1024 rows (base 128, 6 parameters, second order off)"
-    with pytest.raises(ValueError, match=re.escape(message)):
-        sens.sobol_analyze(plan, np.ones(1000))
-    with pytest.raises(ValueError, match=re.escape(message)):
-        sens.sobol_convergence(plan, np.ones(1000))
-
-
-def test_y_from_second_order_plan_is_caught_and_explained():
-    plan = six_parameter_plan()
-    with pytest.raises(ValueError, match=r"y has 1792 values .* 1024 rows .*row count with second order on"):
-        sens.sobol_analyze(plan, np.ones(128 * 14))
-
-
-def test_y_of_a_bigger_plan_is_caught_where_salib_alone_is_silent():
-    # outputs of a plan with twice the base samples: SALib only checks that
-    # len(y) divides by D + 2 and returns indices without complaint
-    small = sens.sobol_plan(ISHIGAMI_NAMES, 256, seed=SEED)
-    big = sens.sobol_plan(ISHIGAMI_NAMES, 512, seed=SEED)
-    y_big = ishigami_outputs(big)
-    problem = {"num_vars": 3, "names": list(ISHIGAMI_NAMES), "bounds": [[0.0, 1.0]] * 3}
-    salib_result = salib_sobol.analyze(problem, y_big, calc_second_order=False, seed=1)
-    assert np.isfinite(salib_result["ST"]).all()
-    with pytest.raises(ValueError, match=r"y has 2560 values but the Sobol plan has 1280 rows \(base 256"):
-        sens.sobol_analyze(small, y_big)
-
-
-def test_non_finite_y_is_counted():
-    plan = six_parameter_plan()
-    y = np.ones(plan.rows)
-    y[[5, 17, 600]] = np.nan
-    y[900] = np.inf
-    with pytest.raises(ValueError, match=re.escape(
-            "y has 4 non-finite values of 1024 (3 NaN, 1 infinite; first at row 5)")):
-        sens.sobol_analyze(plan, y)
-
-
-def test_constant_y_is_rejected():
-    plan = six_parameter_plan()
-    with pytest.raises(ValueError, match=r"y: must vary \(got 1024 runs all equal to 2.5\)"):
-        sens.sobol_analyze(plan, np.full(plan.rows, 2.5))
-
-
-def test_y_shape_is_checked():
-    plan = six_parameter_plan()
-    with pytest.raises(ValueError, match=r"a vector \(got shape \(512, 2\)\)"):
-        sens.sobol_analyze(plan, np.ones((512, 2)))
-    # a single column is accepted as a vector
-    column = np.arange(plan.rows, dtype=float)[:, None] % 7
-    first, _ = sens.sobol_analyze(plan, column)
-    second, _ = sens.sobol_analyze(plan, column[:, 0])
-    pd.testing.assert_frame_equal(first, second)
-
-
-@pytest.mark.parametrize("base, suggestion", [(1000, "use 512 or 1024"), (3, "use 2 or 4"), (100, "use 64 or 128")])
-def test_base_samples_must_be_a_power_of_two(base, suggestion):
-    with pytest.raises(ValueError, match=rf"base_samples: must be a power of two >= 2 \(got {base}\).*{suggestion}"):
-        sens.sobol_plan(["a", "b"], base, seed=1)
-
-
-@pytest.mark.parametrize("base", [0, 1, -4, 2.0, True])
-def test_base_samples_out_of_range(base):
-    with pytest.raises(ValueError, match=r"base_samples: must be a power of two >= 2"):
-        sens.sobol_plan(["a", "b"], base, seed=1)
+from explore.sensitivity import SensitivityError
+from explore.test_functions import ISHIGAMI_NAMES
 
 
 def seed_message(seed):
@@ -274,17 +45,6 @@ def test_errors_are_value_errors_and_command_line_input_errors():
     assert isinstance(caught.value, ValueError) and isinstance(caught.value, InputError)
 
 
-def test_analysis_settings_are_checked():
-    plan = six_parameter_plan()
-    y = np.arange(plan.rows, dtype=float) % 11
-    with pytest.raises(ValueError, match=r"confidence_level: must be a number strictly between 0 and 1 \(got 95\)"):
-        sens.sobol_analyze(plan, y, confidence_level=95)
-    with pytest.raises(ValueError, match=r"num_resamples: must be an integer >= 2 \(got 1\)"):
-        sens.sobol_analyze(plan, y, num_resamples=1)
-    with pytest.raises(TypeError, match="sobol_analyze: plan must be a SobolPlan"):
-        sens.sobol_analyze(sens.morris_plan(["a", "b"], trajectories=4, seed=1), y)
-
-
 def test_names_are_checked():
     with pytest.raises(ValueError, match=r"names: must be unique .*repeated a"):
         sens.sobol_plan(["a", "b", "a"], 8, seed=1)
@@ -302,238 +62,56 @@ def test_plan_values_needs_exactly_the_plan_names():
         sens.plan_values(plan, {"a": UNIFORM_PI, "b": (0, 1), "c": UNIFORM_PI})
 
 
-def test_hand_made_plan_must_be_consistent():
-    with pytest.raises(ValueError, match=r"unit: this Sobol plan needs shape \(32, 2\) \(got \(30, 2\)\)"):
-        sens.SobolPlan(("a", "b"), 8, False, 1, np.full((30, 2), 0.5))
-
-
-def test_morris_settings_are_checked():
-    with pytest.raises(ValueError, match=r"levels: must be an even integer >= 2 \(got 5\)"):
-        sens.morris_plan(["a", "b"], trajectories=10, levels=5, seed=1)
-    with pytest.raises(ValueError, match=r"trajectories: must be an integer >= 2 \(got 1\)"):
-        sens.morris_plan(["a", "b"], trajectories=1, seed=1)
-    plan = sens.morris_plan(["a", "b"], trajectories=10, seed=1)
-    with pytest.raises(ValueError, match=re.escape(
-            "y has 29 values but the Morris plan has 30 rows (10 trajectories, 2 parameters, 4 levels)")):
-        sens.morris_analyze(plan, np.ones(29))
-    y = np.ones(30)
-    y[3] = np.nan
-    with pytest.raises(ValueError, match=r"y has 1 non-finite values of 30 \(1 NaN"):
-        sens.morris_analyze(plan, y)
-
-
 # --------------------------------------------------------------------------
-# (c) convergence
+# the registry: one declaration per method
 # --------------------------------------------------------------------------
 
-def test_convergence_levels_and_shrinking_intervals(ishigami_run):
-    plan, y, indices, _ = ishigami_run
-    table = sens.sobol_convergence(plan, y)
-    assert list(table.columns) == ["base_samples", "parameter", "S1", "S1_conf", "ST", "ST_conf"]
-    assert sorted(table["base_samples"].unique()) == [BASE // 4, BASE // 2, BASE]
-    by_level = {n: part.set_index("parameter") for n, part in table.groupby("base_samples")}
-    # the full level is the full analysis, to the last bit
-    full = by_level[BASE]
-    assert_allclose(full["ST"], indices.set_index("parameter")["ST"], rtol=0, atol=0)
-    assert_allclose(full["ST_conf"], indices.set_index("parameter")["ST_conf"], rtol=0, atol=0)
-    quarter = by_level[BASE // 4]
-    # a bootstrap standard error scales as 1/sqrt(N): a quarter of the
-    # samples should give about twice the width; 0.7 leaves room for the
-    # wobble of a 200-resample bootstrap
-    assert (full["ST_conf"] < 0.7 * quarter["ST_conf"]).all()
-    assert (full["S1_conf"] < 0.7 * quarter["S1_conf"]).all()
-    # every level's interval covers the analytic ST, and so does N/4 already
-    for level in by_level.values():
-        expected = np.array([ISHIGAMI_ST[n] for n in level.index])
-        assert (np.abs(level["ST"] - expected) <= level["ST_conf"]).all()
+def test_registry_names_the_study_methods():
+    from typing import get_args
+
+    from explore.study import Sensitivity
+
+    assert sens.METHOD_NAMES == tuple(sens.METHODS) == ("sobol", "morris")
+    # the study file accepts exactly the registered methods
+    assert get_args(Sensitivity.model_fields["method"].annotation) == sens.METHOD_NAMES
+    for name, method in sens.METHODS.items():
+        assert method.name == name and method.plan_type.method == name
 
 
-def test_convergence_skips_levels_below_two_base_samples():
-    for base, levels in ((4, [2, 4]), (2, [2]), (8, [2, 4, 8])):
-        plan = sens.sobol_plan(ISHIGAMI_NAMES, base, seed=SEED)
-        table = sens.sobol_convergence(plan, ishigami_outputs(plan))
-        assert sorted(table["base_samples"].unique()) == levels
+@pytest.mark.parametrize("name", ["sobol", "morris"])
+def test_each_declaration_matches_what_its_method_gives(name):
+    method = sens.METHODS[name]
+    settings = sens_settings(samples=16, second_order=True, levels=4)
+    plan = method.make_plan(ISHIGAMI_NAMES, settings, 7)
+    assert isinstance(plan, method.plan_type) and plan.method == name and plan.seed == 7
+    assert plan.rows == method.count_rows(settings, len(ISHIGAMI_NAMES))
+    found = method.analyse(plan, ishigami_outputs(plan))
+    declared = {table.key: table for table in method.tables}
+    assert set(found) <= {"ranking", *declared}
+    ranking = found["ranking"]
+    assert tuple(ranking.columns) == method.columns and method.ranking_column in method.columns
+    # rank 1 is the largest value of the ranking column
+    assert ranking.loc[ranking[method.ranking_column].idxmax(), "rank"] == 1
+    for key, table in found.items():
+        if key != "ranking" and table is not None:
+            assert tuple(table.columns) == declared[key].columns
+    for picture in method.pictures:
+        assert picture.table == "ranking" or picture.table in declared
+    assert method.title and method.words
 
 
-def test_convergence_with_second_order_uses_the_longer_blocks():
-    plan = sens.sobol_plan(ISHIGAMI_NAMES, 1024, second_order=True, seed=SEED)
+def test_sobol_declaration_gives_the_functions_results():
+    settings = sens_settings(samples=16, second_order=True, levels=4)
+    plan = sens.METHODS["sobol"].make_plan(ISHIGAMI_NAMES, settings, 7)
     y = ishigami_outputs(plan)
-    table = sens.sobol_convergence(plan, y)
-    quarter = table[table["base_samples"] == 256].set_index("parameter")
-    # the first 256 blocks of 2D + 2 rows are a complete second-order study
-    sub_plan = sens.SobolPlan(plan.names, 256, True, plan.seed, plan.unit[: 256 * 8])
-    direct, _ = sens.sobol_analyze(sub_plan, y[: 256 * 8])
-    assert_allclose(quarter["ST"], direct.set_index("parameter")["ST"], rtol=0, atol=0)
+    found = sens.METHODS["sobol"].analyse(plan, y)
+    indices, pairs = sens.sobol_analyze(sens.sobol_plan(ISHIGAMI_NAMES, 16, second_order=True, seed=7), y)
+    pd.testing.assert_frame_equal(found["ranking"], indices, check_exact=True)
+    pd.testing.assert_frame_equal(found["second_order"], pairs, check_exact=True)
+    assert sorted(found["convergence"]["base_samples"].unique()) == [4, 8, 16]
 
 
-# --------------------------------------------------------------------------
-# (d) Morris on Ishigami
-# --------------------------------------------------------------------------
-
-def test_morris_ishigami():
-    # With 4 levels the unit grid is {0, 1/3, 2/3, 1}, i.e. x in
-    # {-pi, -pi/3, pi/3, pi}, and the step is 2/3 of the range, so each
-    # move goes -pi <-> pi/3 or -pi/3 <-> pi. By hand:
-    # * x2: |7 (sin^2(pi/3) - sin^2(pi))| / (2/3) = 7.875 on every move;
-    # * x3: |0.1 sin(x1) (pi^4 - (pi/3)^4)| / (2/3) = 12.50 when
-    #   x1 = +-pi/3 and 0 when x1 = +-pi (sin = 0): mean about 6.25, so
-    #   clearly non-zero although S1(x3) = 0 - the x1-x3 interaction;
-    # * x1: 1.299 (1 + 0.1 x3^4), 13.95 or 1.457: mean about 7.70.
-    plan = sens.morris_plan(ISHIGAMI_NAMES, trajectories=64, levels=4, seed=SEED)
-    assert plan.rows == 64 * 4
-    table = sens.morris_analyze(plan, ishigami_outputs(plan)).set_index("parameter")
-    assert list(table.columns) == ["mu_star", "mu_star_conf", "sigma", "rank"]
-    assert_allclose(table.loc["x2", "mu_star"], 7.875, rtol=1e-9)
-    assert table.loc["x3", "mu_star"] > 3.0
-    assert table.loc["x3", "sigma"] > 3.0
-    # the sample means sit within two bootstrap half-widths of the hand values
-    assert abs(table.loc["x3", "mu_star"] - 6.249) < 2 * table.loc["x3", "mu_star_conf"]
-    assert abs(table.loc["x1", "mu_star"] - 7.704) < 2 * table.loc["x1", "mu_star_conf"]
-    first = table.index[table["rank"] == 1][0]
-    assert first in ("x1", "x2")
-    assert sorted(table["rank"]) == [1, 2, 3]
-
-
-def test_morris_grid_needs_bounded_distributions():
-    plan = sens.morris_plan(["a"], trajectories=4, seed=1)
-    grid = np.array([0.0, 1 / 3, 2 / 3, 1.0])
-    assert (np.abs(plan.unit[:, :, None] - grid).min(axis=2) < 1e-12).all()
-    with pytest.raises(ValueError, match=r"distributions\['a'\]: must be bounded for a Morris plan"):
-        sens.plan_values(plan, {"a": Distribution("normal", mean=1.0, sd=0.2)})
-    values = sens.plan_values(plan, {"a": Distribution("normal", mean=1.0, sd=0.2, low=0.5, high=1.5)})
-    assert np.isfinite(values["a"]).all()
-
-
-# --------------------------------------------------------------------------
-# (e) distributions
-# --------------------------------------------------------------------------
-
-U = np.linspace(0.0, 1.0, 201)
-
-
-def test_uniform_matches_scipy():
-    distribution = Distribution("uniform", low=0.2, high=0.9)
-    assert_allclose(distribution.ppf(U), stats.uniform(loc=0.2, scale=0.7).ppf(U), rtol=1e-14, atol=0)
-    assert distribution.ppf(0.0) == 0.2 and distribution.ppf(1.0) == pytest.approx(0.9, abs=1e-15)
-
-
-def test_log_uniform_matches_scipy():
-    distribution = Distribution("log_uniform", low=1e-3, high=10.0)
-    assert_allclose(distribution.ppf(U), stats.loguniform(1e-3, 10.0).ppf(U), rtol=1e-12)
-    values = distribution.ppf(U)
-    assert values.min() == 1e-3 and values.max() == 10.0
-    # equal steps in u are equal factors: the median is the geometric mean
-    assert_allclose(distribution.ppf(0.5), np.sqrt(1e-3 * 10.0), rtol=1e-12)
-
-
-def test_truncated_normal_quantiles():
-    mean, sd, low, high = 0.4, 0.15, 0.2, 0.9
-    distribution = Distribution("normal", low=low, high=high, mean=mean, sd=sd)
-    values = distribution.ppf(U)
-    alpha, beta = (low - mean) / sd, (high - mean) / sd
-    assert_allclose(values, stats.truncnorm(alpha, beta, loc=mean, scale=sd).ppf(U), rtol=1e-12)
-    # closed form of the truncated quantile, from the standard normal alone:
-    # x = mean + sd * Phi^-1(Phi(alpha) + u (Phi(beta) - Phi(alpha)))
-    inner = U[1:-1]
-    by_hand = mean + sd * special.ndtri(special.ndtr(alpha) + inner * (special.ndtr(beta) - special.ndtr(alpha)))
-    assert_allclose(values[1:-1], by_hand, rtol=1e-9)
-    assert values[0] == low and values[-1] == high
-    assert ((values >= low) & (values <= high)).all()
-    # mean of a truncated normal, mean + sd (phi(alpha) - phi(beta)) / Z
-    # (standard result, written from memory), against the midpoint rule on
-    # the quantile function
-    z = special.ndtr(beta) - special.ndtr(alpha)
-    expected_mean = mean + sd * (stats.norm.pdf(alpha) - stats.norm.pdf(beta)) / z
-    midpoints = (np.arange(100_000) + 0.5) / 100_000
-    assert_allclose(distribution.ppf(midpoints).mean(), expected_mean, rtol=1e-6)
-
-
-def test_one_sided_and_plain_normal():
-    lower_only = Distribution("normal", mean=1.0, sd=0.5, low=0.0)
-    values = lower_only.ppf(U[:-1])
-    assert_allclose(values, stats.truncnorm(-2.0, np.inf, loc=1.0, scale=0.5).ppf(U[:-1]), rtol=1e-12)
-    assert values.min() == 0.0 and not lower_only.bounded
-    plain = Distribution("normal", mean=1.0, sd=0.5)
-    assert_allclose(plain.ppf(U), stats.norm(1.0, 0.5).ppf(U), rtol=1e-14)
-    assert plain.ppf(0.0) == -np.inf and plain.ppf(1.0) == np.inf
-
-
-def test_ppf_keeps_shape_and_rejects_outside_unit_interval():
-    distribution = Distribution("uniform", low=-1.0, high=1.0)
-    assert distribution.ppf(np.full((3, 4), 0.5)).shape == (3, 4)
-    with pytest.raises(ValueError, match=r"u: must be in \[0, 1\] \(got 1.5\) \(1 of 3 values outside\)"):
-        distribution.ppf([0.2, 1.5, 0.3])
-    with pytest.raises(ValueError, match=r"u: must be in \[0, 1\]"):
-        distribution.ppf([np.nan])
-
-
-@pytest.mark.parametrize("kwargs, message", [
-    ({"kind": "gamma", "low": 0, "high": 1}, "kind: must be one of uniform, log_uniform, normal (got 'gamma')"),
-    ({"kind": "uniform", "low": 1.0, "high": 1.0}, "uniform.high: must be greater than low = 1.0 (got 1.0)"),
-    ({"kind": "uniform", "low": 0.0}, "uniform.high: must be given (got None)"),
-    ({"kind": "uniform", "low": 0.0, "high": 1.0, "sd": 0.1},
-     "uniform.sd: must be None (a uniform distribution does not use it) (got 0.1)"),
-    ({"kind": "uniform", "low": 0.0, "high": np.inf}, "uniform.high: must be a finite number (got inf)"),
-    ({"kind": "log_uniform", "low": 0.0, "high": 1.0}, "log_uniform.low: must be > 0 (got 0.0)"),
-    ({"kind": "normal", "mean": 0.0, "sd": -1.0}, "normal.sd: must be > 0 (got -1.0)"),
-    ({"kind": "normal", "mean": 0.0, "sd": 1.0, "low": 50.0, "high": 60.0},
-     "normal.low/high: must be a window holding some of the normal's probability (got (50.0, 60.0))"),
-])
-def test_distribution_arguments_are_checked(kwargs, message):
-    with pytest.raises(ValueError, match=re.escape(message)):
-        Distribution(**kwargs)
-
-
-# --------------------------------------------------------------------------
-# (f) charts
-# --------------------------------------------------------------------------
-
-def test_ranking_chart_writes_png_in_st_order(tmp_path, ishigami_run):
-    table = pd.DataFrame({"parameter": ["a", "b", "c", "d"], "S1": [0.05, 0.6, 0.2, -0.01],
-                          "S1_conf": [0.02, 0.05, 0.04, 0.03], "ST": [0.1, 0.7, 0.3, 1.08],
-                          "ST_conf": [0.03, 0.06, 0.05, 0.04]})
-    path = tmp_path / "ranking.png"
-    figure = sens.ranking_chart(table, path, title="Test ranking")
-    assert path.stat().st_size > 10_000
-    assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-    ax = figure.axes[0]
-    # labels run top to bottom in descending ST
-    assert [label.get_text() for label in ax.get_yticklabels()] == ["d", "b", "c", "a"]
-    assert ax.yaxis_inverted()
-    # the first bar series is ST: widths in the same order, clipped to 1.05
-    bars = [c for c in ax.containers if isinstance(c, matplotlib.container.BarContainer)]
-    st_widths = [patch.get_width() for patch in bars[0]]
-    assert_allclose(st_widths, [1.05, 0.7, 0.3, 0.1])
-    assert ax.get_xlim() == (0.0, 1.05)
-    assert ax.get_xlabel() == "Sobol index [-]"
-    colours = {matplotlib.colors.to_hex(c[0].get_facecolor()) for c in bars}
-    assert colours == {"#0072b2", "#e69f00"}
-    legend_texts = [t.get_text() for t in figure.legends[0].get_texts()]
-    assert any(t.startswith("S1") for t in legend_texts) and any(t.startswith("ST") for t in legend_texts)
-    assert "alone" in ax.get_title() and "interactions" in ax.get_title()
-    # and the real Ishigami table, saved as the other formats
-    _, _, indices, _ = ishigami_run
-    for suffix in (".svg", ".pdf"):
-        out = tmp_path / f"ishigami{suffix}"
-        figure = sens.ranking_chart(indices, out)
-        assert out.stat().st_size > 1000
-        assert [t.get_text() for t in figure.axes[0].get_yticklabels()] == ["x1", "x2", "x3"]
-    with pytest.raises(ValueError, match=r"path: must be a file ending in .png, .svg, .pdf"):
-        sens.ranking_chart(indices, tmp_path / "chart.jpg")
-    with pytest.raises(ValueError, match=r"table: lacks the column\(s\) ST_conf"):
-        sens.ranking_chart(indices.drop(columns="ST_conf"), tmp_path / "chart.png")
-
-
-def test_convergence_chart_writes_png_on_a_log2_axis(tmp_path, ishigami_run):
-    plan, y, _, _ = ishigami_run
-    table = sens.sobol_convergence(plan, y)
-    path = tmp_path / "convergence.png"
-    figure = sens.convergence_chart(table, path)
-    assert path.stat().st_size > 10_000
-    assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-    panels = [ax for ax in figure.axes if ax.get_visible()]
-    assert [ax.get_title() for ax in panels] == list(ISHIGAMI_NAMES)
-    for ax in panels:
-        assert ax.get_xscale() == "log" and ax.xaxis.get_transform().base == 2
-        assert [t.get_text() for t in ax.get_xticklabels()] == ["1024", "2048", "4096"]
-    assert panels[0].get_ylabel() == "Sobol index [-]"
+def test_output_files_are_every_declared_table_once():
+    assert sens.output_files() == ("sensitivity.csv", "sensitivity-second-order.csv", "sensitivity-convergence.csv")
+    declared = {table.file for method in sens.METHODS.values() for table in method.tables}
+    assert set(sens.output_files()) == {sens.RANKING_FILE} | declared
