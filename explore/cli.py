@@ -61,6 +61,12 @@ def _per_shape(dimension):
 STRICT_HELP = "treat warnings about implausible values (units mixed up?) as errors (exit 2)"
 
 
+def _law_help():
+    """One clause per impact law, from :data:`sim.impact.LAW_TABLE`."""
+    from sim.impact import LAW_TABLE
+    return "; ".join(f"{law.name}: {law.description}" for law in LAW_TABLE)
+
+
 def _further_dimensions():
     """Dimensions some shape declares besides length and radius (their own options)."""
     import sim
@@ -103,7 +109,7 @@ def build_parser():
     d.add_argument("--mass", type=_finite("--mass"), default=None, help="[kg] total mass, instead of --density")
     d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
     d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
-    d.add_argument("--law", default="energetic", choices=sim.LAWS)
+    d.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
     d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
@@ -134,7 +140,7 @@ def build_parser():
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
     b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
-                   help="law for rows without a law column value (default energetic)")
+                   help="law for rows without a law column value (default energetic): " + _law_help())
     b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 

@@ -25,6 +25,7 @@ from ruamel.yaml import YAML
 from ruamel.yaml.error import MarkedYAMLError
 
 import sim
+from sim.impact import LAW_TABLE
 from sim.limits import Interval, number_text
 
 from .errors import InputError
@@ -497,7 +498,8 @@ def template_text(name):
     """The commented study template for ``hopscape new``, named ``name``,
     with the choices of each kind filled in from their declarations."""
     text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
-    laws = " | ".join(f"{law}{' (default)' if law == 'energetic' else ''}" for law in sim.LAWS)
+    laws = " | ".join(law.name + (" (default, never creates energy)" if law.name == "energetic" else "")
+                      + (" (can create energy)" if law.creates_energy else "") for law in LAW_TABLE)
     return string.Template(text).substitute(
         shapes=" | ".join(sim.SHAPES), laws=laws, metric_kinds=" | ".join(METRIC_KINDS),
         references=" | ".join(sim.REFERENCES)).replace("name: NAME", f"name: {name}")

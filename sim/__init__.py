@@ -11,11 +11,11 @@ from .drop import (IMPACT_CODES, IMPACT_FIELDS, REFERENCES, STATUS, Contact, Dro
 from .flight import GRAVITY
 from .history import history
 from .impact import LAWS, SLIP_HISTORY, routh_impact
-from .shapes import SHAPES, Capsule, Cylinder, Shape, Sphere, Spheroid, make_shape
+from .shapes import SHAPES, Capsule, Cylinder, RoundedTablet, Shape, Sphere, Spheroid, make_shape
 
 __all__ = [
     "Bounces", "Capsule", "Contact", "Cylinder", "DropResult", "GRAVITY", "IMPACT_CODES",
     "IMPACT_FIELDS", "LAWS", "MERGE_WITHIN", "REFERENCES", "Release", "SHAPES", "SLIP_HISTORY",
-    "STATUS", "Shape", "Sphere", "Spheroid", "group_bounces", "history", "make_shape",
+    "RoundedTablet", "STATUS", "Shape", "Sphere", "Spheroid", "group_bounces", "history", "make_shape",
     "routh_impact", "simulate",
 ]
