@@ -3,9 +3,9 @@
 The reference everywhere is brute force: the floor gap
 ``y(t) - d(theta(t))`` and the heights of the centre, lowest point and top
 point, evaluated on very fine time grids from the closed-form flight
-(x, y parabolic, theta linear in t) with the depth formulas of physics notes
+(x, y parabolic, theta linear in t) with the depth formulas of docs/physics.md
 section 2 written out here. Grazing contacts that dip below the floor for
-only 1e-5 s or 1e-6 s are constructed analytically (physics notes
+only 1e-5 s or 1e-6 s are constructed analytically (docs/physics.md
 section 5: they exist, about 2 per 10^6 random flights, and must never be
 skipped).
 """
@@ -22,7 +22,7 @@ G = sim.GRAVITY
 
 
 def notes_depth(kind, theta, length, radius):
-    """Depth of the lowest point below the centre, physics notes section 2."""
+    """Depth of the lowest point below the centre, docs/physics.md section 2."""
     s, c = np.sin(theta), np.cos(theta)
     if kind == "capsule":
         return length / 2 * np.abs(s) + radius
@@ -427,8 +427,8 @@ def test_capsule_fast_path_reaches_the_true_peaks():
     # Capsules and spheres take their own path (sim.flight._capsule_peaks):
     # the lowest point from the kinks and the one half turn around the apex,
     # the top point from bump bounds and Newton stopped by the concavity
-    # bound. The reference is brute force: dense sampling of the notes'
-    # depth formula (dense_max above). Benchmark-like capsules plus fast
+    # bound. The reference is brute force: dense sampling of the
+    # depth formula of docs/physics.md section 2 (dense_max above). Benchmark-like capsules plus fast
     # spins, slow spins and release heights near and far from the floor.
     rng = np.random.default_rng(77)
     worst = 0.0

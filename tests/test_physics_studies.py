@@ -3,13 +3,13 @@
 (a) Uniform density cancels out of rigid-body impact dynamics: mass and
     moment of inertia both scale with density, so every impulse scales with
     it and every velocity change does not (standard rigid-body result; see
-    physics-notes section 3, and W. J. Stronge, *Impact Mechanics*,
+    docs/physics.md section 3, and W. J. Stronge, *Impact Mechanics*,
     Cambridge University Press 2000, where the impulse equations involve
     only 1/m and r^2/I). A Sobol study must rank density at zero.
 (b) Released from rest, impacts only dissipate under the energetic law
     (Stronge, J. Appl. Mech. 58:1049, 1991), so the centre can never rise
     above its release height; the lowest point can, because at release it
-    hangs (L/2) sin(theta0) below the centre (physics-notes section 6;
+    hangs (L/2) sin(theta0) below the centre (docs/physics.md section 6;
     standard energy-conservation argument).
 (c) The robustness stage pairs each toleranced drop with a grid drop
     released exactly: with zero tolerance the pairs are identical drops.
