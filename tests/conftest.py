@@ -40,6 +40,8 @@ def _flow(value):
         return "{" + ", ".join(f"{k}: {_flow(v)}" for k, v in value.items()) + "}"
     if isinstance(value, (list, tuple)):
         return "[" + ", ".join(_flow(v) for v in value) + "]"
+    if isinstance(value, bool):
+        return "true" if value else "false"
     return str(value)
 
 
