@@ -66,6 +66,26 @@ def message_at(err_lines, path, line, col, field):
     return hits[0][len(prefix):]
 
 
+def assert_says(err_lines, path, text, snippet, key, field, words):
+    """The message for ``field`` sits at ``key`` on the line of ``text``
+    holding ``snippet`` and contains every one of ``words``."""
+    line, col = where(text, snippet, key)
+    msg = message_at(err_lines, path, line, col, field)
+    for word in words:
+        assert word in msg, msg
+
+
+def only_error(tmp_path, capsys, text, snippet, key, field):
+    """Check a study file with exactly one mistake: exit code 2, one clean
+    line, placed at ``key`` on the line holding ``snippet``; its message."""
+    path = write_study(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    line, col = where(text, snippet, key)
+    return message_at(err, path, line, col, field)
+
+
 # --------------------------------------------------------------------------
 # the good study, and the template
 # --------------------------------------------------------------------------
@@ -211,10 +231,7 @@ def test_all_field_mistakes_reported_at_once_with_exit_2(many):
 ])
 def test_field_mistake_is_reported_at_its_place(many, snippet, key, field, words):
     path, _, _, err = many
-    line, col = where(MANY_MISTAKES, snippet, key)
-    msg = message_at(err, path, line, col, field)
-    for word in words:
-        assert word in msg, msg
+    assert_says(err, path, MANY_MISTAKES, snippet, key, field, words)
 
 
 def test_two_duplicate_keys_are_both_reported(many):
@@ -230,13 +247,8 @@ def test_two_duplicate_keys_are_both_reported(many):
 
 
 def test_setting_out_of_range_names_the_violated_bound_and_the_value(tmp_path, capsys):
-    text = GOOD + "tolerance: {angle: 120}\n"
-    path = write_study(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "angle: 120", "angle: 120")
-    msg = message_at(err, path, line, col, "tolerance.angle")
+    msg = only_error(tmp_path, capsys, GOOD + "tolerance: {angle: 120}\n", "angle: 120", "angle: 120",
+                     "tolerance.angle")
     assert "90" in msg and "120" in msg
 
 
@@ -248,32 +260,17 @@ def test_setting_out_of_range_names_both_ends_of_the_range(tmp_path, capsys):
 
 def test_range_of_a_grid_quantity_checks_both_ends(tmp_path, capsys):
     text = study_yaml(changed(GOOD_STUDY, release={"angle": grid(0, 400, 5)}))
-    path = write_study(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "high: 400", "angle")
-    msg = message_at(err, path, line, col, "release.angle")
+    msg = only_error(tmp_path, capsys, text, "high: 400", "angle", "release.angle")
     assert "[-360, 360] deg" in msg and "400" in msg
 
 
 def test_missing_required_field_points_at_its_section(tmp_path, capsys):
     text = study_yaml(changed(GOOD_STUDY, contact={"friction": None}))
-    path = write_study(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "contact:")
-    assert "required field is missing" in message_at(err, path, line, col, "contact.friction")
+    assert "required field is missing" in only_error(tmp_path, capsys, text, "contact:", None, "contact.friction")
 
 
 def test_wrong_bounce_is_one_message_under_its_field_path(tmp_path, capsys):
-    text = GOOD + "metric: {bounce: second}\n"
-    path = write_study(tmp_path, text)
-    _, _, err = check(path, capsys)
-    assert len(err) == 1, err
-    line, col = where(text, "bounce: second", "bounce")
-    msg = message_at(err, path, line, col, "metric.bounce")
+    msg = only_error(tmp_path, capsys, GOOD + "metric: {bounce: second}\n", "bounce: second", "bounce", "metric.bounce")
     assert "'second'" in msg
 
 
@@ -327,10 +324,7 @@ def test_all_contradictions_reported_at_once(contradictions):
 ])
 def test_contradiction_is_reported_at_its_place(contradictions, snippet, key, field, words):
     path, _, _, err = contradictions
-    line, col = where(CONTRADICTIONS, snippet, key)
-    msg = message_at(err, path, line, col, field)
-    for word in words:
-        assert word in msg, msg
+    assert_says(err, path, CONTRADICTIONS, snippet, key, field, words)
 
 
 def test_scheduler_with_dask_backend_is_fine(tmp_path, capsys):
