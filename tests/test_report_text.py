@@ -6,11 +6,12 @@ point at height h above the floor, restitution e. It falls freely for
 t_1 = sqrt(2 h / g), strikes at v_0 = sqrt(2 g h) and leaves at e v_0
 (restitution; without friction the three impact laws agree, docs/physics.md
 section 4); after impact k it leaves at e^k v_0, flies 2 e^k v_0 / g and its
-lowest point rises to e^(2k) h: the textbook bouncing ball (e.g. Halliday,
-Resnick & Walker, *Fundamentals of Physics*, the chapters on free fall and
-collisions; a standard result, cited from memory). Its mass is (4/3) pi R^3 rho and its moment of inertia
-(2/5) m R^2 (standard tables; docs/physics.md section 3). Printed numbers
-are compared to within half a unit of their last printed digit.
+lowest point rises to e^(2k) h: the textbook bouncing ball (a standard
+result, cited from memory; e.g. Halliday, Resnick & Walker, *Fundamentals
+of Physics*, the chapters on free fall and collisions). Its mass is
+(4/3) pi R^3 rho and its moment of inertia (2/5) m R^2 (standard tables;
+docs/physics.md section 3). Printed numbers are compared to within half a
+unit of their last printed digit.
 """
 import math
 
