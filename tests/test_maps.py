@@ -138,7 +138,8 @@ def test_energy_note_follows_the_energy_bound():
      "bounce 2 above 0.5 x the release height of the centre"),
     ({"kind": "beats_release", "reference": "top"},
      "a bounce beats the release height of the top point", "a bounce rises above the release height of the top point"),
-    ({"kind": "beats_first"}, "a later bounce beats the first (centre)", "a later bounce rises above the first (centre)"),
+    ({"kind": "beats_first"},
+     "a later bounce beats the first (centre)", "a later bounce rises above the first (centre)"),
 ])
 def test_metric_words(metric, value_words, event_words):
     study = parse_study(study_yaml(changed(NOTE_STUDY, metric=metric)))
