@@ -210,16 +210,15 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     folder : pathlib.Path
         Where ``curve-<x>.<format>`` and ``curve-<x>.csv`` are written.
     formats : sequence of str, optional
-        Picture formats: ``png``, ``svg``, ``pdf``.
+        As for :func:`regime_map`.
 
     Returns
     -------
-    paths : list of pathlib.Path
-        One picture per format.
-    csv : pathlib.Path
-        Per value of ``x``: ``drops``, ``median_value``, ``p10_value``,
-        ``p90_value``, ``mean_value`` (the metric's unit: [-]) and
-        ``event_probability`` [-].
+    tuple
+        The picture paths and the CSV path, as :func:`regime_map`; the CSV
+        holds, per value of ``x``, ``drops``, ``median_value``,
+        ``p10_value``, ``p90_value``, ``mean_value`` (the metric's unit:
+        [-]) and ``event_probability`` [-].
     """
     folder.mkdir(parents=True, exist_ok=True)
     col = COLUMN[x]
@@ -301,18 +300,16 @@ def robustness(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, x, y, fol
     y : str or None
         Grid quantity on the vertical axis; None draws a curve over ``x``
         (cells averaged over the other grid quantities).
-    folder : pathlib.Path
-        Where ``robustness-<x>[-<y>].<format>`` and its CSV are written.
-    formats : sequence of str, optional
-        Picture formats: ``png``, ``svg``, ``pdf``.
+    folder, formats
+        As for :func:`regime_map`; the files are named
+        ``robustness-<x>[-<y>]``.
 
     Returns
     -------
-    paths : list of pathlib.Path
-        One picture per format.
-    csv : pathlib.Path
-        Per point of the map: the grid values, ``drops``, ``mean_change``
-        (the metric's unit, [-]) and ``event_probability`` [-].
+    (list of pathlib.Path, pathlib.Path)
+        Pictures and CSV. Per point drawn, the CSV has the grid values,
+        ``drops``, ``mean_change`` (the metric's unit, [-]) and
+        ``event_probability`` [-].
     """
     folder.mkdir(parents=True, exist_ok=True)
     keys = [k for k in (x, y) if k is not None]
