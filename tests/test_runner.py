@@ -33,7 +33,7 @@ from explore.runner import run_study, write_atomic
 from explore.study import COLUMN, parse_study
 
 # 15 x 61 cells x 64 draws = 58,560 grid + 15 x 61 x 32 = 29,280 robust:
-# 44 parts of 2,000 drops; about 1.5 s of simulation on one core, so a
+# 45 parts of at most 2,000 drops; about 1.5 s of simulation on one core, so a
 # signal sent when the first part appears lands mid-run.
 MID = study_yaml(changed(SMALL_STUDY, name="mid", description=None,
                          body={"aspect_ratio": grid(2.0, 6.0, 15)}, release={"angle": grid(0, 90, 61)},
