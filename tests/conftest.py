@@ -94,7 +94,7 @@ PIN_ON_STEEL = {"restitution": uniform(0.8, 0.95), "friction": uniform(0.05, 0.3
 #: 80 x 8 = 640 robust drops, Sobol 128 x (5 + 2) = 896 drops: 2,496.
 SMALL_STUDY = {
     "name": "small",
-    "description": "runner tests",
+    "description": "pins tipping off a feeder step, small enough for the tests",
     "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 5), "density": 1150},
     "contact": PIN_ON_STEEL,
     "release": {"height": uniform(0.003, 0.008), "height_of": "bottom", "angle": grid(0, 90, 16)},
@@ -130,7 +130,6 @@ def read_parts(folder):
         stage = path.name.split("-")[1]
         tables.setdefault(stage, []).append(pd.read_parquet(path))
     return {stage: pd.concat(parts, ignore_index=True) for stage, parts in tables.items()}
-
 
 
 def hopscape_command():

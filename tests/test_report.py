@@ -38,7 +38,7 @@ def test_report_has_energy_bound_and_safety_notes(small_run):
 def test_report_names_the_study_and_shows_every_figure_and_file(small_run):
     page = page_of(small_run)
     assert "<title>small</title>" in page and "<h1>small</h1>" in page
-    assert "runner tests" in page                                    # the description
+    assert "pins tipping off a feeder step, small enough for the tests" in page      # the description
     images = re.findall(r'<img src="([^"]+)"', page)
     assert sorted(images) == sorted(["maps/map-angle-aspect_ratio.png", "maps/curve-angle.png",
                                      "maps/robustness-angle-aspect_ratio.png", "maps/ranking.png",
