@@ -155,9 +155,9 @@ def small_run(tmp_path_factory):
 # the slow mark
 # --------------------------------------------------------------------------
 
-#: Tests over about a second in modules whose layout other work is
-#: changing; marked here by function name so that the mark follows a test
-#: into whichever module holds it. Tests elsewhere carry
+#: Tests over about a second among the simulator's own checks (flights,
+#: drops, the pymunk cross-check), marked by function name so that the
+#: mark follows a test into whichever module holds it. Other tests carry
 #: ``@pytest.mark.slow`` themselves.
 SLOW_BY_NAME = {
     "test_flight_peaks_reach_the_true_peak",
