@@ -22,6 +22,23 @@ def run_bench(drops, jobs=1, repeat=3):
 
     The population is drawn before the clock starts; only the simulation is
     timed (per worker), and with several jobs the slowest worker counts.
+
+    Parameters
+    ----------
+    drops : int
+        Drops of the benchmark population (``sim.bench.population``); with
+        several jobs each worker simulates ``ceil(drops / jobs)``.
+    jobs : int, optional
+        Worker processes (joblib); 1 runs in this process.
+    repeat : int, optional
+        Timed repetitions; the fastest counts.
+
+    Returns
+    -------
+    dict
+        ``drops`` simulated per repetition, ``impacts`` per drop, ``jobs``,
+        ``seconds`` (best wall time [s]), ``drops_per_second`` [1/s] and
+        ``failed`` (drops whose contact search failed, last repetition).
     """
     best, failed = np.inf, 0
     per_job = -(-drops // jobs)

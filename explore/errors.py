@@ -7,8 +7,19 @@ EXIT_OK, EXIT_FAILURE, EXIT_BAD_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
 class InputError(Exception):
     """Bad input: the message is the whole story, shown on one line each.
 
-    ``messages`` holds one or more lines, each of the form
-    ``[file:line:col: ]field: what is wrong (allowed ..., got ...)``.
+    The command line prints each line as ``hopscape: error: ...`` and exits
+    with :data:`EXIT_BAD_INPUT` (2), never with a traceback.
+
+    Parameters
+    ----------
+    messages : str or iterable of str
+        One or more lines, each of the form
+        ``[file:line:col: ]field: what is wrong (allowed ..., got ...)``.
+
+    Attributes
+    ----------
+    messages : list of str
+        The lines, in the order given.
     """
 
     def __init__(self, messages):

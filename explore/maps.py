@@ -22,11 +22,45 @@ from .study import COLUMN, Study, label  # noqa: E402
 
 
 def metric_words(study: Study):
-    """(what the value is, what the event is) in plain words, from the metric's kind."""
+    """The study's metric and its event in plain words, for captions.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study; only ``study.metric`` is read.
+
+    Returns
+    -------
+    value_words : str
+        What a drop's value is, e.g. ``rebound ratio of the best later
+        bounce (lowest point height / its release height)``.
+    event_words : str
+        What counts as the event, e.g. ``best later bounce above 1 x the
+        release height of the lowest point``.
+    """
     return METRIC_KINDS[study.metric.kind].words(study.metric)
 
 
 def energy_note(study: Study):
+    """What the energy bound allows for the study's reference point.
+
+    Released from rest, the centre can never rise above its release height
+    (impacts only dissipate); spin or a throw at release raises that bound,
+    and the lowest or top point can beat its own release height because
+    its height relative to the centre changes with orientation
+    (docs/physics.md section 6).
+
+    Parameters
+    ----------
+    study : Study
+        The validated study; its metric reference and release spin and
+        velocity are read.
+
+    Returns
+    -------
+    str
+        One or two sentences for map captions and the report.
+    """
     ref = study.metric.reference
     spin = study.quantity("spin")
     moving = spin.varies or spin.value != 0 or study.release.vx.varies or study.release.vy.varies \
@@ -65,7 +99,40 @@ def _grid(cells, x, y, column):
 
 
 def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("png",)):
-    """Map of the metric over two grid quantities; returns (paths, csv path)."""
+    """Map of the metric over two grid quantities, and the CSV behind it.
+
+    Colours show the probability of the metric's event per cell (or the
+    mean value when each cell holds a single drop of a ratio metric); lines
+    mark where the mean best later ratio equals ``metric.threshold`` and
+    where a later bounce beats the first in half the drops.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study (metric, names, captions).
+    table : pandas.DataFrame
+        The ``grid`` stage's result table: inputs plus the metric columns
+        of :mod:`explore.metrics`, one row per drop.
+    x, y : str
+        Grid quantities for the horizontal and vertical axis (names of
+        :data:`explore.study.QUANTITIES`); axis units as in the study
+        ([deg] for angles, [m] for lengths, [-] for ratios).
+    folder : pathlib.Path
+        Where ``map-<x>-<y>.<format>`` and ``map-<x>-<y>.csv`` are written
+        (created if missing).
+    formats : sequence of str, optional
+        Picture formats: ``png``, ``svg``, ``pdf``.
+
+    Returns
+    -------
+    paths : list of pathlib.Path
+        One picture per format.
+    csv : pathlib.Path
+        Per cell: the two grid values, ``drops``, ``mean_value``,
+        ``event_probability`` [-], ``mean_best_later_ratio`` [-],
+        ``beats_first_probability`` [-], ``beats_release_probability`` [-]
+        and ``inside_floor_fraction`` [-].
+    """
     folder.mkdir(parents=True, exist_ok=True)
     cells = _cells(study, table, [x, y])
     per_cell = int(cells["drops"].min())
@@ -112,7 +179,30 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
 
 
 def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
-    """Metric against one grid quantity, median with a 10-90 % band over the rest."""
+    """Metric against one grid quantity: median with a 10-90 % band over
+    every other quantity, and the probability of the event.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study.
+    table : pandas.DataFrame
+        The ``grid`` stage's result table (one row per drop).
+    x : str
+        The grid quantity on the horizontal axis (unit as in the study).
+    folder : pathlib.Path
+        Where ``curve-<x>.<format>`` and ``curve-<x>.csv`` are written.
+    formats : sequence of str, optional
+        As for :func:`regime_map`.
+
+    Returns
+    -------
+    tuple
+        The picture paths and the CSV path, as :func:`regime_map`; the CSV
+        holds, per value of ``x``, ``drops``, ``median_value``,
+        ``p10_value``, ``p90_value``, ``mean_value`` (the metric's unit:
+        [-]) and ``event_probability`` [-].
+    """
     folder.mkdir(parents=True, exist_ok=True)
     col = COLUMN[x]
     g = table.groupby(col, sort=True)["value"]
@@ -145,8 +235,28 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
 
 
 def tolerance_effect(robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFrame:
-    """Per cell: mean |change of the metric| between each toleranced drop and
-    its untoleranced partner, and the event probability under tolerance."""
+    """How much release errors move the metric, per grid cell.
+
+    Each toleranced drop is compared with its partner, the same drop
+    released exactly (row ``pair`` of ``grid``).
+
+    Parameters
+    ----------
+    robust : pandas.DataFrame
+        The ``robust`` stage's result table: columns ``cell``, ``pair``,
+        ``value`` and ``event``.
+    grid : pandas.DataFrame
+        The ``grid`` stage's result table, in stage order (``value``).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed by ``cell``: ``drops``; ``mean_change``, the mean of
+        |value - partner's value| over the drops where both are defined
+        (the metric's unit, [-]); ``event_probability`` under tolerance
+        [-]; ``mean_value`` under tolerance; ``inside_floor_fraction`` [-],
+        the share of drops that would start inside the floor (value NaN).
+    """
     partner = grid["value"].to_numpy()[robust["pair"].to_numpy()]
     change = np.abs(robust["value"].to_numpy() - partner)
     frame = pd.DataFrame({"cell": robust["cell"].to_numpy(), "change": change,
@@ -158,7 +268,32 @@ def tolerance_effect(robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFrame:
 
 
 def robustness(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, x, y, folder: Path, formats=("png",)):
-    """How much the metric moves under the release tolerance, per grid cell."""
+    """Map (or curve) of how much the metric moves under the release
+    tolerance, per grid cell, and the CSV behind it.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study (tolerance, picks target, names).
+    robust, grid : pandas.DataFrame
+        The ``robust`` and ``grid`` stages' result tables
+        (see :func:`tolerance_effect`).
+    x : str
+        Grid quantity on the horizontal axis.
+    y : str or None
+        Grid quantity on the vertical axis; None draws a curve over ``x``
+        (cells averaged over the other grid quantities).
+    folder, formats
+        As for :func:`regime_map`; the files are named
+        ``robustness-<x>[-<y>]``.
+
+    Returns
+    -------
+    (list of pathlib.Path, pathlib.Path)
+        Pictures and CSV. Per point drawn, the CSV has the grid values,
+        ``drops``, ``mean_change`` (the metric's unit, [-]) and
+        ``event_probability`` [-].
+    """
     folder.mkdir(parents=True, exist_ok=True)
     keys = [k for k in (x, y) if k is not None]
     cols = [COLUMN[k] for k in keys]

@@ -21,6 +21,39 @@ from .study import COLUMN, Study
 
 
 def picks(study: Study, robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFrame:
+    """The grid cells to recommend, best first, under the release tolerance.
+
+    Cells are ranked by the probability of the metric's event among their
+    toleranced re-drops (highest first to seek it, lowest first to avoid
+    it), ties by the mean value under tolerance; cells where half the drops
+    or more would start inside the floor are left out.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study: ``analyses.picks`` (count, target,
+        chaotic_spread; defaults 5, 0.8, 0.1 when absent) and
+        ``metric.goal``.
+    robust : pandas.DataFrame
+        The ``robust`` stage's result table (``cell``, ``pair``, ``value``,
+        ``event``).
+    grid : pandas.DataFrame
+        The ``grid`` stage's result table, in stage order.
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per pick: ``rank`` (1 = best), the cell's grid values (as
+        in the study, e.g. ``angle_deg`` [deg]), ``event_probability`` [-],
+        ``mean_value_under_tolerance`` and ``mean_change_under_tolerance``
+        (the metric's unit, [-]), ``inside_floor_fraction`` [-],
+        ``nominal_value`` (mean of the exact drops), with an angle grid
+        ``angle_window_low_deg`` and ``angle_window_high_deg`` [deg] (the
+        run of neighbouring grid angles, other grid values held, that meet
+        the target; NaN if the pick itself does not), ``chaotic`` (mean
+        change above ``chaotic_spread``), ``note`` (plain words) and
+        ``cell``.
+    """
     settings = study.analyses.picks
     count = settings.count if settings else 5
     target = settings.target if settings else 0.8

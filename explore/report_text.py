@@ -8,12 +8,37 @@ from sim.impact import SLIP_HISTORY
 
 
 def wrap_degrees(theta):
-    """Angle in degrees wrapped to [-180, 180)."""
+    """An angle in degrees, wrapped to [-180, 180).
+
+    Parameters
+    ----------
+    theta : float or array_like
+        Angle. [rad]
+
+    Returns
+    -------
+    float or numpy.ndarray
+        The same angle, same shape, in [-180, 180). [deg]
+    """
     return (np.degrees(theta) + 180.0) % 360.0 - 180.0
 
 
 def table(headers, rows):
-    """Right-aligned text table."""
+    """A right-aligned text table with a dashed rule under the header.
+
+    Parameters
+    ----------
+    headers : sequence
+        Column titles (units in brackets, e.g. ``time [ms]``).
+    rows : sequence of sequence
+        Cells, already formatted or anything ``str`` accepts.
+
+    Returns
+    -------
+    str
+        Lines joined by newlines; columns two spaces apart, each as wide as
+        its longest cell.
+    """
     cells = [[str(h) for h in headers]] + [[str(c) for c in r] for r in rows]
     widths = [max(len(r[i]) for r in cells) for i in range(len(headers))]
     lines = ["  ".join(c.rjust(w) for c, w in zip(r, widths)) for r in cells]
@@ -22,7 +47,32 @@ def table(headers, rows):
 
 
 def drop_report(shape, result, bounces, reference="centre"):
-    """Impacts, bounces and the energy bound of drop 0, as text."""
+    """Impacts, visible bounces and the energy bound of one drop, as text.
+
+    Parameters
+    ----------
+    shape : sim.Shape
+        The body dropped (its kind and aspect ratio are printed).
+    result : sim.DropResult
+        The simulated drop(s); drop 0 is reported.
+    bounces : sim.Bounces
+        ``sim.group_bounces(result, ...)``: impacts merged into visible
+        bounces.
+    reference : {"centre", "bottom", "top"}, optional
+        The point whose rebound ratios are shown.
+
+    Returns
+    -------
+    str
+        The body's mass [mg] and moment of inertia [mg mm^2]; a table of
+        impacts (time [ms], angle [deg], the part struck, slip history,
+        velocities just after [m/s], spin [rad/s], normal impulse [mN s],
+        energy before and after [mJ], flight after [ms], peaks of the
+        centre and lowest point [mm], GAIN where an impact created energy);
+        a table of bounces (peak heights [mm], ratio [-]); the release
+        heights [mm], the energy bound of the centre [mm] and why the
+        lowest point can beat its release height; how the drop ended.
+    """
     kind = getattr(shape, "kind", "body")
     struck_names = getattr(shape, "struck_names", sim.Shape.struck_names)
     n = int(result.count[0])

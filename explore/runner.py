@@ -31,6 +31,27 @@ from .study import Study
 
 @dataclass
 class RunOutcome:
+    """What :func:`run_study` hands to the analyses.
+
+    Attributes
+    ----------
+    study : Study
+        The validated study that was run.
+    folder : pathlib.Path
+        The run folder (``study.yaml``, ``results/part-*.parquet``, ...).
+    tables : dict of str to pandas.DataFrame
+        Per stage (``grid``, ``robust``, ``sobol``, ``morris``): the input
+        columns plus the metric columns, in stage order.
+    plan : object or None
+        The sensitivity plan the ``sobol`` or ``morris`` stage was drawn
+        from, or None.
+    seconds : dict of str to float
+        Wall time of ``sampling``, ``simulation`` and ``loading``. [s]
+    simulated : int
+        Drops simulated in this call (the rest were already on disk).
+    total : int
+        Drops in all stages.
+    """
     study: Study
     folder: Path
     tables: dict            # stage -> DataFrame (inputs + metrics), in input order
@@ -45,7 +66,19 @@ def _part_name(stage, k):
 
 
 def write_atomic(frame: pd.DataFrame, path: Path):
-    """Write a Parquet file so that it is either whole or absent."""
+    """Write a Parquet file so that it is either whole or absent.
+
+    The table goes to a temporary file beside ``path``, is flushed to disk,
+    then renamed over ``path``; an interruption (Ctrl-C included) at any
+    point leaves neither a part nor the temporary file.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The table, written without its index.
+    path : pathlib.Path
+        The final file name.
+    """
     tmp = path.with_name(path.name + f".tmp{os.getpid()}")
     try:
         frame.to_parquet(tmp, index=False)
@@ -167,7 +200,45 @@ def _backend(study, jobs, backend, scheduler):
 
 def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, backend=None,
               scheduler=None, progress=True) -> RunOutcome:
-    """Simulate every stage of ``study`` into ``folder`` (resuming)."""
+    """Simulate every stage of ``study`` into ``folder``, resuming.
+
+    Stages are cut into ``run.chunk_size`` chunks; each finished chunk is
+    written at once as its own Parquet part, and chunks whose part already
+    exists are not simulated again, so the tables do not depend on jobs,
+    backend, chunking or interruptions.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study.
+    folder : str or pathlib.Path
+        The run folder; created if missing. A folder holding another
+        study's parts raises :class:`~explore.errors.InputError`.
+    source_text : str, optional
+        The study file's text, kept as ``study.yaml``; empty writes the
+        validated study instead.
+    fresh : bool, optional
+        Discard earlier results in ``folder`` first.
+    jobs : int, optional
+        Parallel workers; default ``run.jobs``.
+    backend : {"loky", "threading", "sequential", "dask"}, optional
+        joblib backend; default ``run.backend``.
+    scheduler : str, optional
+        Address of a Dask scheduler (implies ``backend="dask"``).
+    progress : bool, optional
+        Show a progress bar with drops per second.
+
+    Returns
+    -------
+    RunOutcome
+        The study, folder, per-stage tables, plan, timings [s] and counts.
+
+    Raises
+    ------
+    InputError
+        For a folder that holds another study's results, or a missing Dask
+        installation.
+    """
     clock = {"start": time.perf_counter()}
     folder = prepare_folder(study, Path(folder), source_text, fresh=fresh)
     jobs = jobs or study.run.jobs

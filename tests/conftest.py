@@ -1,8 +1,156 @@
-"""Fixtures shared by the sensitivity and chart tests."""
+"""What several test modules share: study files built from parts, runs of
+them, and the command line.
+
+Study files are written as Python dicts and rendered to YAML by
+:func:`study_yaml`, so a test says only how its study differs from another
+(:func:`changed`) instead of repeating the whole file. Test modules import
+the helpers with ``from conftest import ...``.
+
+Run the fast set with ``python -m pytest -m "not slow"``; CI runs every test.
+"""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import pandas as pd
 import pytest
 
 from _ishigami import BASE, ISHIGAMI_NAMES, SEED, ishigami_outputs
 from explore import sensitivity as sens
+from explore.cli import main
+from explore.runner import run_study
+from explore.study import parse_study
+
+#: Order of the sections in a study file.
+SECTIONS = ("name", "description", "body", "contact", "release", "metric", "tolerance", "analyses", "run")
+
+
+def grid(low, high, steps):
+    """A quantity swept on ``steps`` evenly spaced values, ends included."""
+    return {"grid": {"low": low, "high": high, "steps": steps}}
+
+
+def uniform(low, high):
+    """A quantity drawn uniformly from [low, high]."""
+    return {"uniform": {"low": low, "high": high}}
+
+
+def _flow(value):
+    """A value in YAML flow style: ``{grid: {low: 0, high: 90, steps: 5}}``."""
+    if isinstance(value, dict):
+        return "{" + ", ".join(f"{k}: {_flow(v)}" for k, v in value.items()) + "}"
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_flow(v) for v in value) + "]"
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    return str(value)
+
+
+def study_yaml(sections: dict) -> str:
+    """The text of a study file: top-level scalars, then one block per
+    section; a list (maps, curves) becomes one flow mapping per line."""
+    lines = []
+    for name in SECTIONS:
+        section = sections.get(name)
+        if section is None:
+            continue
+        if not isinstance(section, dict):
+            lines.append(f"{name}: {section}")
+            continue
+        lines.append(f"{name}:")
+        for key, value in section.items():
+            if isinstance(value, list):
+                lines.append(f"  {key}:")
+                lines += [f"    - {_flow(item)}" for item in value]
+            else:
+                lines.append(f"  {key}: {_flow(value)}")
+    return "\n".join(lines) + "\n"
+
+
+def changed(sections: dict, **updates) -> dict:
+    """A copy of ``sections`` with keys replaced section by section; a value
+    of None removes the key (or the whole section)."""
+    out = {name: dict(value) if isinstance(value, dict) else value for name, value in sections.items()}
+    for name, update in updates.items():
+        if isinstance(update, dict) and isinstance(out.get(name), dict):
+            out[name].update(update)
+            out[name] = {k: v for k, v in out[name].items() if v is not None}
+        elif update is None:
+            out.pop(name, None)
+        else:
+            out[name] = update
+    return out
+
+
+# --------------------------------------------------------------------------
+# parts of the studies the tests run: round-ended polymer pins, 6 mm across,
+# tipping off a feeder step onto steel (a scenario of our own; restitution
+# and friction ranges illustrative)
+# --------------------------------------------------------------------------
+
+PIN = {"shape": "capsule", "diameter": 0.006}
+PIN_ON_STEEL = {"restitution": uniform(0.8, 0.95), "friction": uniform(0.05, 0.3)}
+
+#: 5 aspect ratios x 16 angles = 80 cells x 12 draws = 960 grid drops,
+#: 80 x 8 = 640 robust drops, Sobol 128 x (5 + 2) = 896 drops: 2,496.
+SMALL_STUDY = {
+    "name": "small",
+    "description": "pins tipping off a feeder step, small enough for the tests",
+    "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 5), "density": 1150},
+    "contact": PIN_ON_STEEL,
+    "release": {"height": uniform(0.003, 0.008), "height_of": "bottom", "angle": grid(0, 90, 16)},
+    "metric": {"reference": "bottom"},
+    "tolerance": {"angle": 2.0, "height": 0.001, "draws": 8},
+    "analyses": {"draws": 12, "maps": [{"x": "angle", "y": "aspect_ratio"}], "curves": [{"x": "angle"}],
+                 "sensitivity": {"method": "sobol", "samples": 128}, "picks": {"count": 3, "target": 0.5}},
+    "run": {"jobs": 2, "chunk_size": 500, "seed": 3, "impacts": 4},
+}
+SMALL = study_yaml(SMALL_STUDY)
+SMALL_COUNTS = {"grid": 960, "robust": 640, "sobol": 896}
+
+
+def run_text(text, folder, **kwargs):
+    """Run the study ``text`` into ``folder`` from Python (no progress bar;
+    one process unless ``backend`` says otherwise)."""
+    kwargs.setdefault("progress", False)
+    kwargs.setdefault("backend", "sequential")
+    return run_study(parse_study(text), folder, text, **kwargs)
+
+
+def write_study(folder, text, name="study.yaml"):
+    """Write a study file into ``folder``; return its path."""
+    path = folder / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def read_parts(folder):
+    """The result table of every stage, read back from the part files."""
+    tables = {}
+    for path in sorted((Path(folder) / "results").glob("part-*.parquet")):
+        stage = path.name.split("-")[1]
+        tables.setdefault(stage, []).append(pd.read_parquet(path))
+    return {stage: pd.concat(parts, ignore_index=True) for stage, parts in tables.items()}
+
+
+def hopscape_command():
+    """The ``hopscape`` command of this checkout, as a subprocess argument
+    list (``python -m explore.cli``: the working tree's code, not whichever
+    checkout an installed script points at)."""
+    return [sys.executable, "-m", "explore.cli"]
+
+
+@pytest.fixture(scope="session")
+def small_run(tmp_path_factory):
+    """The folder of ``hopscape run`` on :data:`SMALL` (maps, ranking,
+    picks, report), run once for every module that reads it."""
+    base = tmp_path_factory.mktemp("small-run")
+    study_path = write_study(base, SMALL, "small.yaml")
+    folder = base / "run"
+    code = main(["run", str(study_path), "--out", str(folder), "--quiet", "--backend", "sequential"])
+    assert code == 0
+    return folder
 
 
 @pytest.fixture(scope="session")

@@ -5,7 +5,7 @@ brute-force views.
 The reference everywhere is brute force: the floor gap
 ``y(t) - d(theta(t))`` and the heights of the centre, lowest point and top
 point, evaluated on very fine time grids from the closed-form flight
-(x, y parabolic, theta linear in t) with the depth formulas of physics notes
+(x, y parabolic, theta linear in t) with the depth formulas of docs/physics.md
 section 2 written out here.
 """
 import numpy as np
@@ -19,8 +19,8 @@ from sim import geometry, peaks, search
 G = sim.GRAVITY
 
 
-def notes_depth(kind, theta, length, radius):
-    """Depth of the lowest point below the centre, physics notes section 2."""
+def reference_depth(kind, theta, length, radius):
+    """Depth of the lowest point below the centre, docs/physics.md section 2."""
     s, c = np.sin(theta), np.cos(theta)
     if kind == "capsule":
         return length / 2 * np.abs(s) + radius
@@ -63,7 +63,7 @@ class Flight:
         return self.y + self.vy * t - 0.5 * G * t * t
 
     def depth(self, t):
-        return notes_depth(self.kind, self.theta + self.omega * t, self.length, self.radius)
+        return reference_depth(self.kind, self.theta + self.omega * t, self.length, self.radius)
 
     def gap(self, t):
         return self.centre(t) - self.depth(t)
@@ -125,7 +125,7 @@ def flights(draw, min_vy=-3.0):
     omega = draw(st.one_of(st.just(0.0), st.floats(-300.0, 300.0, allow_subnormal=False)))
     vy = draw(st.floats(min_vy, 3.0))
     clearance = 10 ** draw(st.floats(-7.0, -0.5))  # 0.1 um .. 0.3 m above the floor
-    y = float(notes_depth(kind, theta, length, radius)) + clearance
+    y = float(reference_depth(kind, theta, length, radius)) + clearance
     return Flight(kind, length, radius, y, vy, theta, omega)
 
 
@@ -144,6 +144,6 @@ def random_flight(rng, kind, clearance=(-6, -0.7), omega=None):
     radius = 10 ** rng.uniform(-3, -2)
     length = radius * rng.uniform(0.2, 6.0)
     theta = rng.uniform(-np.pi, np.pi)
-    y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(*clearance)
+    y = float(reference_depth(kind, theta, length, radius)) + 10 ** rng.uniform(*clearance)
     vy = rng.uniform(-1, 3)
     return Flight(kind, length, radius, y, vy, theta, rng.uniform(-300, 300) if omega is None else omega)

@@ -7,9 +7,6 @@ its own. Drop: bad arguments are one line on stderr with exit code 2.
 import json
 import math
 import subprocess
-import sys
-import shutil
-from pathlib import Path
 
 import matplotlib.image
 import numpy as np
@@ -17,6 +14,7 @@ import pandas as pd
 import pytest
 
 import sim
+from conftest import hopscape_command
 from explore.cli import main
 
 REQUIRED = ["drop", "impact", "time", "angle", "vx", "vy", "spin", "impulse_normal", "impulse_tangential",
@@ -216,13 +214,8 @@ def test_drop_bad_arguments(tmp_path, capsys, args, words):
     assert not (tmp_path / "pics").exists()
 
 
-def _hopscape():
-    script = Path(sys.executable).with_name("hopscape")
-    return [str(script)] if script.exists() else [shutil.which("hopscape")]
-
-
 def test_drop_inside_floor_real_command_has_no_traceback():
-    proc = subprocess.run(_hopscape() + ["drop", "--no-plots", "--height", "0.001"],
+    proc = subprocess.run(hopscape_command() + ["drop", "--no-plots", "--height", "0.001"],
                           capture_output=True, text=True, timeout=120)
     assert proc.returncode == 2
     assert proc.stdout == ""

@@ -96,6 +96,7 @@ def test_mirrored_release_gives_mirrored_peaks(shape):
 # chunking
 # --------------------------------------------------------------------------
 
+@pytest.mark.slow
 def test_results_do_not_depend_on_chunking():
     # The same drops one by one, all in one call, and in chunks of 1, 7 and
     # 64 must give identical bits (a drop's result may not depend on which
@@ -152,7 +153,7 @@ def benchmark_drops():
 
 def test_centre_never_rises_above_energy_bound(benchmark_drops):
     # Released with total energy E, flights conserve it and the energetic
-    # law never adds to it (physics notes section 6), so the centre can
+    # law never adds to it (docs/physics.md section 6), so the centre can
     # never rise above E / (m g). The bound is exact; 1e-12 relative is
     # rounding.
     result = benchmark_drops
@@ -169,7 +170,7 @@ def test_centre_never_rises_above_energy_bound(benchmark_drops):
 
 
 def test_from_rest_the_centre_never_beats_its_release_height():
-    # From rest the total energy is m g h0 (physics notes section 6): the
+    # From rest the total energy is m g h0 (docs/physics.md section 6): the
     # centre's rebound ratio is at most 1 (rounding: 1e-12).
     shape, release, contact = sim.bench.population(20000, seed=2)
     at_rest = sim.Release(height=release.height, angle=release.angle)
@@ -181,7 +182,7 @@ def test_from_rest_the_centre_never_beats_its_release_height():
 
 
 def test_lowest_point_can_beat_its_release_height_without_spin():
-    # ... but the LOWEST point can (physics notes section 6): at release it
+    # ... but the LOWEST point can (docs/physics.md section 6): at release it
     # sits (L/2) sin(theta0) below the centre, and a landing that leaves the
     # body flatter lifts it. Low drops of a long capsule with high
     # restitution, from rest, over a grid of angles: some lowest-point
@@ -203,7 +204,7 @@ def test_lowest_point_can_beat_its_release_height_without_spin():
     # next test.)
     (2000.0, 1e-12), (1300.0, 1e-9)])
 def test_density_cancels(other_density, tolerance):
-    # Uniform density cancels out of rigid-impact dynamics (physics notes
+    # Uniform density cancels out of rigid-impact dynamics (docs/physics.md
     # section 3): same trajectories; impulses scale with the mass.
     shape, release, contact = sim.bench.population(2000, seed=4)
     light = sim.simulate(sim.Capsule(length=shape.length, radius=shape.radius, density=1000.0),
@@ -248,8 +249,8 @@ def test_density_cancels_in_peaks(other_density):
 # release conventions and input errors
 # --------------------------------------------------------------------------
 
-def notes_capsule_depth(theta, length, radius):
-    return length / 2 * np.abs(np.sin(theta)) + radius  # physics notes section 2
+def reference_capsule_depth(theta, length, radius):
+    return length / 2 * np.abs(np.sin(theta)) + radius  # docs/physics.md section 2
 
 
 def test_release_from_the_bottom_puts_the_lowest_point_there():
@@ -259,8 +260,8 @@ def test_release_from_the_bottom_puts_the_lowest_point_there():
     height = np.array([0.1, 0.05, 0.2, 0.03, 0.3])
     result = sim.simulate(capsule, sim.Release(height=height, angle=angle, reference="bottom"),
                           sim.Contact(), impacts=1)
-    # centre = requested height + notes depth; rounding only
-    assert np.allclose(result.release["y"], height + notes_capsule_depth(angle, length, radius),
+    # centre = requested height + depth (docs/physics.md section 2); rounding only
+    assert np.allclose(result.release["y"], height + reference_capsule_depth(angle, length, radius),
                        rtol=1e-15, atol=0)
     assert np.allclose(result.release_height("bottom"), height, rtol=1e-14, atol=0)
     for i in range(height.size):
@@ -355,8 +356,8 @@ def test_group_bounces_on_a_constructed_result():
     assert same(bounces.height["centre"], expected)
     assert same(bounces.height["bottom"], expected - 0.003)
     # ratios over the release height of the same point: centre y0, lowest
-    # point y0 - d(theta0) with the notes' capsule depth
-    release_bottom = result.release["y"] - notes_capsule_depth(result.release["theta"], 0.01, 0.003)
+    # point y0 - d(theta0) with the capsule depth of docs/physics.md section 2
+    release_bottom = result.release["y"] - reference_capsule_depth(result.release["theta"], 0.01, 0.003)
     assert np.allclose(bounces.release_height["bottom"], release_bottom, rtol=1e-15)
     assert same(bounces.ratio["centre"], expected / result.release["y"][:, None])
     assert np.allclose(bounces.ratio["bottom"], (expected - 0.003) / release_bottom[:, None],

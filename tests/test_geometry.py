@@ -1,13 +1,13 @@
 """The depth of the lowest point and what is derived from it (sim.geometry).
 
 References: the depth formula of docs/physics.md section 2 (written out
-per shape in tests/flight_bodies.py, ``notes_depth``), central differences
+per shape in tests/flight_bodies.py, ``reference_depth``), central differences
 of it for the slopes, and brute force (dense sampling over the angle, or
 over the outline) for the bounds and the lowest point.
 """
 import numpy as np
 import pytest
-from flight_bodies import notes_depth
+from flight_bodies import reference_depth
 
 import sim
 from sim import geometry
@@ -42,7 +42,7 @@ def test_depth_terms_match_the_formula_and_its_derivatives(kind, length, radius)
     size = sum(float(p) for p in profile)
     d, d_prime, d_second = geometry.depth_terms(GENERIC, profile, *flags(profile))
     h = 1e-4
-    plus, mid, minus = (notes_depth(kind, GENERIC + k * h, length, radius) for k in (1, 0, -1))
+    plus, mid, minus = (reference_depth(kind, GENERIC + k * h, length, radius) for k in (1, 0, -1))
     assert np.abs(d - mid).max() <= 1e-14 * size
     assert np.abs(d - geometry.depth(GENERIC, *profile)).max() <= 1e-14 * size
     assert np.abs(d_prime - (plus - minus) / (2 * h)).max() <= 1e-7 * size
@@ -85,7 +85,7 @@ def test_breakpoint_depths_are_exact(kind, length, radius):
     four = bool(profile[1] > 0)
     angles, depths = geometry.breakpoints(profile, four)
     for angle, depth in zip(angles, depths):
-        assert float(depth) == pytest.approx(float(notes_depth(kind, angle, length, radius)), abs=1e-14 * size)
+        assert float(depth) == pytest.approx(float(reference_depth(kind, angle, length, radius)), abs=1e-14 * size)
     if four:
         assert float(depths[1]) == pytest.approx(float(geometry.depth_range(*profile)[1]), rel=1e-14)
 

@@ -4,7 +4,7 @@ Checks, each with its source beside it:
 
 * closed forms for a sphere and for a frictionless rod (textbook results);
 * the three restitution laws agree where theory says they must;
-* [derived] regression values from the physics notes, labelled as such;
+* [derived] regression values of docs/physics.md section 4, labelled as such;
 * an independent marcher that integrates Routh's equations along the normal
   impulse in small steps, written here without the closed forms;
 * hypothesis property tests: no energy gain under the energetic (and
@@ -28,7 +28,7 @@ LAW_NAMES = LAWS
 
 def collide(mass, inertia, r_x, r_y, vx, vy, spin, restitution, friction, law):
     """Body velocities after one impact, using the engine's impulses and the
-    body update of physics notes section 4 (dv = p/m,
+    body update of docs/physics.md section 4 (dv = p/m,
     d omega = (r_x p_n - r_y p_t)/I), written out here."""
     k_tt, k_nn, k_tn = impulse_matrix(mass, inertia, r_x, r_y)
     u_t = vx - spin * r_y
@@ -86,7 +86,7 @@ def test_sphere_reaches_rolling(law, vx, spin, restitution):
 def test_sphere_sliding_throughout(law):
     # Low friction: the contact slides the whole impact, so p_t = -mu p_n
     # with p_n = (1 + e) m |v_y| (Coulomb friction with Routh's method,
-    # physics notes section 4). Rounding only.
+    # docs/physics.md section 4). Rounding only.
     sphere = sim.Sphere(radius=0.01, density=1000.0)
     m, restitution, friction, vy = sphere.mass, 0.7, 0.05, -1.0
     vx2, vy2, spin2, p_n, p_t, slip = collide(m, sphere.inertia, 0.0, -0.01, 3.0, vy, 0.0,
@@ -103,8 +103,8 @@ def test_sphere_sliding_throughout(law):
 def test_frictionless_rod_normal_impulse(law, theta_deg, restitution):
     # Uniform rod, mass m, length L, falling at speed V with no spin, end
     # contact, no friction [text: standard result, e.g. the falling-rod
-    # example of rigid-body impact texts -- quoted from memory via physics
-    # notes section 4]: p_n = (1 + e) m V / (1 + 3 cos^2 theta).
+    # example of rigid-body impact texts, quoted from memory;
+    # docs/physics.md section 4]: p_n = (1 + e) m V / (1 + 3 cos^2 theta).
     # Rounding only.
     mass, speed = 0.3, 1.7
     m, inertia, r_x, r_y = rod(np.radians(theta_deg), mass=mass, length=0.02)
@@ -116,7 +116,7 @@ def test_frictionless_rod_normal_impulse(law, theta_deg, restitution):
 
 def test_thin_rod_critical_friction():
     # Thin rod, end contact: mu_bar = |K_tn|/K_tt = 3 t/(1 + 4 t^2), t = tan
-    # theta, largest 0.75 at 26.57 deg [derived in physics notes section 4
+    # theta, largest 0.75 at 26.57 deg [derived in docs/physics.md section 4
     # from the matrix K; a derived regression value, not published].
     # Checked twice: the matrix entries, and the behaviour of the impact,
     # which must stick just above mu_bar and reverse slip just below it.
@@ -161,7 +161,7 @@ def impulses(u_t, u_n, k, restitution, friction, law):
 
 
 def test_laws_agree_without_friction():
-    # Physics notes section 4 [Stronge 2000]: without friction u_n is one
+    # docs/physics.md section 4 [Stronge 2000]: without friction u_n is one
     # linear function of p, so Newton, Poisson and the energetic law all give
     # p_f = (1 + e) p_c. Newton and Poisson agree to 5e-16; the energetic
     # law takes a square root that loses digits as e -> 0 (seen 4e-12 at
@@ -175,7 +175,7 @@ def test_laws_agree_without_friction():
 
 
 def test_laws_agree_when_slip_never_stops():
-    # Physics notes section 4 [Stronge 2000]: if the contact slides one way
+    # docs/physics.md section 4 [Stronge 2000]: if the contact slides one way
     # throughout, u_n is linear in p and the laws agree, and p_t = -s mu p_n.
     # Constructed: initial slip so fast that it would only stop at
     # 2.5 p_c > (1 + e) p_c >= p_f. Rounding only.
@@ -199,12 +199,12 @@ def test_laws_agree_when_slip_never_stops():
 
 
 # --------------------------------------------------------------------------
-# [derived] regression values from the physics notes
+# [derived] regression values of docs/physics.md section 4
 # --------------------------------------------------------------------------
 
 @pytest.mark.parametrize("law, ratio", [("newton", 1.0112), ("poisson", 0.8804), ("energetic", 0.9209)])
 def test_rod_slip_reversal_energy_ratios(law, ratio):
-    # [derived] regression values from physics notes section 4, NOT
+    # [derived] regression values from docs/physics.md section 4, NOT
     # published: rod m = L = 1, I = 1/12, e = 1, theta = 45 deg, mu = 0.3,
     # v = (0.6, -1), no spin; slip stops and reverses. Newton's law gains
     # energy here (Kane's paradox; the phenomenon is published: Stronge,
@@ -218,7 +218,7 @@ def test_rod_slip_reversal_energy_ratios(law, ratio):
 
 
 def test_capsule_spin_turns_into_lift():
-    # [derived] regression values from physics notes section 4, NOT
+    # [derived] regression values from docs/physics.md section 4, NOT
     # published: capsule R = 1, L = 4, m = 1 (I = 2.6625), theta = 30 deg
     # (lower cap to the left), v = (0, -1), omega = +1, mu = 0.2, e = 0.8,
     # energetic law: v_x' = -0.0061, v_y' = +1.1898, omega' = -0.4291 (the
@@ -265,7 +265,7 @@ def test_capsule_spin_to_lift_through_a_drop():
 def march_routh(u_t0, u_n0, k_tt, k_nn, k_tn, restitution, friction, law, steps=300):
     """Integrate Routh's equations along p in steps (vectorised over cases).
 
-    Written from the slip/stick rules of physics notes section 4 without the
+    Written from the slip/stick rules of docs/physics.md section 4 without the
     phase closed forms: each step takes the current contact mode, moves u
     linearly, cuts the step where u_t reaches zero (the only mode change),
     accumulates the normal work W = int u_n dp by the trapezoid rule (exact
@@ -363,7 +363,7 @@ def test_closed_forms_against_marcher(law):
 def test_energetic_zero_restitution_ends_at_compression():
     # Energetic law with e = 0: the normal work of restitution is 0, so the
     # impact ends where compression ends and the contact point leaves with
-    # u_n' = 0 (Stronge 2000; physics notes section 4); the same holds for
+    # u_n' = 0 (Stronge 2000; docs/physics.md section 4); the same holds for
     # Newton and Poisson with e = 0. Rounding allows ~1e-15 of the approach
     # speed; 1e-12 is generous. Cases whose compression ends after the slip
     # has stopped (stick), where the closed form is taken in the second
@@ -428,7 +428,7 @@ def test_impact_properties(case):
             assert u_n2 == pytest.approx(-restitution * u_n, abs=1e-12 * speed)
         if law == "energetic":
             # Stronge's energetic law never creates energy (Stronge, Proc.
-            # R. Soc. Lond. A 431:169, 1990; physics notes section 4):
+            # R. Soc. Lond. A 431:169, 1990; docs/physics.md section 4):
             # friction work <= 0 and normal work (1 - e^2) W(p_c) <= 0.
             # 1e-12 relative allows rounding only.
             assert ke <= ke0 * (1 + 1e-12)
@@ -449,12 +449,12 @@ def test_impact_properties(case):
 
 @pytest.mark.parametrize("law, gains", [("newton", True), ("poisson", False), ("energetic", False)])
 def test_newton_slip_reversal_drop_flags_energy_gain(law, gains):
-    # The notes' rod case as a drop: a slender cylinder (H = 1 m, R = 1e-6 m:
+    # The rod case of docs/physics.md section 4 as a drop: a slender cylinder (H = 1 m, R = 1e-6 m:
     # a thin rod to 1e-6), at 45 deg with v = (0.6, -1) at impact, e = 1,
     # mu = 0.3. Newton's law gains kinetic energy (Kane's paradox, Stronge,
     # J. Appl. Mech. 58:1049, 1991) and the result must flag it; the other
     # laws do not gain. The ratios are the [derived] regression values of
-    # the notes; the slender cylinder and the search tolerance move them by
+    # docs/physics.md section 4; the slender cylinder and the search tolerance move them by
     # ~1e-6, so 1e-4.
     rod_like = sim.Cylinder(length=1.0, radius=1e-6, density=1.0).with_mass(1.0)
     tau = 0.005

@@ -1,6 +1,6 @@
 """Flight peaks (sim.peaks): the highest centre, lowest point and top point
 over a flight, against brute force (dense sampling of the closed-form
-flight with the depth formulas of physics notes section 2; the bodies of
+flight with the depth formulas of docs/physics.md section 2; the bodies of
 tests/flight_bodies.py).
 """
 import numpy as np
@@ -15,6 +15,7 @@ from sim import geometry, peaks
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(flights(min_vy=-1.0), st.one_of(st.just(1.0), st.floats(0.01, 1.0)))
+@pytest.mark.slow
 def test_flight_peaks_centre_exact_and_never_above_reached(body, fraction):
     # Flights up to the next contact (or a fraction of it: flight_peaks is
     # defined for any duration). The centre peak is a closed form: rounding
@@ -65,6 +66,7 @@ def test_flight_peaks_regression_cases(kind, length, radius, y, vy, theta, omega
 
 
 
+@pytest.mark.slow
 def test_flight_peaks_reach_the_true_peak():
     # A fixed random population of flights (numpy seed, so the outcome is
     # reproducible) up to their next contact: every reported lowest- and
@@ -80,11 +82,12 @@ def test_flight_peaks_reach_the_true_peak():
     assert worst <= PEAK_TOLERANCE
 
 
+@pytest.mark.slow
 def test_capsule_fast_path_reaches_the_true_peaks():
     # Capsules and spheres take their own path (sim.peaks._capsule_peaks):
     # the lowest point from the kinks and the one half turn around the apex,
     # the top point from bump bounds and Newton stopped by the concavity
-    # bound. The reference is brute force: dense sampling of the notes'
+    # bound. The reference is brute force: dense sampling of docs/physics.md's
     # depth formula (dense_max above). Benchmark-like capsules plus fast
     # spins, slow spins and release heights near and far from the floor.
     rng = np.random.default_rng(77)

@@ -3,13 +3,13 @@
 (a) Uniform density cancels out of rigid-body impact dynamics: mass and
     moment of inertia both scale with density, so every impulse scales with
     it and every velocity change does not (standard rigid-body result; see
-    physics-notes section 3, and W. J. Stronge, *Impact Mechanics*,
+    docs/physics.md section 3, and W. J. Stronge, *Impact Mechanics*,
     Cambridge University Press 2000, where the impulse equations involve
     only 1/m and r^2/I). A Sobol study must rank density at zero.
 (b) Released from rest, impacts only dissipate under the energetic law
     (Stronge, J. Appl. Mech. 58:1049, 1991), so the centre can never rise
     above its release height; the lowest point can, because at release it
-    hangs (L/2) sin(theta0) below the centre (physics-notes section 6;
+    hangs (L/2) sin(theta0) below the centre (docs/physics.md section 6;
     standard energy-conservation argument).
 (c) The robustness stage pairs each toleranced drop with a grid drop
     released exactly: with zero tolerance the pairs are identical drops.
@@ -19,15 +19,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from conftest import PIN, changed, grid, run_text, study_yaml, uniform
 from explore.analysis import analyse
 from explore.maps import tolerance_effect
-from explore.runner import run_study
-from explore.study import COLUMN, parse_study
-
-
-def run(text, folder):
-    return run_study(parse_study(text), folder, text, backend="sequential", progress=False)
-
+from explore.study import COLUMN
 
 def ratios(table):
     return table[[c for c in table.columns if c.startswith("ratio_")]].to_numpy()
@@ -37,35 +32,20 @@ def ratios(table):
 # (a) density cancels
 # --------------------------------------------------------------------------
 
-DENSITY = """\
-name: density
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: 3.0
-  density: {uniform: {low: 500, high: 3000}}
-contact:
-  restitution: {uniform: {low: 0.5, high: 0.95}}
-  friction: 0.2
-release:
-  height: 0.02
-  angle: {uniform: {low: 0, high: 90}}
-metric:
-  reference: centre
-  bounce: later
-analyses:
-  robustness: false
-  sensitivity: {method: sobol, samples: 512}
-run:
-  jobs: 1
-  seed: 5
-  impacts: 4
-"""
+DENSITY = study_yaml({
+    "name": "density",
+    "body": {**PIN, "aspect_ratio": 3.0, "density": uniform(500, 3000)},
+    "contact": {"restitution": uniform(0.5, 0.95), "friction": 0.2},
+    "release": {"height": 0.02, "angle": uniform(0, 90)},
+    "metric": {"reference": "centre", "bounce": "later"},
+    "analyses": {"robustness": False, "sensitivity": {"method": "sobol", "samples": 512}},
+    "run": {"jobs": 1, "seed": 5, "impacts": 4},
+})
 
 
 @pytest.fixture(scope="module")
 def density_study(tmp_path_factory):
-    outcome = run(DENSITY, tmp_path_factory.mktemp("density"))
+    outcome = run_text(DENSITY, tmp_path_factory.mktemp("density"))
     return outcome, analyse(outcome)
 
 
@@ -110,35 +90,21 @@ def test_drops_that_differ_only_in_density_have_the_same_outcome(density_study):
 
 # Long capsules (aspect 4-8) tipped off 4 mm (lowest point), restitution
 # 0.95, released from rest.
-LOW_DROP = """\
-name: lowdrop
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 4.0, high: 8.0, steps: 5}}
-contact:
-  restitution: 0.95
-  friction: {uniform: {low: 0.05, high: 0.3}}
-release:
-  height: 0.004
-  height_of: bottom
-  angle: {grid: {low: 0, high: 90, steps: 31}}
-metric:
-  reference: REFERENCE
-  bounce: later
-tolerance: {angle: 1.0, height: 0.0005, draws: 8}
-analyses:
-  draws: 8
-run:
-  jobs: 1
-  seed: 11
-  impacts: 4
-"""
+LOW_DROP = {
+    "name": "lowdrop",
+    "body": {**PIN, "aspect_ratio": grid(4.0, 8.0, 5)},
+    "contact": {"restitution": 0.95, "friction": uniform(0.05, 0.3)},
+    "release": {"height": 0.004, "height_of": "bottom", "angle": grid(0, 90, 31)},
+    "metric": {"reference": "centre", "bounce": "later"},
+    "tolerance": {"angle": 1.0, "height": 0.0005, "draws": 8},
+    "analyses": {"draws": 8},
+    "run": {"jobs": 1, "seed": 11, "impacts": 4},
+}
 
 
 @pytest.fixture(scope="module")
 def low_drop(tmp_path_factory):
-    return {ref: run(LOW_DROP.replace("REFERENCE", ref), tmp_path_factory.mktemp(ref))
+    return {ref: run_text(study_yaml(changed(LOW_DROP, metric={"reference": ref})), tmp_path_factory.mktemp(ref))
             for ref in ("centre", "bottom")}
 
 
@@ -183,38 +149,23 @@ def test_lowest_point_can_beat_its_release_height_in_the_same_drops(low_drop):
 
 # 3 x 7 cells, 4 grid draws over the random restitution and friction, 8
 # toleranced draws per cell (each grid draw is paired twice).
-PAIRS = """\
-name: pairs
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 3}}
-contact:
-  restitution: {uniform: {low: 0.6, high: 0.95}}
-  friction: {uniform: {low: 0.05, high: 0.5}}
-release:
-  height: 0.03
-  angle: {grid: {low: 5, high: 85, steps: 7}}
-metric:
-  reference: bottom
-tolerance: {angle: ANGLE, height: HEIGHT, spin: SPIN, draws: 8}
-analyses:
-  draws: 4
-  maps:
-    - {x: angle, y: aspect_ratio}
-run:
-  jobs: 1
-  seed: 2
-  impacts: 4
-"""
+PAIRS = {
+    "name": "pairs",
+    "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 3)},
+    "contact": {"restitution": uniform(0.6, 0.95), "friction": uniform(0.05, 0.5)},
+    "release": {"height": 0.03, "angle": grid(5, 85, 7)},
+    "metric": {"reference": "bottom"},
+    "analyses": {"draws": 4, "maps": [{"x": "angle", "y": "aspect_ratio"}]},
+    "run": {"jobs": 1, "seed": 2, "impacts": 4},
+}
 
 
 def pairs_study(angle, height, spin):
-    return PAIRS.replace("ANGLE", str(angle)).replace("HEIGHT", str(height)).replace("SPIN", str(spin))
+    return study_yaml(changed(PAIRS, tolerance={"angle": angle, "height": height, "spin": spin, "draws": 8}))
 
 
 def test_zero_tolerance_gives_exactly_zero_change(tmp_path):
-    outcome = run(pairs_study(0, 0, 0), tmp_path)
+    outcome = run_text(pairs_study(0, 0, 0), tmp_path)
     grid, robust = outcome.tables["grid"], outcome.tables["robust"]
     assert len(grid) == 21 * 4 and len(robust) == 21 * 8
     assert grid["value"].notna().all()           # no body starts inside the floor
@@ -237,7 +188,7 @@ def test_zero_tolerance_gives_exactly_zero_change(tmp_path):
 def test_nonzero_tolerance_moves_only_release_and_changes_the_metric(tmp_path):
     # the control for the test above: it would pass trivially if the
     # metric never moved at all
-    outcome = run(pairs_study(2.0, 0.001, 0), tmp_path)
+    outcome = run_text(pairs_study(2.0, 0.001, 0), tmp_path)
     grid, robust = outcome.tables["grid"], outcome.tables["robust"]
     partner = grid.iloc[robust["pair"].to_numpy()].reset_index(drop=True)
     for name in ("aspect_ratio", "restitution", "friction", "spin"):
@@ -260,41 +211,16 @@ def test_nonzero_tolerance_moves_only_release_and_changes_the_metric(tmp_path):
 # the extreme cell is rare: for seek (event: best later ratio of the lowest
 # point above 2) one cell of 150 has the highest probability, for avoid
 # (above 0.3) three cells share the lowest.
-PICKS = """\
-name: picks
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 4.0, high: 8.0, steps: 5}}
-contact:
-  restitution: 0.95
-  friction: {uniform: {low: 0.05, high: 0.3}}
-release:
-  height: 0.004
-  height_of: bottom
-  angle: {grid: {low: 3, high: 90, steps: 30}}
-metric:
-  reference: bottom
-  bounce: later
-  threshold: THRESHOLD
-  goal: GOAL
-tolerance: {angle: 1.0, height: 0.0005, draws: 16}
-analyses:
-  draws: 8
-  picks: {count: 6, target: 0.8}
-run:
-  jobs: 1
-  seed: 11
-  impacts: 4
-"""
+PICKS = changed(LOW_DROP, name="picks", release={"angle": grid(3, 90, 30)}, metric={"reference": "bottom"},
+                tolerance={"draws": 16}, analyses={"picks": {"count": 6, "target": 0.8}})
 GOALS = {"seek": 2.0, "avoid": 0.3}
 
 
 @pytest.fixture(scope="module", params=["seek", "avoid"])
 def picked(request, tmp_path_factory):
     folder = tmp_path_factory.mktemp(request.param)
-    text = PICKS.replace("GOAL", request.param).replace("THRESHOLD", str(GOALS[request.param]))
-    outcome = run(text, folder)
+    text = study_yaml(changed(PICKS, metric={"threshold": GOALS[request.param], "goal": request.param}))
+    outcome = run_text(text, folder)
     art = analyse(outcome)
     return request.param, outcome, art, folder
 

@@ -151,6 +151,7 @@ def hopscape_drop(angle, impacts=8):
 
 
 @pytest.mark.parametrize("angle_deg", [10.0, 20.0, 30.0])
+@pytest.mark.slow
 def test_long_flight_peaks_match_pymunk(angle_deg):
     angle = math.radians(angle_deg)
     impacts_pm, peaks_pm = long_flight_peaks(pymunk_drop(angle))

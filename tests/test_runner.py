@@ -11,95 +11,35 @@ difference is a defect.
 Studies are kept small (about 2,500 drops, 4 impacts) except the two that
 must still be running when a signal arrives (about 88,000 drops).
 """
-import html
 import json
 import os
 import re
 import shutil
 import signal
 import subprocess
-import sys
 import time
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import psutil
 import pytest
 
+from conftest import (SMALL, SMALL_COUNTS, SMALL_STUDY, changed, grid, hopscape_command, read_parts, run_text,
+                      study_yaml, write_study)
 from explore.cli import main
 from explore.errors import InputError
-from explore.maps import energy_note
 from explore.plan import count_drops
-from explore.report import SAFETY
 from explore.runner import run_study, write_atomic
 from explore.study import COLUMN, parse_study
 
-# 5 aspect ratios x 16 angles = 80 cells x 12 draws = 960 grid drops,
-# 80 x 8 = 640 robust drops, Sobol 128 x (5 + 2) = 896 drops: 2,496.
-SMALL = """\
-name: small
-description: runner tests
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 5}}
-  density: 1150
-contact:
-  restitution: {uniform: {low: 0.8, high: 0.95}}
-  friction: {uniform: {low: 0.05, high: 0.3}}
-release:
-  height: {uniform: {low: 0.003, high: 0.008}}
-  height_of: bottom
-  angle: {grid: {low: 0, high: 90, steps: 16}}
-metric:
-  reference: bottom
-tolerance: {angle: 2.0, height: 0.001, draws: 8}
-analyses:
-  draws: 12
-  maps:
-    - {x: angle, y: aspect_ratio}
-  curves:
-    - {x: angle}
-  sensitivity: {method: sobol, samples: 128}
-  picks: {count: 3, target: 0.5}
-run:
-  jobs: 2
-  chunk_size: 500
-  seed: 3
-  impacts: 4
-"""
-SMALL_COUNTS = {"grid": 960, "robust": 640, "sobol": 896}
-
 # 15 x 61 cells x 64 draws = 58,560 grid + 15 x 61 x 32 = 29,280 robust:
-# 44 parts of 2,000 drops; about 1.5 s of simulation on one core, so a
+# 45 parts of at most 2,000 drops; about 1.5 s of simulation on one core, so a
 # signal sent when the first part appears lands mid-run.
-MID = """\
-name: mid
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 15}}
-  density: 1150
-contact:
-  restitution: {uniform: {low: 0.8, high: 0.95}}
-  friction: {uniform: {low: 0.05, high: 0.3}}
-release:
-  height: {uniform: {low: 0.003, high: 0.008}}
-  height_of: bottom
-  angle: {grid: {low: 0, high: 90, steps: 61}}
-metric:
-  reference: bottom
-tolerance: {angle: 2.0, height: 0.001, draws: 32}
-analyses:
-  draws: 64
-  picks: {count: 3, target: 0.5}
-run:
-  jobs: 2
-  chunk_size: 2000
-  seed: 3
-  impacts: 4
-"""
+MID = study_yaml(changed(SMALL_STUDY, name="mid", description=None,
+                         body={"aspect_ratio": grid(2.0, 6.0, 15)}, release={"angle": grid(0, 90, 61)},
+                         tolerance={"draws": 32},
+                         analyses={"draws": 64, "maps": None, "curves": None, "sensitivity": None},
+                         run={"chunk_size": 2000}))
 MID_PARTS = 30 + 15    # ceil(58560 / 2000) + ceil(29280 / 2000)
 
 STAGE_INDEX = {"grid": ["cell", "draw"], "robust": ["cell", "draw"], "sobol": ["sample"], "morris": ["sample"]}
@@ -119,36 +59,16 @@ def assert_same_tables(a, b):
         pd.testing.assert_frame_equal(a[stage], b[stage], check_exact=True, obj=f"stage {stage}")
 
 
-def read_parts(folder):
-    """The result table of every stage, read back from the part files."""
-    tables = {}
-    for path in sorted((Path(folder) / "results").glob("part-*.parquet")):
-        stage = path.name.split("-")[1]
-        tables.setdefault(stage, []).append(pd.read_parquet(path))
-    return {stage: pd.concat(parts, ignore_index=True) for stage, parts in tables.items()}
-
-
-def run(text, folder, **kwargs):
-    kwargs.setdefault("progress", False)
-    return run_study(parse_study(text), folder, text, **kwargs)
-
-
-def _hopscape():
-    script = Path(sys.executable).with_name("hopscape")
-    return [str(script)] if script.exists() else [shutil.which("hopscape")]
-
-
 @pytest.fixture(scope="module")
 def small_reference(tmp_path_factory):
     folder = tmp_path_factory.mktemp("small-ref")
-    outcome = run(SMALL, folder, backend="sequential")
-    return outcome
+    return run_text(SMALL, folder)
 
 
 @pytest.fixture(scope="module")
 def mid_reference(tmp_path_factory):
     folder = tmp_path_factory.mktemp("mid-ref")
-    return run(MID, folder, backend="sequential")
+    return run_text(MID, folder)
 
 
 # --------------------------------------------------------------------------
@@ -167,9 +87,10 @@ def test_reference_run_has_every_stage_complete(small_reference):
     assert_same_tables(read_parts(out.folder), out.tables)
 
 
-@pytest.mark.parametrize("backend, jobs", [("loky", 2), ("threading", 2), ("sequential", 2), ("loky", 1)])
+@pytest.mark.parametrize("backend, jobs", [pytest.param("loky", 2, marks=pytest.mark.slow),  # starts 2 processes
+                                           ("threading", 2), ("sequential", 2), ("loky", 1)])
 def test_same_table_for_every_backend_and_job_count(small_reference, tmp_path, backend, jobs):
-    outcome = run(SMALL, tmp_path, backend=backend, jobs=jobs)
+    outcome = run_text(SMALL, tmp_path, backend=backend, jobs=jobs)
     assert outcome.simulated == outcome.total
     assert_same_tables(outcome.tables, small_reference.tables)
 
@@ -178,7 +99,7 @@ def test_same_table_for_other_chunk_size(small_reference, tmp_path):
     text = SMALL.replace("chunk_size: 500", "chunk_size: 2000")
     study = parse_study(text)
     assert study.fingerprint() != small_reference.study.fingerprint()   # hence its own folder
-    outcome = run(text, tmp_path, backend="sequential")
+    outcome = run_text(text, tmp_path)
     assert len(list((tmp_path / "results").glob("part-*.parquet"))) == 3    # one part per stage
     assert len(list((small_reference.folder / "results").glob("part-*.parquet"))) == 6
     assert_same_tables(outcome.tables, small_reference.tables)
@@ -187,19 +108,20 @@ def test_same_table_for_other_chunk_size(small_reference, tmp_path):
 def test_other_seed_gives_other_draws(small_reference, tmp_path):
     # guards the determinism tests: they would pass vacuously if the draws
     # did not depend on the study at all
-    outcome = run(SMALL.replace("seed: 3", "seed: 4"), tmp_path, backend="sequential")
+    outcome = run_text(SMALL.replace("seed: 3", "seed: 4"), tmp_path)
     for stage in ("grid", "robust", "sobol"):
         a = normalised(outcome.tables)[stage][COLUMN["restitution"]].to_numpy()
         b = normalised(small_reference.tables)[stage][COLUMN["restitution"]].to_numpy()
         assert not np.array_equal(a, b)
 
 
+@pytest.mark.slow
 def test_dask_backend_same_table(small_reference, tmp_path):
-    # Slow-ish (a local dask.distributed cluster of two worker processes
-    # starts and stops, ~6 s) but part of the default run: the dask path
+    # Slow (a local dask.distributed cluster of two worker processes
+    # starts and stops, ~5 s) but part of the full run: the dask path
     # goes through joblib's dask backend and must give the same table.
     pytest.importorskip("distributed")
-    outcome = run(SMALL, tmp_path, backend="dask", jobs=2)
+    outcome = run_text(SMALL, tmp_path, backend="dask", jobs=2)
     assert outcome.simulated == outcome.total
     assert_same_tables(outcome.tables, small_reference.tables)
 
@@ -209,7 +131,7 @@ def test_dask_backend_same_table(small_reference, tmp_path):
 # --------------------------------------------------------------------------
 
 def test_resume_simulates_only_the_missing_chunks(small_reference, tmp_path):
-    first = run(SMALL, tmp_path, backend="sequential")
+    first = run_text(SMALL, tmp_path)
     results = tmp_path / "results"
     parts = sorted(p.name for p in results.glob("part-*.parquet"))
     assert parts == [f"part-{s}-0000{k}.parquet" for s in ("grid", "robust", "sobol") for k in (0, 1)]
@@ -219,7 +141,7 @@ def test_resume_simulates_only_the_missing_chunks(small_reference, tmp_path):
         assert len(pd.read_parquet(results / name)) == rows
         (results / name).unlink()
     kept = {p.name: p.stat().st_mtime_ns for p in results.glob("part-*.parquet")}
-    second = run(SMALL, tmp_path, backend="sequential")
+    second = run_text(SMALL, tmp_path)
     assert second.simulated == sum(gone.values())
     assert second.total == first.total
     assert {p.name: p.stat().st_mtime_ns for p in results.glob("part-*.parquet") if p.name in kept} == kept
@@ -229,7 +151,7 @@ def test_resume_simulates_only_the_missing_chunks(small_reference, tmp_path):
 
 def test_complete_folder_resumes_with_nothing_to_do_whatever_the_jobs(small_reference, tmp_path):
     shutil.copytree(small_reference.folder, tmp_path, dirs_exist_ok=True)
-    again = run(SMALL, tmp_path, backend="threading", jobs=2)   # jobs and backend are not in the fingerprint
+    again = run_text(SMALL, tmp_path, backend="threading", jobs=2)   # jobs and backend are not in the fingerprint
     assert again.simulated == 0
     assert again.total == sum(SMALL_COUNTS.values())
     assert_same_tables(again.tables, small_reference.tables)
@@ -258,11 +180,11 @@ def _valid_parts(folder):
     return parts, rows
 
 
+@pytest.mark.slow
 def test_kill_9_mid_run_then_resume_gives_the_uninterrupted_table(mid_reference, tmp_path):
-    study_path = tmp_path / "mid.yaml"
-    study_path.write_text(MID, encoding="utf-8")
+    study_path = write_study(tmp_path, MID, "mid.yaml")
     folder = tmp_path / "run"
-    proc = subprocess.Popen(_hopscape() + ["run", str(study_path), "--out", str(folder), "--quiet",
+    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
                                            "--backend", "sequential"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     try:
@@ -273,19 +195,19 @@ def test_kill_9_mid_run_then_resume_gives_the_uninterrupted_table(mid_reference,
     assert proc.returncode == -signal.SIGKILL
     parts, rows_on_disk = _valid_parts(folder)
     assert 1 <= len(parts) < MID_PARTS, "the kill must land mid-run for this test to mean anything"
-    outcome = run(MID, folder, backend="sequential")
+    outcome = run_text(MID, folder)
     assert outcome.simulated == outcome.total - rows_on_disk
     assert not [p.name for p in (folder / "results").iterdir() if ".tmp" in p.name]
     assert len(list((folder / "results").glob("part-*.parquet"))) == MID_PARTS
     assert_same_tables(outcome.tables, mid_reference.tables)
 
 
+@pytest.mark.slow
 def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
     # the default backend of the study: two loky worker processes
-    study_path = tmp_path / "mid.yaml"
-    study_path.write_text(MID, encoding="utf-8")
+    study_path = write_study(tmp_path, MID, "mid.yaml")
     folder = tmp_path / "run"
-    proc = subprocess.Popen(_hopscape() + ["run", str(study_path), "--out", str(folder), "--quiet"],
+    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         _wait_for_first_part(proc, folder)
@@ -309,7 +231,7 @@ def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
     # the workers went away with the run
     _, alive = psutil.wait_procs(workers, timeout=15)
     assert not [p for p in alive if p.status() != psutil.STATUS_ZOMBIE]
-    outcome = run(MID, folder, backend="sequential")
+    outcome = run_text(MID, folder)
     assert outcome.simulated == outcome.total - rows_on_disk
     assert not [p.name for p in (folder / "results").iterdir() if ".tmp" in p.name]
     assert_same_tables(outcome.tables, mid_reference.tables)
@@ -346,12 +268,12 @@ def test_interrupted_part_write_leaves_no_temporary_file(tmp_path, monkeypatch):
 # a changed study never mixes with old parts
 # --------------------------------------------------------------------------
 
+@pytest.mark.slow
 def test_changed_study_is_refused_and_fresh_starts_over(tmp_path, capsys):
-    old, new = tmp_path / "old.yaml", tmp_path / "new.yaml"
-    old.write_text(SMALL, encoding="utf-8")
+    old = write_study(tmp_path, SMALL, "old.yaml")
     # a new seed and chunk size: other numbers and fewer, larger parts
     new_text = SMALL.replace("seed: 3", "seed: 4").replace("chunk_size: 500", "chunk_size: 2000")
-    new.write_text(new_text, encoding="utf-8")
+    new = write_study(tmp_path, new_text, "new.yaml")
     folder = tmp_path / "run"
     assert main(["run", str(old), "--out", str(folder), "--quiet", "--backend", "sequential"]) == 0
     capsys.readouterr()
@@ -377,14 +299,14 @@ def test_changed_study_is_refused_and_fresh_starts_over(tmp_path, capsys):
     record = json.loads((folder / "run.json").read_text())
     assert record["simulated"] == record["drops"] == 2496
     # the parts now hold the new study's numbers
-    fresh = run(new_text, tmp_path / "check", backend="sequential")
+    fresh = run_text(new_text, tmp_path / "check")
     assert_same_tables(read_parts(folder), fresh.tables)
 
 
 def test_parts_without_fingerprint_are_refused(small_reference, tmp_path):
     shutil.copytree(small_reference.folder / "results", tmp_path / "results")
     with pytest.raises(InputError, match="unknown origin.*--fresh"):
-        run(SMALL, tmp_path, backend="sequential")
+        run_text(SMALL, tmp_path)
 
 
 def test_run_from_python_records_the_study(tmp_path):
@@ -397,27 +319,16 @@ def test_run_from_python_records_the_study(tmp_path):
 # the run folder a person opens
 # --------------------------------------------------------------------------
 
-@pytest.fixture(scope="module")
-def cli_run(tmp_path_factory):
-    base = tmp_path_factory.mktemp("layout")
-    study_path = base / "small.yaml"
-    study_path.write_text(SMALL, encoding="utf-8")
-    folder = base / "run"
-    code = main(["run", str(study_path), "--out", str(folder), "--quiet", "--backend", "sequential"])
-    assert code == 0
-    return folder
-
-
-def test_folder_holds_the_study_and_its_parts(cli_run):
-    assert (cli_run / "study.yaml").read_text(encoding="utf-8") == SMALL
-    names = sorted(p.name for p in (cli_run / "results").iterdir())
+def test_folder_holds_the_study_and_its_parts(small_run):
+    assert (small_run / "study.yaml").read_text(encoding="utf-8") == SMALL
+    names = sorted(p.name for p in (small_run / "results").iterdir())
     assert all(PART.match(n) for n in names), names
-    tables = read_parts(cli_run)
+    tables = read_parts(small_run)
     assert {s: len(t) for s, t in tables.items()} == count_drops(parse_study(SMALL)) == SMALL_COUNTS
 
 
-def test_every_map_png_has_its_csv(cli_run):
-    maps = cli_run / "maps"
+def test_every_map_png_has_its_csv(small_run):
+    maps = small_run / "maps"
     pngs = sorted(p.stem for p in maps.glob("*.png"))
     assert pngs == ["curve-angle", "map-angle-aspect_ratio", "ranking", "ranking-convergence",
                     "robustness-angle-aspect_ratio"]
@@ -426,41 +337,14 @@ def test_every_map_png_has_its_csv(cli_run):
     for stem in ("curve-angle", "map-angle-aspect_ratio", "robustness-angle-aspect_ratio"):
         assert (maps / f"{stem}.csv").is_file(), stem
     # the numbers of the ranking charts are the top-level CSVs
-    assert (cli_run / "sensitivity.csv").is_file() and (cli_run / "sensitivity-convergence.csv").is_file()
+    assert (small_run / "sensitivity.csv").is_file() and (small_run / "sensitivity-convergence.csv").is_file()
 
 
-def test_map_csv_holds_the_numbers_behind_the_map(cli_run):
-    cells = pd.read_csv(cli_run / "maps" / "map-angle-aspect_ratio.csv")
-    grid = read_parts(cli_run)["grid"]
-    assert len(cells) == 80 and (cells["drops"] == 12).all()
-    expected = grid.groupby([COLUMN["angle"], COLUMN["aspect_ratio"]])["event"].mean()
-    got = cells.set_index([COLUMN["angle"], COLUMN["aspect_ratio"]])["event_probability"]
-    pd.testing.assert_series_equal(got.sort_index(), expected.sort_index(), check_names=False, rtol=1e-12)
-    assert 0 < cells["event_probability"].mean() < 1      # a map with something to show
-
-
-def test_sensitivity_csv_columns_and_parameters(cli_run):
-    table = pd.read_csv(cli_run / "sensitivity.csv")
+def test_sensitivity_csv_columns_and_parameters(small_run):
+    table = pd.read_csv(small_run / "sensitivity.csv")
     assert list(table.columns[:5]) == ["parameter", "S1", "S1_conf", "ST", "ST_conf"]
     assert sorted(table["parameter"]) == sorted(["aspect_ratio", "restitution", "friction", "height", "angle"])
     assert np.isfinite(table[["S1", "S1_conf", "ST", "ST_conf"]].to_numpy()).all()
     assert (table["ST_conf"] >= 0).all()
 
 
-def test_picks_csv(cli_run):
-    picks = pd.read_csv(cli_run / "picks.csv")
-    assert list(picks["rank"]) == [1, 2, 3]
-    assert {"event_probability", COLUMN["angle"], COLUMN["aspect_ratio"], "chaotic", "note"} <= set(picks.columns)
-    assert picks["event_probability"].is_monotonic_decreasing      # goal: seek
-
-
-def test_report_has_energy_bound_and_safety_notes(cli_run):
-    page = (cli_run / "report.html").read_text(encoding="utf-8")
-    study = parse_study(SMALL)
-    assert html.escape(energy_note(study)) in page
-    assert "the centre can never rise above its release height" in page
-    assert html.escape(SAFETY) in page
-    assert "wear eye protection" in page
-    # every picture it shows exists
-    for src in re.findall(r'<img src="([^"]+)"', page):
-        assert (cli_run / html.unescape(src)).is_file(), src

@@ -2,14 +2,14 @@
 
 The reference is brute force on the bodies of tests/flight_bodies.py: the
 floor gap ``y(t) - d(theta(t))`` on very fine time grids from the
-closed-form flight, with the depth formulas of physics notes section 2.
+closed-form flight, with the depth formulas of docs/physics.md section 2.
 Grazing contacts that dip below the floor for only 1e-5 s or 1e-6 s are
-constructed analytically (physics notes section 5: they exist, about 2 per
+constructed analytically (docs/physics.md section 5: they exist, about 2 per
 10^6 random flights, and must never be skipped).
 """
 import numpy as np
 import pytest
-from flight_bodies import G, Flight, flights, notes_depth
+from flight_bodies import G, Flight, flights, reference_depth
 from hypothesis import HealthCheck, given, settings
 from scipy.optimize import brentq, minimize_scalar
 
@@ -20,6 +20,7 @@ from sim import geometry, search
 
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(flights())
+@pytest.mark.slow
 def test_next_contact_is_the_first_root(body):
     # Brute force: the gap on 2e5 points up to the time the body must touch.
     # The returned time may never be later than the first negative sample,
@@ -54,7 +55,7 @@ def test_next_contact_batch_equals_one_by_one():
         radius = rng.uniform(1e-3, 1e-2)
         length = radius * rng.uniform(0.2, 6.0)
         theta = rng.uniform(-np.pi, np.pi)
-        y = float(notes_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.5)
+        y = float(reference_depth(kind, theta, length, radius)) + 10 ** rng.uniform(-6, -0.5)
         bodies.append(Flight(kind, length, radius, y, rng.uniform(-3, 3), theta, rng.uniform(-300, 300)))
     singles = np.array([b.next_contact() for b in bodies])
     profile = tuple(np.concatenate([b.profile[k] for b in bodies]) for k in range(4))

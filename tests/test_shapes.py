@@ -2,7 +2,7 @@
 
 Three kinds of check, each named where it is used:
 
-* closed forms from standard tables and their limits (physics notes
+* closed forms from standard tables and their limits (docs/physics.md
   section 3);
 * an independent numerical integration: triangle meshes built by the mesh
   library trimesh (a test-only dependency) and its own mass properties;
@@ -28,7 +28,7 @@ GENERIC_ANGLES = np.radians(np.linspace(-179.5, 179.5, 73) + 0.1234)
 
 def capsule_closed_form(length, radius, density):
     """Capsule mass and transverse moment, written out from the formula in
-    physics notes section 3 [pub: parry3d ``mass_properties_capsule.rs``;
+    docs/physics.md section 3 [pub: parry3d ``mass_properties_capsule.rs``;
     hemisphere centroid 3R/8 from its flat face plus the parallel-axis
     theorem, any rigid-body text]."""
     m_cyl = density * np.pi * radius ** 2 * length
@@ -54,7 +54,7 @@ def test_capsule_mass_and_inertia_closed_form(length, radius, density):
 
 
 def test_capsule_with_no_cylinder_is_a_sphere():
-    # L = 0: I = 2/5 m R^2 [pub: standard tables; physics notes section 3].
+    # L = 0: I = 2/5 m R^2 [pub: standard tables; docs/physics.md section 3].
     # Rounding only, hence 1e-14.
     capsule = sim.Capsule(length=0.0, radius=0.004, density=1200.0)
     sphere = sim.Sphere(radius=0.004, density=1200.0)
@@ -78,21 +78,21 @@ def test_capsule_thin_limit_is_a_rod(ratio):
 
 
 @pytest.mark.parametrize("length_over_radius, derived", [
-    # the published closed form evaluated here, beside the notes' [derived]
-    # regression value (4 decimals; a Monte Carlo integration agreed to 0.1%)
+    # the published closed form evaluated here, beside the [derived]
+    # regression value of docs/physics.md section 3 (4 decimals; a Monte Carlo integration agreed to 0.1%)
     (2.0, 1.2100), (4.0, 2.6625)])
 def test_capsule_derived_regression_values(length_over_radius, derived):
     capsule = sim.Capsule(length=length_over_radius, radius=1.0, density=1.0)
     mass, inertia = capsule_closed_form(length_over_radius, 1.0, 1.0)
-    # published closed form (physics notes section 3): rounding only
+    # published closed form (docs/physics.md section 3): rounding only
     assert capsule.inertia / capsule.mass == pytest.approx(inertia / mass, rel=1e-13)
     # [derived] regression value, NOT published: I / (m R^2) quoted to 4
-    # decimals in the notes, so half a unit of the last decimal
+    # decimals in docs/physics.md, so half a unit of the last decimal
     assert capsule.inertia / capsule.mass == pytest.approx(derived, abs=5e-5)
 
 
 def test_sphere_spheroid_cylinder_closed_forms():
-    # Standard tables of moments of inertia [pub; physics notes section 3]:
+    # Standard tables of moments of inertia [pub; docs/physics.md section 3]:
     # sphere 2/5 m R^2, spheroid m (a^2 + b^2)/5, solid cylinder
     # m (3 R^2 + H^2)/12 about a transverse axis through the centre.
     # Rounding only.
@@ -231,11 +231,11 @@ def test_spheroid_against_trimesh(a, b):
 
 
 # --------------------------------------------------------------------------
-# depth and contact offset: notes formulas
+# depth and contact offset: the formulas of docs/physics.md section 2
 # --------------------------------------------------------------------------
 
-def notes_depth(kind, theta, length, radius):
-    """Depth of the lowest point, physics notes section 2, written out."""
+def reference_depth(kind, theta, length, radius):
+    """Depth of the lowest point, docs/physics.md section 2, written out."""
     s, c = np.sin(theta), np.cos(theta)
     if kind == "capsule":
         return length / 2 * np.abs(s) + radius
@@ -261,33 +261,33 @@ def build(kind, length, radius, density=1000.0):
 
 @pytest.mark.parametrize("kind, length, radius", SHAPE_CASES)
 def test_depth_matches_notes_formula(kind, length, radius):
-    # Physics notes section 2. The engine evaluates one general Minkowski
+    # docs/physics.md section 2. The engine evaluates one general Minkowski
     # formula; agreement to rounding (1e-14 relative) checks the mapping of
     # each shape onto it.
     theta = np.radians(np.linspace(-360, 360, 1441))
     shape = build(kind, length, radius)
-    assert np.allclose(shape.depth(theta), notes_depth(kind, theta, length, radius), rtol=1e-14, atol=0)
+    assert np.allclose(shape.depth(theta), reference_depth(kind, theta, length, radius), rtol=1e-14, atol=0)
 
 
 @pytest.mark.parametrize("kind, length, radius", SHAPE_CASES)
 def test_contact_offset_is_minus_depth_slope(kind, length, radius):
-    # r = (-d'(theta), -d(theta)) (physics notes section 2). d' by central
-    # differences of the notes formula with h = 1e-6 rad: truncation
+    # r = (-d'(theta), -d(theta)) (docs/physics.md section 2). d' by central
+    # differences of the section 2 formula with h = 1e-6 rad: truncation
     # ~ h^2 d''' / 6 and rounding ~ 1e-16 d / h, both below 1e-9 of the body
     # size, hence atol 1e-8 * size. Generic angles only (d has kinks at the
     # quarter turns).
     shape = build(kind, length, radius)
     size = length + radius
     h = 1e-6
-    slope = (notes_depth(kind, GENERIC_ANGLES + h, length, radius)
-             - notes_depth(kind, GENERIC_ANGLES - h, length, radius)) / (2 * h)
+    slope = (reference_depth(kind, GENERIC_ANGLES + h, length, radius)
+             - reference_depth(kind, GENERIC_ANGLES - h, length, radius)) / (2 * h)
     r_x, r_y = shape.contact_offset(GENERIC_ANGLES)
     assert np.allclose(r_x, -slope, rtol=0, atol=1e-8 * size)
-    assert np.allclose(r_y, -notes_depth(kind, GENERIC_ANGLES, length, radius), rtol=1e-14, atol=0)
+    assert np.allclose(r_y, -reference_depth(kind, GENERIC_ANGLES, length, radius), rtol=1e-14, atol=0)
 
 
 def test_capsule_contact_is_under_the_lower_cap_centre():
-    # Physics notes section 2: the contact is straight under the lower cap
+    # docs/physics.md section 2: the contact is straight under the lower cap
     # centre. At 30 deg the axis points up-right, so the lower cap is the
     # one at -axis: centre offset -(L/2)(cos, sin), contact R below it.
     length, radius = 0.012, 0.0035
@@ -298,7 +298,7 @@ def test_capsule_contact_is_under_the_lower_cap_centre():
 
 
 def test_cylinder_contact_is_a_rim_corner():
-    # Physics notes section 2: the contact of a flat-ended cylinder is a rim
+    # docs/physics.md section 2: the contact of a flat-ended cylinder is a rim
     # corner, here the corner at -axis and -across for 0 < theta < 90 deg.
     height, radius = 0.004, 0.005
     theta = np.radians(40.0)

@@ -8,41 +8,27 @@ line holding a unique snippet and the column of the key on that line, so a
 test fails if a message points anywhere else.
 """
 import re
-import shutil
 import subprocess
-import sys
-from pathlib import Path
 
 import pytest
 
+from conftest import PIN, changed, grid, hopscape_command, study_yaml, uniform, write_study
 import explore.metrics
 import explore.runner
 import sim
 from explore.cli import main
 
 # A valid, small study. Every test below breaks it in one or more places.
-GOOD = """\
-name: probe
-description: a small valid study the tests break on purpose
-body:
-  shape: capsule
-  diameter: 0.006
-  aspect_ratio: {grid: {low: 2.0, high: 5.0, steps: 4}}
-  density: 1150
-contact:
-  restitution: {uniform: {low: 0.8, high: 0.95}}
-  friction: 0.2
-release:
-  height: 0.01
-  angle: {grid: {low: 0, high: 90, steps: 5}}
-analyses:
-  draws: 4
-  maps:
-    - {x: angle, y: aspect_ratio}
-run:
-  jobs: 1
-  impacts: 3
-"""
+GOOD_STUDY = {
+    "name": "probe",
+    "description": "a small valid study the tests break on purpose",
+    "body": {**PIN, "aspect_ratio": grid(2.0, 5.0, 4), "density": 1150},
+    "contact": {"restitution": uniform(0.8, 0.95), "friction": 0.2},
+    "release": {"height": 0.01, "angle": grid(0, 90, 5)},
+    "analyses": {"draws": 4, "maps": [{"x": "angle", "y": "aspect_ratio"}]},
+    "run": {"jobs": 1, "impacts": 3},
+}
+GOOD = study_yaml(GOOD_STUDY)
 
 
 def where(text, snippet, key=None):
@@ -60,12 +46,6 @@ def check(path, capsys):
     code = main(["check", str(path)])
     out, err = capsys.readouterr()
     return code, out, err.splitlines()
-
-
-def write(tmp_path, text, name="study.yaml"):
-    path = tmp_path / name
-    path.write_text(text, encoding="utf-8")
-    return path
 
 
 def assert_clean_errors(err_lines, expected_count=None):
@@ -86,6 +66,26 @@ def message_at(err_lines, path, line, col, field):
     return hits[0][len(prefix):]
 
 
+def assert_says(err_lines, path, text, snippet, key, field, words):
+    """The message for ``field`` sits at ``key`` on the line of ``text``
+    holding ``snippet`` and contains every one of ``words``."""
+    line, col = where(text, snippet, key)
+    msg = message_at(err_lines, path, line, col, field)
+    for word in words:
+        assert word in msg, msg
+
+
+def only_error(tmp_path, capsys, text, snippet, key, field):
+    """Check a study file with exactly one mistake: exit code 2, one clean
+    line, placed at ``key`` on the line holding ``snippet``; its message."""
+    path = write_study(tmp_path, text)
+    code, _, err = check(path, capsys)
+    assert code == 2
+    assert_clean_errors(err, 1)
+    line, col = where(text, snippet, key)
+    return message_at(err, path, line, col, field)
+
+
 # --------------------------------------------------------------------------
 # the good study, and the template
 # --------------------------------------------------------------------------
@@ -94,7 +94,7 @@ def test_good_study_is_accepted_and_counted(tmp_path, capsys):
     # 4 aspect ratios x 5 angles = 20 cells; 4 draws over the distributed
     # restitution -> 80 grid drops; robustness is on by default with 32
     # toleranced draws per cell -> 640 robust drops.
-    path = write(tmp_path, GOOD)
+    path = write_study(tmp_path, GOOD)
     code, out, err = check(path, capsys)
     assert code == 0 and err == []
     assert "ok - study 'probe'" in out
@@ -145,11 +145,8 @@ def test_new_without_out_writes_into_studies_and_refuses_a_bad_name(tmp_path, mo
 
 def test_run_by_name_finds_studies_folder_of_the_working_directory(tmp_path, monkeypatch, capsys):
     # A tiny study (one grid axis of 3 angles, nothing random, no robustness).
-    text = GOOD.replace("name: probe", "name: tiny") \
-               .replace("  aspect_ratio: {grid: {low: 2.0, high: 5.0, steps: 4}}", "  aspect_ratio: 3.0") \
-               .replace("  restitution: {uniform: {low: 0.8, high: 0.95}}", "  restitution: 0.9") \
-               .replace("steps: 5}}", "steps: 3}}") \
-               .replace("  maps:\n    - {x: angle, y: aspect_ratio}\n", "  robustness: false\n")
+    text = study_yaml(changed(GOOD_STUDY, name="tiny", body={"aspect_ratio": 3.0}, contact={"restitution": 0.9},
+                              release={"angle": grid(0, 90, 3)}, analyses={"maps": None, "robustness": False}))
     (tmp_path / "studies").mkdir()
     (tmp_path / "studies" / "tiny.yaml").write_text(text, encoding="utf-8")
     monkeypatch.chdir(tmp_path)
@@ -203,7 +200,7 @@ run:
 
 @pytest.fixture
 def many(tmp_path, capsys):
-    path = write(tmp_path, MANY_MISTAKES, "many.yaml")
+    path = write_study(tmp_path, MANY_MISTAKES, "many.yaml")
     code, out, err = check(path, capsys)
     return path, code, out, err
 
@@ -218,11 +215,23 @@ def test_all_field_mistakes_reported_at_once_with_exit_2(many):
     assert all(line.startswith(f"hopscape: error: {path}:") for line in err)
 
 
-def test_unknown_key(many):
+@pytest.mark.parametrize("snippet, key, field, words", [
+    pytest.param("colour: red", None, "colour", ["unknown field"], id="unknown_key"),
+    # a duplicate key's message names the field path
+    pytest.param("friction: 0.3", None, "contact.friction", [], id="duplicate_key_field_path"),
+    pytest.param("steps: many", "steps", "release.angle.grid.steps", ["valid integer", "'many'"],
+                 id="wrong_type_in_a_flow_mapping"),
+    pytest.param("seed: two", None, "run.seed", ["valid integer", "'two'"], id="wrong_type_in_a_block_mapping"),
+    # out of range: names the allowed range and the value
+    pytest.param("restitution: 1.5", None, "contact.restitution", ["[0, 1]", "1.5"], id="value_out_of_range"),
+    pytest.param("high: 2.0", "grid", "body.aspect_ratio.grid", ["low must be below high", "5.0", "2.0"],
+                 id="low_above_high"),
+    pytest.param("samples: 1000", "sensitivity", "analyses.sensitivity", ["power of two", "1000", "nearest: 1024"],
+                 id="sobol_samples_not_a_power_of_two"),
+])
+def test_field_mistake_is_reported_at_its_place(many, snippet, key, field, words):
     path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "colour: red")
-    msg = message_at(err, path, line, col, "colour")
-    assert "unknown field" in msg
+    assert_says(err, path, MANY_MISTAKES, snippet, key, field, words)
 
 
 def test_two_duplicate_keys_are_both_reported(many):
@@ -237,92 +246,31 @@ def test_two_duplicate_keys_are_both_reported(many):
         assert f"{key}: duplicate key (first given on line {first_line})" in hits[0]
 
 
-def test_duplicate_key_message_names_the_field_path(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "friction: 0.3")
-    message_at(err, path, line, col, "contact.friction")
-
-
-def test_wrong_type_in_a_flow_mapping(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "steps: many", "steps")
-    msg = message_at(err, path, line, col, "release.angle.grid.steps")
-    assert "valid integer" in msg and "'many'" in msg
-
-
-def test_wrong_type_in_a_block_mapping(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "seed: two")
-    msg = message_at(err, path, line, col, "run.seed")
-    assert "valid integer" in msg and "'two'" in msg
-
-
-def test_value_out_of_range_names_the_allowed_range_and_the_value(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "restitution: 1.5")
-    msg = message_at(err, path, line, col, "contact.restitution")
-    assert "[0, 1]" in msg and "1.5" in msg
-
-
-def test_low_above_high(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "high: 2.0", "grid")
-    msg = message_at(err, path, line, col, "body.aspect_ratio.grid")
-    assert "low must be below high" in msg and "5.0" in msg and "2.0" in msg
-
-
-def test_sobol_samples_not_a_power_of_two(many):
-    path, _, _, err = many
-    line, col = where(MANY_MISTAKES, "samples: 1000", "sensitivity")
-    msg = message_at(err, path, line, col, "analyses.sensitivity")
-    assert "power of two" in msg and "1000" in msg and "nearest: 1024" in msg
-
-
 def test_setting_out_of_range_names_the_violated_bound_and_the_value(tmp_path, capsys):
-    text = GOOD + "tolerance: {angle: 120}\n"
-    path = write(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "angle: 120", "angle: 120")
-    msg = message_at(err, path, line, col, "tolerance.angle")
+    msg = only_error(tmp_path, capsys, GOOD + "tolerance: {angle: 120}\n", "angle: 120", "angle: 120",
+                     "tolerance.angle")
     assert "90" in msg and "120" in msg
 
 
 def test_setting_out_of_range_names_both_ends_of_the_range(tmp_path, capsys):
-    path = write(tmp_path, GOOD + "tolerance: {angle: 120}\n")
+    path = write_study(tmp_path, GOOD + "tolerance: {angle: 120}\n")
     _, _, err = check(path, capsys)
     assert re.search(r"\b0\b", err[0].split("tolerance.angle:")[1]), err[0]
 
 
 def test_range_of_a_grid_quantity_checks_both_ends(tmp_path, capsys):
-    text = GOOD.replace("angle: {grid: {low: 0, high: 90, steps: 5}}", "angle: {grid: {low: 0, high: 400, steps: 5}}")
-    path = write(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "high: 400", "angle")
-    msg = message_at(err, path, line, col, "release.angle")
+    text = study_yaml(changed(GOOD_STUDY, release={"angle": grid(0, 400, 5)}))
+    msg = only_error(tmp_path, capsys, text, "high: 400", "angle", "release.angle")
     assert "[-360, 360] deg" in msg and "400" in msg
 
 
 def test_missing_required_field_points_at_its_section(tmp_path, capsys):
-    text = GOOD.replace("  friction: 0.2\n", "")
-    path = write(tmp_path, text)
-    code, _, err = check(path, capsys)
-    assert code == 2
-    assert_clean_errors(err, 1)
-    line, col = where(text, "contact:")
-    assert "required field is missing" in message_at(err, path, line, col, "contact.friction")
+    text = study_yaml(changed(GOOD_STUDY, contact={"friction": None}))
+    assert "required field is missing" in only_error(tmp_path, capsys, text, "contact:", None, "contact.friction")
 
 
 def test_wrong_bounce_is_one_message_under_its_field_path(tmp_path, capsys):
-    text = GOOD + "metric: {bounce: second}\n"
-    path = write(tmp_path, text)
-    _, _, err = check(path, capsys)
-    assert len(err) == 1, err
-    line, col = where(text, "bounce: second", "bounce")
-    msg = message_at(err, path, line, col, "metric.bounce")
+    msg = only_error(tmp_path, capsys, GOOD + "metric: {bounce: second}\n", "bounce: second", "bounce", "metric.bounce")
     assert "'second'" in msg
 
 
@@ -356,7 +304,7 @@ run:
 
 @pytest.fixture
 def contradictions(tmp_path, capsys):
-    path = write(tmp_path, CONTRADICTIONS, "contra.yaml")
+    path = write_study(tmp_path, CONTRADICTIONS, "contra.yaml")
     return (path,) + check(path, capsys)
 
 
@@ -366,44 +314,30 @@ def test_all_contradictions_reported_at_once(contradictions):
     assert_clean_errors(err, 4)
 
 
-def test_map_axis_not_gridded(contradictions):
+@pytest.mark.parametrize("snippet, key, field, words", [
+    pytest.param("{x: angle, y: spin}", "y: spin", "analyses.maps[0].y",
+                 ["spin is not swept on a grid", "gridded here: angle"], id="map_axis_not_gridded"),
+    pytest.param("aspect_ratio: 3.0", None, "body.aspect_ratio", ["a sphere has no aspect_ratio"],
+                 id="sphere_with_aspect_ratio"),
+    pytest.param("scheduler: tcp", None, "run.scheduler", ["needs backend: dask"], id="scheduler_without_dask"),
+    pytest.param("bounce: 5", None, "metric.bounce", ["bounce 5", "run.impacts 3"], id="bounce_above_impacts"),
+])
+def test_contradiction_is_reported_at_its_place(contradictions, snippet, key, field, words):
     path, _, _, err = contradictions
-    line, col = where(CONTRADICTIONS, "{x: angle, y: spin}", "y: spin")
-    msg = message_at(err, path, line, col, "analyses.maps[0].y")
-    assert "spin is not swept on a grid" in msg and "gridded here: angle" in msg
-
-
-def test_sphere_with_aspect_ratio(contradictions):
-    path, _, _, err = contradictions
-    line, col = where(CONTRADICTIONS, "aspect_ratio: 3.0")
-    assert "a sphere has no aspect_ratio" in message_at(err, path, line, col, "body.aspect_ratio")
-
-
-def test_scheduler_without_dask_backend(contradictions):
-    path, _, _, err = contradictions
-    line, col = where(CONTRADICTIONS, "scheduler: tcp")
-    assert "needs backend: dask" in message_at(err, path, line, col, "run.scheduler")
-
-
-def test_bounce_number_above_impacts(contradictions):
-    path, _, _, err = contradictions
-    line, col = where(CONTRADICTIONS, "bounce: 5")
-    msg = message_at(err, path, line, col, "metric.bounce")
-    assert "bounce 5" in msg and "run.impacts 3" in msg
+    assert_says(err, path, CONTRADICTIONS, snippet, key, field, words)
 
 
 def test_scheduler_with_dask_backend_is_fine(tmp_path, capsys):
     # the same setting is accepted once the backend agrees (nothing connects
     # to the address during check)
-    text = GOOD.replace("run:\n", "run:\n  backend: dask\n  scheduler: tcp://127.0.0.1:8786\n")
-    code, _, err = check(write(tmp_path, text), capsys)
+    text = study_yaml(changed(GOOD_STUDY, run={"backend": "dask", "scheduler": "tcp://127.0.0.1:8786"}))
+    code, _, err = check(write_study(tmp_path, text), capsys)
     assert code == 0 and err == []
 
 
 def test_field_mistakes_and_contradictions_reported_together(tmp_path, capsys):
-    text = GOOD.replace("run:\n", "run:\n  scheduler: tcp://127.0.0.1:8786\n").replace("  friction: 0.2\n",
-                                                                                      "  friction: 0.2\n  colour: red\n")
-    path = write(tmp_path, text)
+    text = study_yaml(changed(GOOD_STUDY, run={"scheduler": "tcp://127.0.0.1:8786"}, contact={"colour": "red"}))
+    path = write_study(tmp_path, text)
     _, _, err = check(path, capsys)
     assert any("contact.colour: unknown field" in e for e in err)
     assert any("run.scheduler: a scheduler address needs backend: dask" in e for e in err)
@@ -415,7 +349,7 @@ def test_field_mistakes_and_contradictions_reported_together(tmp_path, capsys):
 
 @pytest.mark.parametrize("text", ["", "# only a comment\n\n"])
 def test_empty_file(tmp_path, capsys, text):
-    path = write(tmp_path, text)
+    path = write_study(tmp_path, text)
     code, out, err = check(path, capsys)
     assert code == 2 and out == ""
     assert_clean_errors(err, 1)
@@ -423,7 +357,7 @@ def test_empty_file(tmp_path, capsys, text):
 
 
 def test_file_that_is_a_list(tmp_path, capsys):
-    path = write(tmp_path, "- name: a\n- name: b\n")
+    path = write_study(tmp_path, "- name: a\n- name: b\n")
     code, out, err = check(path, capsys)
     assert code == 2 and out == ""
     assert_clean_errors(err, 1)
@@ -431,7 +365,7 @@ def test_file_that_is_a_list(tmp_path, capsys):
 
 
 def test_file_that_is_a_list_says_list(tmp_path, capsys):
-    _, _, err = check(write(tmp_path, "- name: a\n- name: b\n"), capsys)
+    _, _, err = check(write_study(tmp_path, "- name: a\n- name: b\n"), capsys)
     assert "CommentedSeq" not in err[0] and "list" in err[0]
 
 
@@ -446,7 +380,7 @@ body:
 def test_yaml_syntax_error(tmp_path, capsys):
     # The flow sequence opened on line 3 is never closed; the parser finds
     # the ':' after 'diameter' on line 4 where it expected ',' or ']'.
-    path = write(tmp_path, SYNTAX)
+    path = write_study(tmp_path, SYNTAX)
     code, out, err = check(path, capsys)
     assert code == 2 and out == ""
     assert_clean_errors(err, 1)
@@ -457,7 +391,7 @@ def test_yaml_syntax_error(tmp_path, capsys):
 
 def test_yaml_syntax_error_tab_indent(tmp_path, capsys):
     text = "name: probe\nbody:\n\tshape: capsule\n"
-    path = write(tmp_path, text)
+    path = write_study(tmp_path, text)
     code, _, err = check(path, capsys)
     assert code == 2
     assert_clean_errors(err, 1)
@@ -486,7 +420,7 @@ def test_bad_study_is_refused_before_any_simulation(tmp_path, capsys, monkeypatc
     monkeypatch.setattr(explore.metrics, "simulate_frame", forbidden)
     monkeypatch.setattr(explore.runner, "simulate_frame", forbidden)
     monkeypatch.setattr(sim, "simulate", forbidden)
-    path = write(tmp_path, MANY_MISTAKES, "many.yaml")
+    path = write_study(tmp_path, MANY_MISTAKES, "many.yaml")
     out_dir = tmp_path / "out"
     code = main(["run", str(path), "--out", str(out_dir), "--quiet"])
     _, err = capsys.readouterr()
@@ -496,15 +430,11 @@ def test_bad_study_is_refused_before_any_simulation(tmp_path, capsys, monkeypatc
     assert not out_dir.exists()
 
 
-def _hopscape():
-    script = Path(sys.executable).with_name("hopscape")
-    return [str(script)] if script.exists() else [shutil.which("hopscape")]
-
-
+@pytest.mark.slow      # a new Python process imports the whole package
 def test_real_command_reports_without_traceback(tmp_path):
     text = MANY_MISTAKES + "name: again\nx: 1\n"
-    path = write(tmp_path, text, "many.yaml")
-    proc = subprocess.run(_hopscape() + ["check", str(path)], capture_output=True, text=True, timeout=120)
+    path = write_study(tmp_path, text, "many.yaml")
+    proc = subprocess.run(hopscape_command() + ["check", str(path)], capture_output=True, text=True, timeout=120)
     assert proc.returncode == 2
     assert proc.stdout == ""
     lines = proc.stderr.splitlines()

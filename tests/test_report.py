@@ -1,0 +1,86 @@
+"""``report.html`` of a run (explore/report.py).
+
+Two runs: the shared small CLI run (maps, curve, robustness, Sobol ranking,
+picks) and a tiny grid-only run written here, which must leave out what it
+did not compute.
+"""
+import html
+import re
+
+from conftest import PIN, SMALL, SMALL_COUNTS, grid, run_text, study_yaml
+from explore.analysis import analyse
+from explore.maps import energy_note
+from explore.report import SAFETY, write_report
+from explore.study import parse_study
+
+
+def page_of(folder):
+    return (folder / "report.html").read_text(encoding="utf-8")
+
+
+def has_cells(page, *cells):
+    """``cells`` stand side by side in one row of a table on ``page``."""
+    return re.search("".join(rf"<td[^>]*>{re.escape(c)}</td>" for c in cells), page) is not None
+
+
+def test_report_has_energy_bound_and_safety_notes(small_run):
+    page = page_of(small_run)
+    study = parse_study(SMALL)
+    assert html.escape(energy_note(study)) in page
+    assert "the centre can never rise above its release height" in page
+    assert html.escape(SAFETY) in page
+    assert "wear eye protection" in page
+    # every picture it shows exists
+    for src in re.findall(r'<img src="([^"]+)"', page):
+        assert (small_run / html.unescape(src)).is_file(), src
+
+
+def test_report_names_the_study_and_shows_every_figure_and_file(small_run):
+    page = page_of(small_run)
+    assert "<title>small</title>" in page and "<h1>small</h1>" in page
+    assert "pins tipping off a feeder step, small enough for the tests" in page      # the description
+    images = re.findall(r'<img src="([^"]+)"', page)
+    assert sorted(images) == sorted(["maps/map-angle-aspect_ratio.png", "maps/curve-angle.png",
+                                     "maps/robustness-angle-aspect_ratio.png", "maps/ranking.png",
+                                     "maps/ranking-convergence.png"])
+    for link in re.findall(r'<a href="([^"]+)"', page):
+        assert (small_run / html.unescape(link)).is_file(), link
+    for heading in ("Regime maps", "Curves", "Robustness to release errors",
+                    "Which quantities matter (Sobol indices)", "Recommended drop conditions"):
+        assert f"<h2>{heading}</h2>" in page, heading
+
+
+def test_report_describes_each_quantity_and_counts_the_drops(small_run):
+    page = page_of(small_run)
+    # how each quantity was given, with its unit (grid ends as in the study)
+    assert has_cells(page, "grid", "2 to 6 in 5 steps")
+    assert has_cells(page, "grid", "0 to 90 deg in 16 steps")
+    assert has_cells(page, "uniform", "0.003 to 0.008 m")
+    assert "Release tolerance: angle +-2 deg, height +-1 mm, spin +-0 rad/s." in page
+    for stage, drops in SMALL_COUNTS.items():
+        assert has_cells(page, stage, str(drops)), stage
+    assert "Drops simulated in this call: 2,496 of 2,496" in page
+
+
+def test_tiny_run_report_leaves_out_what_was_not_computed(tmp_path):
+    # three drops: one grid axis, nothing random, no robustness, no ranking
+    text = study_yaml({
+        "name": "tiny-report",
+        "body": {**PIN, "aspect_ratio": 3.0},
+        "contact": {"restitution": 0.9, "friction": 0.2},
+        "release": {"height": 0.01, "angle": grid(0, 90, 3)},
+        "analyses": {"robustness": False},
+        "run": {"jobs": 1, "impacts": 3},
+    })
+    outcome = run_text(text, tmp_path)
+    path = write_report(outcome, analyse(outcome), {"simulation": 0.25})
+    assert path == tmp_path / "report.html"
+    page = page_of(tmp_path)
+    assert "<h1>tiny-report</h1>" in page
+    assert html.escape(SAFETY) in page
+    assert "<img" not in page
+    for heading in ("Regime maps", "Robustness to release errors", "Which quantities matter",
+                    "Recommended drop conditions"):
+        assert heading not in page, heading
+    assert has_cells(page, "grid", "3")
+    assert "Time: simulation 0.25 s." in page
