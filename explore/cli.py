@@ -14,6 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .cli_text import STRICT_HELP, report_warnings
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
@@ -58,9 +59,6 @@ def _per_shape(dimension):
                      if any(d.name == dimension for d in cls.dimensions))
 
 
-STRICT_HELP = "treat warnings about implausible values (units mixed up?) as errors (exit 2)"
-
-
 def _law_help():
     """One clause per impact law, from :data:`sim.impact.LAW_TABLE`."""
     from sim.impact import LAW_TABLE
@@ -72,16 +70,6 @@ def _further_dimensions():
     import sim
     return [name for name in dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions)
             if name not in ("length", "radius")]
-
-
-def report_warnings(lines, strict):
-    """Print each warning as ``hopscape: warning: ...`` on stderr; with
-    ``strict``, refuse them as bad input instead."""
-    lines = list(lines)
-    if strict and lines:
-        raise InputError([f"{line} (--strict)" for line in lines])
-    for line in lines:
-        print(f"hopscape: warning: {line}", file=sys.stderr)
 
 
 def build_parser():

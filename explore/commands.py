@@ -6,6 +6,7 @@ import re
 import time
 from pathlib import Path
 
+from .cli_text import STRICT_HELP, report_warnings
 from .errors import InputError
 
 HANDLERS = {}
@@ -34,8 +35,10 @@ def register(sub):
     run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None)
     run.add_argument("--scheduler", default=None, help="address of a Dask scheduler (implies --backend dask)")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
+    run.add_argument("--strict", action="store_true", help=STRICT_HELP)
     check = sub.add_parser("check", help="validate a study file and say what it will run")
     check.add_argument("study")
+    check.add_argument("--strict", action="store_true", help=STRICT_HELP)
     new = sub.add_parser("new", help="write a commented study template")
     new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
     new.add_argument("--out", type=Path, default=None)
@@ -87,6 +90,7 @@ def cmd_check(args):
 
     path = find_study(args.study)
     study = load_study(path)
+    report_warnings(study.warnings, args.strict)
     counts = count_drops(study)
     total = sum(counts.values())
     estimate = total / (ESTIMATE_RATE * study.run.jobs) + 5.0
@@ -125,6 +129,7 @@ def cmd_run(args):
 
     path = find_study(args.study)
     study = load_study(path)
+    report_warnings(study.warnings, args.strict)
     if args.jobs is not None and args.jobs < 1:
         raise InputError(f"--jobs must be >= 1, got {args.jobs}")
     out = args.out or Path("runs") / study.name
