@@ -129,9 +129,11 @@ def study_warnings(study):
             judge(loc, q.span(), PLAUSIBLE[name].problem)
         if name == "angle" and q.varies:
             judge(loc, [q.span()], lambda span: angle_range_problem(*span))
-    diameter = study.body.diameter.span()[1]
-    ratio = study.body.aspect_ratio.span()[1] if study.body.aspect_ratio is not None else 1.0
-    size = max(diameter, diameter * ratio, study.body.length.span()[1] if study.body.length is not None else 0.0)
+    body = study.body
+    largest = body.make_shape(body.diameter.span()[1], 1000.0,
+                              aspect_ratio=None if body.aspect_ratio is None else body.aspect_ratio.span()[1],
+                              length=None if body.length is None else body.length.span()[1])
+    size = float(max(largest.overall_length, largest.diameter))
     low_height, high_height = study.release.height.span()
     judge(("release", "height"), [high_height], lambda h: height_problem(h, size))
     judge(("tolerance", "height"), [study.tolerance.height], lambda t: tolerance_problem(t, low_height))
