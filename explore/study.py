@@ -1,10 +1,11 @@
-"""Study files: YAML 1.2 with line tracking into strict pydantic models.
+"""The study schema: strict pydantic models of a study file.
 
-A study file names a study, describes the body, the contact and the
-release, says which quantities are fixed, swept on a grid or drawn from a
-distribution, the metric and the analyses wanted, and how to run. Every
-mistake is reported before anything is simulated, all at once, as
-``file:line:col: field.path: message``.
+A study names a study, describes the body, the contact and the release,
+says which quantities are fixed, swept on a grid or drawn from a
+distribution, the metric and the analyses wanted, and how to run. The
+models hold every check (ranges, choices, contradictions between sections,
+with field locations); :mod:`explore.study_file` reads the YAML and reports
+the problems as ``file:line:col: field.path: message``.
 
 Units in a study file: metres, kilograms, seconds, degrees for angles,
 rad/s for spin.
@@ -14,25 +15,18 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-import string
-from importlib import resources
-from pathlib import Path
 from typing import Literal, Optional, Union
 
-from pydantic import BaseModel, ConfigDict, Field, PrivateAttr, ValidationError, ValidationInfo, field_validator, model_validator
+from pydantic import (BaseModel, ConfigDict, Field, PrivateAttr, ValidationError, ValidationInfo, field_validator,
+                      model_validator)
 from pydantic_core import InitErrorDetails, PydanticCustomError
-from ruamel.yaml import YAML
-from ruamel.yaml.error import MarkedYAMLError
 
 import sim
-from sim.impact import LAW_TABLE
-from sim.limits import Interval, number_text
+from sim.limits import number_text
 
-from .errors import InputError
 from .metric_kinds import METRIC_KINDS
-from .plausibility import study_warnings
-from .sensitivity import METHOD_NAMES, METHODS
 from .quantities import COLUMN, QUANTITIES, label
+from .sensitivity import METHOD_NAMES, METHODS
 
 __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"]
 
@@ -461,21 +455,6 @@ def contradictions(sections):
     return problems
 
 
-def _sections_alone(plain):
-    """The sections of a study file that validate on their own."""
-    out = {}
-    for name in SECTIONS:
-        model = Study.model_fields[name].annotation
-        value = plain.get(name) if isinstance(plain, dict) else None
-        try:
-            out[name] = model.model_validate(value) if value is not None else Study.model_fields[name].default
-        except ValidationError:
-            continue
-        if out[name] is None:
-            del out[name]
-    return out
-
-
 def check_size(study: Study):
     """Problems of size (the grid stage's drops over the limit), as (location, message)."""
     cells = grid_cells(study)
@@ -494,219 +473,6 @@ def grid_cells(study):
     return cells
 
 
-def template_text(name):
-    """The commented study template for ``hopscape new``, named ``name``,
-    with the choices of each kind filled in from their declarations."""
-    text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
-    laws = " | ".join(law.name + (" (default, never creates energy)" if law.name == "energetic" else "")
-                      + (" (can create energy)" if law.creates_energy else "") for law in LAW_TABLE)
-    return string.Template(text).substitute(
-        shapes=" | ".join(sim.SHAPES), laws=laws, metric_kinds=" | ".join(METRIC_KINDS),
-        references=" | ".join(sim.REFERENCES)).replace("name: NAME", f"name: {name}")
-
-
-# ----------------------------------------------------------------------
-# loading
-
-
-def _position(data, loc):
-    """Line and column (1-based) of the deepest part of ``loc`` in ``data``."""
-    line, col = 1, 1
-    node = data
-    for key in loc:
-        lc = getattr(node, "lc", None)
-        try:
-            if isinstance(key, int) and isinstance(node, list):
-                if lc is not None and key < len(node):
-                    line, col = lc.item(key)
-                    line, col = line + 1, col + 1
-                node = node[key]
-            elif hasattr(node, "keys") and key in node:
-                if lc is not None:
-                    kl, kc = lc.key(key)
-                    line, col = kl + 1, kc + 1
-                node = node[key]
-            else:
-                break
-        except Exception:  # noqa: BLE001 - positions are a courtesy
-            break
-    return line, col
-
-
-def _duplicates(yaml, text):
-    """All duplicate keys, as (line, col, message); ruamel stops at the first."""
-    found = []
-    try:
-        root = yaml.compose(text)
-    except MarkedYAMLError:
-        return found
-    stack = [(root, ())]
-    while stack:
-        node, path = stack.pop()
-        if node is None:
-            continue
-        if node.id == "mapping":
-            seen = {}
-            for key, value in node.value:
-                k = getattr(key, "value", None)
-                if k in seen:
-                    found.append((key.start_mark.line + 1, key.start_mark.column + 1,
-                                  f"{_loc_text(path + (k,))}: duplicate key (first given on line {seen[k]})"))
-                else:
-                    seen[k] = key.start_mark.line + 1
-                stack.append((value, path + (k,)))
-        elif node.id == "sequence":
-            stack.extend((v, path + (i,)) for i, v in enumerate(node.value))
-    found.sort()
-    return found
-
-
-def _loc_text(loc):
-    parts = []
-    for item in loc:
-        if isinstance(item, int):
-            parts.append(f"[{item}]")
-        else:
-            parts.append(("." if parts else "") + str(item))
-    return "".join(parts) or "(top level)"
-
-
-def load_study(path) -> Study:
-    """Read and validate a study file; raise :class:`InputError` with every
-    problem as ``file:line:col: field: message``."""
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"{path}: no such study file")
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read the study file ({exc})")
-    return parse_study(text, str(path))
-
-
-def parse_study(text, filename="<study>") -> Study:
-    """Validate the text of a study file.
-
-    Parameters
-    ----------
-    text : str
-        YAML 1.2 text of the study.
-    filename : str
-        Name used in messages (``file:line:col``).
-
-    Returns
-    -------
-    Study
-
-    Raises
-    ------
-    InputError
-        With every problem at once, one ``file:line:col: field: message``
-        line each.
-    """
-    yaml = YAML(typ="rt")
-    yaml.version = (1, 2)
-    yaml.allow_duplicate_keys = True
-    messages = [f"{filename}:{ln}:{col}: {msg}" for ln, col, msg in _duplicates(YAML(typ="rt"), text)]
-    try:
-        data = yaml.load(text)
-    except MarkedYAMLError as exc:
-        mark = exc.problem_mark or exc.context_mark
-        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
-        problem = exc.problem or exc.context or "YAML syntax error"
-        raise InputError(messages + [f"{filename}:{line}:{col}: YAML syntax error: {problem}"])
-    if data is None:
-        raise InputError(messages + [f"{filename}:1:1: the study file is empty; start from `hopscape new NAME`"])
-    if not hasattr(data, "keys"):
-        kind = "list" if isinstance(data, list) else "number" if isinstance(data, (int, float)) else "text"
-        raise InputError(messages + [f"{filename}:1:1: a study file must be a mapping of sections "
-                                     f"(name, body, contact, release, ...), got a {kind}"])
-    plain = _plain(data)
-    found = []  # (line, col, text)
-    study = None
-    try:
-        study = Study.model_validate(plain)
-    except ValidationError as exc:
-        for err in exc.errors():
-            loc = tuple(err["loc"])
-            line, col = _position(data, loc)
-            found.append((line, col, f"{_loc_text(loc)}: {_message(err)}"))
-        # the sections that are right on their own can still contradict each other
-        for loc, msg in contradictions(_sections_alone(plain)):
-            line, col = _position(data, loc)
-            found.append((line, col, f"{_loc_text(loc)}: {msg}"))
-    for loc, msg in (check_size(study) if study is not None else []):
-        line, col = _position(data, loc)
-        found.append((line, col, f"{_loc_text(loc)}: {msg}"))
-    messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
-    if messages:
-        raise InputError(messages)
-    warnings = []
-    for loc, message in study_warnings(study):
-        line, col = _position(data, loc)
-        warnings.append((line, col, f"{filename}:{line}:{col}: {_loc_text(loc)}: {message}"))
-    study._warnings = tuple(text for *_, text in sorted(warnings))
-    return study
-
-
-_BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
-
-
-def _field_info(loc):
-    """The pydantic field declaration at ``loc`` (None where there is none)."""
-    model, info = Study, None
-    for key in loc:
-        if isinstance(key, int):
-            continue
-        fields = getattr(model, "model_fields", {})
-        if key not in fields:
-            return None
-        info = fields[key]
-        annotation = info.annotation
-        model = next((a for a in getattr(annotation, "__args__", (annotation,))
-                      if isinstance(a, type) and issubclass(a, BaseModel)), annotation)
-    return info
-
-
-def _field_interval(loc):
-    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
-    on the model field at ``loc``, so that its message reads like every
-    other range's; None where the field declares none."""
-    info = _field_info(loc)
-    if info is None:
-        return None
-    bounds = {name: getattr(meta, name) for meta in info.metadata for name in ("ge", "gt", "le", "lt")
-              if getattr(meta, name, None) is not None}
-    if not bounds:
-        return None
-    low_closed, high_closed = "gt" not in bounds, "lt" not in bounds
-    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
-    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
-                    closed=closed[low_closed, high_closed])
-
-
-def _message(err):
-    msg = err["msg"].removeprefix("Value error, ")
-    kind = err["type"]
-    if kind == "extra_forbidden":
-        return "unknown field (check the spelling; `hopscape new` writes every field)"
-    if kind == "missing":
-        info = _field_info(tuple(err["loc"]))
-        return "required field is missing" + (f" ({info.description})" if info is not None and info.description
-                                               else "")
-    if kind in _BOUND_WORDS:
-        interval = _field_interval(tuple(err["loc"]))
-        if interval is not None:
-            return f"must be {interval.describe()}, got {err['input']!r}"
-    if "input" in err and kind not in ("value_error", "study") and "got" not in msg:
-        return f"{msg}, got {err['input']!r}"
-    return msg
-
-
-def _plain(node):
-    """ruamel containers to plain dicts and lists (pydantic wants those)."""
-    if hasattr(node, "keys"):
-        return {str(k): _plain(v) for k, v in node.items()}
-    if isinstance(node, list):
-        return [_plain(v) for v in node]
-    return node
+# the loader needs the models above; importing it last keeps
+# ``from explore.study import load_study, parse_study`` working
+from .study_file import load_study, parse_study, template_text  # noqa: E402,F401
