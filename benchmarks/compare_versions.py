@@ -19,7 +19,7 @@ import sys
 import tempfile
 import time
 
-from explore.cli import _positive_int  # the CLI's own check: a whole number >= 1
+from hopscape.cli import _positive_int  # the CLI's own check: a whole number >= 1
 
 
 def load(checkout, name):

@@ -16,9 +16,9 @@ import argparse
 import json
 import time
 
-import sim
-import sim.drop
-from sim.bench import IMPACTS, population
+from hopscape import sim
+import hopscape.sim.drop
+from hopscape.sim.bench import IMPACTS, population
 
 
 def _timed(table, name):

@@ -18,9 +18,9 @@ import time
 
 import numpy as np
 
-import sim
-from explore.cli import _positive_int  # the CLI's own check: a whole number >= 1
-from sim.bench import IMPACTS, population
+from hopscape import sim
+from hopscape.cli import _positive_int  # the CLI's own check: a whole number >= 1
+from hopscape.sim.bench import IMPACTS, population
 
 
 def main():

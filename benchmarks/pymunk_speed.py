@@ -64,8 +64,8 @@ import time
 import numpy as np
 import pymunk
 
-import sim
-from sim import bench
+from hopscape import sim
+from hopscape.sim import bench
 
 TIME_STEP = 2.5e-7  # [s], converged in the sense of the module notes
 TOLERANCE = 0.5e-3  # [m]

@@ -10,10 +10,10 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-import sim
-from sim.impact import LAWS, SLIP_HISTORY
+from hopscape import sim
+from hopscape.sim.impact import LAWS, SLIP_HISTORY
 
-from sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
+from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
 from .errors import InputError
 from .plausibility import drop_warnings

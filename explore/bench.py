@@ -6,8 +6,8 @@ import time
 import numpy as np
 from joblib import Parallel, delayed
 
-import sim
-from sim.bench import IMPACTS, population
+from hopscape import sim
+from hopscape.sim.bench import IMPACTS, population
 
 
 def _run(n, seed):

@@ -54,28 +54,28 @@ def _positive_int(name, low=1):
 
 def _per_shape(dimension):
     """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
-    import sim
+    from hopscape import sim
     return "; ".join(f"{kind}: {cls.dimension(dimension).meaning}" for kind, cls in sim.SHAPES.items()
                      if any(d.name == dimension for d in cls.dimensions))
 
 
 def _law_help():
     """One clause per impact law, from :data:`sim.impact.LAW_TABLE`."""
-    from sim.impact import LAW_TABLE
+    from hopscape.sim.impact import LAW_TABLE
     return "; ".join(f"{law.name}: {law.description}" for law in LAW_TABLE)
 
 
 def _further_dimensions():
     """Dimensions some shape declares besides length and radius (their own options)."""
-    import sim
+    from hopscape import sim
     return [name for name in dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions)
             if name not in ("length", "radius")]
 
 
 def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
-    import sim
-    from sim.limits import FRICTION, RESTITUTION
+    from hopscape import sim
+    from hopscape.sim.limits import FRICTION, RESTITUTION
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
@@ -185,8 +185,8 @@ def _user_value_errors(call):
 
 def cmd_drop(args):
     """``hopscape drop``: one drop, its impacts and bounces as tables, three pictures."""
-    import sim
-    from sim.limits import MASS
+    from hopscape import sim
+    from hopscape.sim.limits import MASS
     from .batch import impact_table
     from .report_text import drop_report
 

@@ -28,7 +28,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-import sim
+from hopscape import sim
 
 from .metric_kinds import METRIC_KINDS, Outcome
 from .study import COLUMN, Study

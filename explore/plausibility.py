@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from sim.limits import Interval, number_text
+from hopscape.sim.limits import Interval, number_text
 
 from .quantities import QUANTITIES
 
@@ -107,7 +107,7 @@ def size_problem(dimension, value, factor=1.0):
 def study_warnings(study):
     """Every suspicious value of a validated study, as (field location,
     message)."""
-    import sim
+    from hopscape import sim
 
     shape = sim.SHAPES[study.body.shape]
     found = []

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from sim.limits import RESTITUTION, Interval
+from hopscape.sim.limits import RESTITUTION, Interval
 
 
 @dataclass(frozen=True)

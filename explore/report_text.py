@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import numpy as np
 
-import sim
-from sim.impact import SLIP_HISTORY
+from hopscape import sim
+from hopscape.sim.impact import SLIP_HISTORY
 
 
 def wrap_degrees(theta):

@@ -21,8 +21,8 @@ from pydantic import (BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
                       model_validator)
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
-import sim
-from sim.limits import number_text
+from hopscape import sim
+from hopscape.sim.limits import number_text
 
 from .metric_kinds import METRIC_KINDS
 from .quantities import COLUMN, QUANTITIES, label

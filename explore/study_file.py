@@ -16,9 +16,9 @@ from pydantic import BaseModel, ValidationError
 from ruamel.yaml import YAML
 from ruamel.yaml.error import MarkedYAMLError
 
-import sim
-from sim.impact import LAW_TABLE
-from sim.limits import Interval
+from hopscape import sim
+from hopscape.sim.impact import LAW_TABLE
+from hopscape.sim.limits import Interval
 
 from .errors import InputError
 from .metric_kinds import METRIC_KINDS
@@ -44,7 +44,7 @@ def _sections_alone(plain):
 def template_text(name):
     """The commented study template for ``hopscape new``, named ``name``,
     with the choices of each kind filled in from their declarations."""
-    text = resources.files("explore").joinpath("templates/study.yaml").read_text(encoding="utf-8")
+    text = resources.files("hopscape").joinpath("templates/study.yaml").read_text(encoding="utf-8")
     laws = " | ".join(law.name + (" (default, never creates energy)" if law.name == "energetic" else "")
                       + (" (can create energy)" if law.creates_energy else "") for law in LAW_TABLE)
     return string.Template(text).substitute(

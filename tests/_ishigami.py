@@ -7,9 +7,9 @@ checks S1 and ST with ``assert_allclose(..., atol=5e-2, rtol=1e-1)``.
 """
 import numpy as np
 
-from explore import sensitivity as sens
-from explore.distributions import Distribution
-from explore.test_functions import ISHIGAMI_NAMES, ishigami
+from hopscape import sensitivity as sens
+from hopscape.distributions import Distribution
+from hopscape.test_functions import ISHIGAMI_NAMES, ishigami
 
 # SALib's regression tolerance for Ishigami Sobol' indices (see module docstring)
 SALIB_ATOL, SALIB_RTOL = 5e-2, 1e-1

@@ -17,10 +17,10 @@ import pandas as pd
 import pytest
 
 from _ishigami import BASE, ISHIGAMI_NAMES, SEED, ishigami_outputs
-from explore import sensitivity as sens
-from explore.cli import main
-from explore.runner import run_study
-from explore.study import parse_study
+from hopscape import sensitivity as sens
+from hopscape.cli import main
+from hopscape.runner import run_study
+from hopscape.study import parse_study
 
 #: Order of the sections in a study file.
 SECTIONS = ("name", "description", "body", "contact", "release", "metric", "tolerance", "analyses", "run")
@@ -135,10 +135,9 @@ def read_parts(folder):
 
 
 def hopscape_command():
-    """The ``hopscape`` command of this checkout, as a subprocess argument
-    list (``python -m explore.cli``: the working tree's code, not whichever
-    checkout an installed script points at)."""
-    return [sys.executable, "-m", "explore.cli"]
+    """The ``hopscape`` command as a subprocess argument list
+    (``python -m hopscape.cli`` of this interpreter's installation)."""
+    return [sys.executable, "-m", "hopscape.cli"]
 
 
 @pytest.fixture(scope="session")

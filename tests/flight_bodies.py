@@ -12,8 +12,8 @@ import numpy as np
 from hypothesis import strategies as st
 
 
-import sim
-from sim import geometry, peaks, search
+from hopscape import sim
+from hopscape.sim import geometry, peaks, search
 
 
 G = sim.GRAVITY

@@ -13,11 +13,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from explore import sensitivity
-from explore.analysis import FIGURE_FOLDER, PICKS_FILE, analyse, output_names
-from explore.cli import main
-from explore.runner import run_study
-from explore.study import parse_study
+from hopscape import sensitivity
+from hopscape.analysis import FIGURE_FOLDER, PICKS_FILE, analyse, output_names
+from hopscape.cli import main
+from hopscape.runner import run_study
+from hopscape.study import parse_study
 
 TINY = """\
 name: tiny

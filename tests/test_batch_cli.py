@@ -13,9 +13,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-import sim
+from hopscape import sim
 from conftest import hopscape_command
-from explore.cli import main
+from hopscape.cli import main
 
 REQUIRED = ["drop", "impact", "time", "angle", "vx", "vy", "spin", "impulse_normal", "impulse_tangential",
             "energy_before", "energy_after", "peak_centre", "peak_bottom"]

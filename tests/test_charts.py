@@ -12,8 +12,8 @@ import pandas as pd
 import pytest
 from numpy.testing import assert_allclose
 
-from explore import charts, sensitivity as sens
-from explore.test_functions import ISHIGAMI_NAMES
+from hopscape import charts, sensitivity as sens
+from hopscape.test_functions import ISHIGAMI_NAMES
 
 
 def test_ranking_chart_writes_png_in_st_order(tmp_path, ishigami_run):
@@ -72,7 +72,7 @@ def test_convergence_chart_writes_png_on_a_log2_axis(tmp_path, ishigami_run):
 # --------------------------------------------------------------------------
 
 def test_palette_is_okabe_ito_and_every_module_uses_it():
-    from explore import figures, maps, plots
+    from hopscape import figures, maps, plots
 
     # the eight colours of Okabe & Ito (2008), as published
     assert set(figures.OKABE_ITO.values()) == {"#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00",
@@ -85,7 +85,7 @@ def test_palette_is_okabe_ito_and_every_module_uses_it():
 def test_save_figure_writes_each_format_and_releases_pyplot_figures(tmp_path):
     import matplotlib.pyplot as plt
 
-    from explore.figures import save_figure
+    from hopscape.figures import save_figure
 
     fig, ax = plt.subplots()
     ax.plot([0, 1], [0, 1])

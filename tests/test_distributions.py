@@ -12,7 +12,7 @@ import pytest
 from numpy.testing import assert_allclose
 from scipy import special, stats
 
-from explore.distributions import Distribution
+from hopscape.distributions import Distribution
 
 U = np.linspace(0.0, 1.0, 201)
 

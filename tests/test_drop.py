@@ -8,10 +8,10 @@ and ``sim.history`` against the impact table.
 import numpy as np
 import pytest
 
-import sim
-import sim.bench
-import sim.search
-from sim.drop import RAN_ALL, SETTLED, DropResult
+from hopscape import sim
+import hopscape.sim.bench
+import hopscape.sim.search
+from hopscape.sim.drop import RAN_ALL, SETTLED, DropResult
 
 IMPACT_KEYS = tuple(sim.IMPACT_FIELDS) + tuple(sim.IMPACT_CODES)
 
@@ -441,6 +441,6 @@ def test_freed_memory_is_kept_on_glibc():
     # success. Elsewhere than glibc it must change nothing and say so.
     import platform
 
-    from sim import _memory
+    from hopscape.sim import _memory
     expected = platform.libc_ver()[0] == "glibc"
     assert _memory.keep_freed_memory() is expected

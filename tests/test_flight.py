@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 
-from sim import flight
+from hopscape.sim import flight
 
 
 @pytest.mark.parametrize("speed_up, height", [

@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 from flight_bodies import reference_depth
 
-import sim
-from sim import geometry
+from hopscape import sim
+from hopscape.sim import geometry
 
 SHAPES = [("capsule", 0.012, 0.0035), ("sphere", 0.0, 0.004), ("spheroid", 0.02, 0.004),
           ("spheroid", 0.003, 0.005), ("cylinder", 0.004, 0.005), ("cylinder", 0.03, 0.002)]

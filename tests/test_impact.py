@@ -16,10 +16,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import sim
-import sim.bench
-import sim.search
-from sim.impact import LAW_CODE, LAW_TABLE, LAWS, REVERSED, SLIP, STICK, impulse_matrix, routh_impact
+from hopscape import sim
+import hopscape.sim.bench
+import hopscape.sim.search
+from hopscape.sim.impact import LAW_CODE, LAW_TABLE, LAWS, REVERSED, SLIP, STICK, impulse_matrix, routh_impact
 
 # every law of sim.impact.LAW_TABLE: a law added there is held to the
 # closed forms, agreements and properties below
@@ -498,7 +498,7 @@ def test_law_codes_by_name_and_per_drop():
     # The three names of the restitution laws map to LAW_CODE for one law
     # for all drops and for a name per drop; anything else is refused with
     # the allowed names and what was given.
-    from sim.impact import law_codes
+    from hopscape.sim.impact import law_codes
     assert law_codes("poisson", 3).tolist() == [LAW_CODE["poisson"]] * 3
     per_drop = law_codes(["newton", "energetic", "poisson", "newton"], 4)
     assert per_drop.tolist() == [LAW_CODE[n] for n in ("newton", "energetic", "poisson", "newton")]

@@ -4,12 +4,12 @@ import math
 import numpy as np
 import pytest
 
-import sim
-from explore.batch import run_batch
-from explore.cli import main
-from explore.errors import InputError
-from explore.study import parse_study
-from sim.limits import FRICTION, POSITIVE_SIZE, RESTITUTION, SIZE_OR_ZERO, Interval, number_text
+from hopscape import sim
+from hopscape.batch import run_batch
+from hopscape.cli import main
+from hopscape.errors import InputError
+from hopscape.study import parse_study
+from hopscape.sim.limits import FRICTION, POSITIVE_SIZE, RESTITUTION, SIZE_OR_ZERO, Interval, number_text
 
 
 @pytest.mark.parametrize("interval, text", [

@@ -10,8 +10,8 @@ import pandas as pd
 import pytest
 
 from conftest import PIN, PIN_ON_STEEL, changed, grid, read_parts, study_yaml, uniform
-from explore.maps import energy_note, metric_words, tolerance_effect
-from explore.study import COLUMN, parse_study
+from hopscape.maps import energy_note, metric_words, tolerance_effect
+from hopscape.study import COLUMN, parse_study
 
 
 def test_map_csv_holds_the_numbers_behind_the_map(small_run):

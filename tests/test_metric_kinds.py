@@ -6,9 +6,9 @@ every expected value is read off the table by eye.
 import numpy as np
 import pytest
 
-from explore.errors import InputError
-from explore.metric_kinds import METRIC_KINDS, Outcome
-from explore.study import Metric, parse_study
+from hopscape.errors import InputError
+from hopscape.metric_kinds import METRIC_KINDS, Outcome
+from hopscape.study import Metric, parse_study
 
 # three drops, three bounces each: rebound ratio of each bounce
 RATIOS = np.array([

@@ -20,9 +20,9 @@ import pandas as pd
 import pytest
 
 from conftest import PIN, changed, grid, run_text, study_yaml, uniform
-from explore.analysis import analyse
-from explore.maps import tolerance_effect
-from explore.study import COLUMN
+from hopscape.analysis import analyse
+from hopscape.maps import tolerance_effect
+from hopscape.study import COLUMN
 
 def ratios(table):
     return table[[c for c in table.columns if c.startswith("ratio_")]].to_numpy()

@@ -13,9 +13,9 @@ import pandas as pd
 import pytest
 
 from conftest import PIN, PIN_ON_STEEL, changed, grid, study_yaml
-from explore.picks import picks
-from explore.plan import cell_coordinates
-from explore.study import COLUMN, parse_study
+from hopscape.picks import picks
+from hopscape.plan import cell_coordinates
+from hopscape.study import COLUMN, parse_study
 
 ANGLES = [0, 10, 20, 30, 40, 50, 60, 70, 80, 90]
 #: event probability per (aspect ratio, angle)

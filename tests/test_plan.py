@@ -16,9 +16,9 @@ import pytest
 from scipy import stats
 
 from conftest import PIN, changed, grid, study_yaml, uniform
-from explore.plan import _STREAM, STAGES, build_stages, cell_coordinates, count_drops, grid_frame, robust_frame
-from explore.sensitivity import METHODS
-from explore.study import COLUMN, QUANTITIES, parse_study
+from hopscape.plan import _STREAM, STAGES, build_stages, cell_coordinates, count_drops, grid_frame, robust_frame
+from hopscape.sensitivity import METHODS
+from hopscape.study import COLUMN, QUANTITIES, parse_study
 
 # 3 aspect ratios x 4 angles = 12 cells; restitution uniform, friction a
 # normal (truncated to the allowed [0, 5]), height log-uniform.
@@ -207,13 +207,13 @@ def loaded_modules(module):
 
 
 def test_planning_imports_no_plotting():
-    loaded = loaded_modules("explore.plan")
-    assert "explore" in loaded and "SALib" in loaded     # the check sees what was imported
+    loaded = loaded_modules("hopscape.plan")
+    assert "hopscape" in loaded and "SALib" in loaded     # the check sees what was imported
     assert "matplotlib" not in loaded
 
 
 def test_distributions_import_neither_plotting_nor_salib():
-    loaded = loaded_modules("explore.distributions")
+    loaded = loaded_modules("hopscape.distributions")
     assert "scipy" in loaded
     assert not {"matplotlib", "SALib"} & loaded
 

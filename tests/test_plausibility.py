@@ -12,9 +12,9 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from explore.batch import run_batch
-from explore.cli import main
-from explore.study import load_study, parse_study
+from hopscape.batch import run_batch
+from hopscape.cli import main
+from hopscape.study import load_study, parse_study
 
 ROOT = Path(__file__).resolve().parents[1]
 

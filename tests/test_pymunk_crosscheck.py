@@ -51,7 +51,7 @@ import numpy as np
 import pymunk
 import pytest
 
-import sim
+from hopscape import sim
 
 RADIUS = 3.5e-3  # cap radius [m]
 LENGTH = 14e-3  # cylinder length [m]

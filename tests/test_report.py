@@ -8,10 +8,10 @@ import html
 import re
 
 from conftest import PIN, SMALL, SMALL_COUNTS, grid, run_text, study_yaml
-from explore.analysis import analyse
-from explore.maps import energy_note
-from explore.report import SAFETY, write_report
-from explore.study import parse_study
+from hopscape.analysis import analyse
+from hopscape.maps import energy_note
+from hopscape.report import SAFETY, write_report
+from hopscape.study import parse_study
 
 
 def page_of(folder):

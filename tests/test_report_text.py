@@ -18,8 +18,8 @@ import math
 import numpy as np
 import pytest
 
-import sim
-from explore.report_text import drop_report, table, wrap_degrees
+from hopscape import sim
+from hopscape.report_text import drop_report, table, wrap_degrees
 
 G = 9.80665           # standard gravity, docs/physics.md section 1 [m/s^2]
 RADIUS, DENSITY = 0.005, 1000.0

@@ -26,11 +26,11 @@ import pytest
 
 from conftest import (SMALL, SMALL_COUNTS, SMALL_STUDY, changed, grid, hopscape_command, read_parts, run_text,
                       study_yaml, write_study)
-from explore.cli import main
-from explore.errors import InputError
-from explore.plan import count_drops
-from explore.runner import run_study, write_atomic
-from explore.study import COLUMN, parse_study
+from hopscape.cli import main
+from hopscape.errors import InputError
+from hopscape.plan import count_drops
+from hopscape.runner import run_study, write_atomic
+from hopscape.study import COLUMN, parse_study
 
 # 15 x 61 cells x 64 draws = 58,560 grid + 15 x 61 x 32 = 29,280 robust:
 # 45 parts of at most 2,000 drops; about 1.5 s of simulation on one core, so a

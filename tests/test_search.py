@@ -14,8 +14,8 @@ from hypothesis import HealthCheck, given, settings
 from scipy.optimize import brentq, minimize_scalar
 
 
-import sim
-from sim import geometry, search
+from hopscape import sim
+from hopscape.sim import geometry, search
 
 
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])

@@ -13,10 +13,10 @@ import pandas as pd
 import pytest
 
 from _ishigami import UNIFORM_PI, ishigami_outputs
-from explore import sensitivity as sens
-from explore.errors import InputError
-from explore.sensitivity import SensitivityError
-from explore.test_functions import ISHIGAMI_NAMES
+from hopscape import sensitivity as sens
+from hopscape.errors import InputError
+from hopscape.sensitivity import SensitivityError
+from hopscape.test_functions import ISHIGAMI_NAMES
 
 
 def seed_message(seed):
@@ -69,7 +69,7 @@ def test_plan_values_needs_exactly_the_plan_names():
 def test_registry_names_the_study_methods():
     from typing import get_args
 
-    from explore.study import Sensitivity
+    from hopscape.study import Sensitivity
 
     assert sens.METHOD_NAMES == tuple(sens.METHODS) == ("sobol", "morris")
     # the study file accepts exactly the registered methods

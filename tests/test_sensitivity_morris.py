@@ -12,9 +12,9 @@ import pytest
 from numpy.testing import assert_allclose
 
 from _ishigami import SEED, ishigami_outputs
-from explore import sensitivity as sens
-from explore.distributions import Distribution
-from explore.test_functions import ISHIGAMI_NAMES
+from hopscape import sensitivity as sens
+from hopscape.distributions import Distribution
+from hopscape.test_functions import ISHIGAMI_NAMES
 
 
 def test_morris_settings_are_checked():

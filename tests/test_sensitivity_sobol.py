@@ -25,8 +25,8 @@ from numpy.testing import assert_allclose
 from SALib.analyze import sobol as salib_sobol
 
 from _ishigami import BASE, SALIB_ATOL, SALIB_RTOL, SEED, ishigami_outputs
-from explore import sensitivity as sens
-from explore.test_functions import (ISHIGAMI_NAMES, ISHIGAMI_S1, ISHIGAMI_S2, ISHIGAMI_ST, ishigami,
+from hopscape import sensitivity as sens
+from hopscape.test_functions import (ISHIGAMI_NAMES, ISHIGAMI_S1, ISHIGAMI_S2, ISHIGAMI_ST, ishigami,
                                     ishigami_indices)
 
 

@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 import trimesh
 
-import sim
-from sim.shapes import contact_offset, depth
+from hopscape import sim
+from hopscape.sim.shapes import contact_offset, depth
 
 # Angles that avoid the exact quarter turns, where two ends (or a whole flat
 # face) are equally low and the offset is a convention (tested separately).
@@ -586,7 +586,7 @@ def test_rounded_tablet_limits_are_the_cylinder_and_the_sphere():
 def test_rounded_tablet_needs_no_change_outside_its_class(tmp_path):
     # the batch table takes its edge column, and the default rim when empty
     import pandas as pd
-    from explore.batch import run_batch
+    from hopscape.batch import run_batch
     table = run_batch(pd.DataFrame({"shape": ["rounded_tablet"] * 2, "length": [0.004] * 2, "radius": [0.005] * 2,
                                     "edge": [0.001, np.nan], "density": [1200.0] * 2, "height": [0.05] * 2,
                                     "angle": [30.0] * 2, "restitution": [0.8] * 2, "friction": [0.3] * 2}))

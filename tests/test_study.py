@@ -13,10 +13,10 @@ import subprocess
 import pytest
 
 from conftest import PIN, changed, grid, hopscape_command, study_yaml, uniform, write_study
-import explore.metrics
-import explore.runner
-import sim
-from explore.cli import main
+import hopscape.metrics
+import hopscape.runner
+from hopscape import sim
+from hopscape.cli import main
 
 # A valid, small study. Every test below breaks it in one or more places.
 GOOD_STUDY = {
@@ -417,8 +417,8 @@ def test_bad_study_is_refused_before_any_simulation(tmp_path, capsys, monkeypatc
         calls.append(args)
         raise AssertionError("simulated a drop of an invalid study")
 
-    monkeypatch.setattr(explore.metrics, "simulate_frame", forbidden)
-    monkeypatch.setattr(explore.runner, "simulate_frame", forbidden)
+    monkeypatch.setattr(hopscape.metrics, "simulate_frame", forbidden)
+    monkeypatch.setattr(hopscape.runner, "simulate_frame", forbidden)
     monkeypatch.setattr(sim, "simulate", forbidden)
     path = write_study(tmp_path, MANY_MISTAKES, "many.yaml")
     out_dir = tmp_path / "out"

@@ -3,7 +3,7 @@ they stand for."""
 import numpy as np
 
 
-from sim import _vector
+from hopscape.sim import _vector
 
 
 def test_sincos_matches_numpy():
