@@ -27,17 +27,20 @@ from .study import SECTIONS, Study, check_size, contradictions
 
 
 def _sections_alone(plain):
-    """The sections of a study file that validate on their own."""
+    """The sections of a study file that validate on their own (a section
+    left out counts with its default, when it has one)."""
     out = {}
     for name in SECTIONS:
-        model = Study.model_fields[name].annotation
+        field = Study.model_fields[name]
         value = plain.get(name) if isinstance(plain, dict) else None
+        if value is None:
+            if not field.is_required() and field.default is not None:
+                out[name] = field.default
+            continue
         try:
-            out[name] = model.model_validate(value) if value is not None else Study.model_fields[name].default
+            out[name] = field.annotation.model_validate(value)
         except ValidationError:
             continue
-        if out[name] is None:
-            del out[name]
     return out
 
 
@@ -235,6 +238,9 @@ def _message(err):
         return "unknown field (check the spelling; `hopscape new` writes every field)"
     if kind == "missing":
         info = _field_info(tuple(err["loc"]))
+        if len(err["loc"]) == 1 and err["loc"][0] in SECTIONS:
+            return (f"the study has no {err['loc'][0]} section ({info.description}); `hopscape new` writes a "
+                    "complete study")
         return "required field is missing" + (f" ({info.description})" if info is not None and info.description
                                                else "")
     if kind in _BOUND_WORDS:
