@@ -54,6 +54,7 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     inside = centre - shape.depth(angle) <= 0
     ok = ~inside
     ratios = np.zeros((n, impacts))
+    heights = np.zeros((n, impacts))
     bound = np.full(n, np.nan)
     gain = np.zeros(n, bool)
     status = np.full(n, "inside floor", dtype=object)
@@ -69,13 +70,14 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1))
         b = sim.group_bounces(result, study.run.merge_ms / 1e3)
         ratios[idx] = np.nan_to_num(b.ratio[study.metric.reference], nan=0.0)
+        heights[idx] = np.nan_to_num(b.height[study.metric.reference], nan=0.0)
         bound[idx] = result.energy_bound / result.release_height("centre")
         gain[idx] = result.energy_gain.any(axis=1)
         status[idx] = np.asarray(sim.STATUS, dtype=object)[result.status]
         bounces_seen[idx] = b.count
     metric = study.metric
     kind = METRIC_KINDS[metric.kind]
-    outcome = Outcome(ratios)
+    outcome = Outcome(ratios, heights)
     best_later, beats_release, beats_first = outcome.best_later, outcome.beats_release, outcome.beats_first
     value = np.where(inside, np.nan, kind.value(outcome, metric))
     event = kind.event(value, metric)

@@ -234,6 +234,19 @@ class Metric(Strict):
                                                                         f"{' | '.join(sim.REFERENCES)}")
     goal: Literal["seek", "avoid"] = Field("seek", description="whether the event is wanted or to be avoided")
     threshold: float = Field(default=1.0, gt=0, le=10, description="event: value above this [-]")
+    limit: Optional[float] = Field(default=None, gt=0, le=100,
+                                   description="kind clears: the height the reference point must rise above [m]")
+
+    @model_validator(mode="after")
+    def _limit_fits_the_kind(self):
+        kind = METRIC_KINDS[self.kind]
+        if kind.uses_limit and self.limit is None:
+            raise _problems("metric", [(("limit",), f"kind {self.kind} needs limit, the height to clear [m]")])
+        if not kind.uses_limit and self.limit is not None:
+            users = ", ".join(name for name, k in METRIC_KINDS.items() if k.uses_limit)
+            raise _problems("metric", [(("limit",), f"limit is used only by kind {users}; remove it or change "
+                                                    "the kind")])
+        return self
 
     @field_validator("bounce", mode="before")
     @classmethod
