@@ -68,7 +68,7 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
         contact = sim.Contact(out[COLUMN["restitution"]].to_numpy()[idx],
                               out[COLUMN["friction"]].to_numpy()[idx], study.contact.law)
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1))
-        b = sim.group_bounces(result, study.run.merge_ms / 1e3)
+        b = sim.group_bounces(result, study.run.merge_window)
         ratios[idx] = np.nan_to_num(b.ratio[study.metric.reference], nan=0.0)
         heights[idx] = np.nan_to_num(b.height[study.metric.reference], nan=0.0)
         bound[idx] = result.energy_bound / result.release_height("centre")

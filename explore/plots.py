@@ -119,7 +119,7 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     handles += [mpatches.Patch(color=OKABE_ITO["orange"], label="above the release height"),
                 mpatches.Patch(color=OKABE_ITO["sky"], label="below the release height")]
     ax.set_xticks(idx)
-    ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:.0f} ms merged)")
+    ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:g} ms merged)")
     ax.set_ylabel(f"peak height of the {POINT[reference]} [mm]")
     ax.set_title("Bounce heights (numbers: rebound ratio)")
     ax.legend(handles=handles, fontsize=8, loc="upper right")

@@ -106,7 +106,7 @@ def drop_report(shape, result, bounces, reference="centre"):
         brows.append([b + 1, ",".join(map(str, members)),
                       *(f"{bounces.height[r][0, b] * 1e3:.2f}" for r in sim.REFERENCES),
                       f"{bounces.ratio[reference][0, b]:.3f}"])
-    out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:.0f} ms apart merged)",
+    out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:g} ms apart merged)",
             table(["bounce", "impacts", "centre [mm]", "bottom [mm]", "top [mm]", f"ratio ({reference})"], brows)]
     status = sim.STATUS[int(result.status[0])]
     out += ["",

@@ -331,7 +331,22 @@ class RunSettings(Strict):
     seed: int = Field(default=1, ge=1, le=2 ** 32 - 1, description="seed of every random draw")
     impacts: int = Field(default=6, ge=1, le=50, description="impacts followed per drop")
     merge_ms: float = Field(default=10.0, ge=0, le=1000,
-                            description="impacts closer than this are one visible bounce [ms]")
+                            description="impacts closer than this are one visible bounce [ms] (10 ms is what a "
+                                        "camera at 100 frames per second merges)")
+    camera_fps: Optional[float] = Field(default=None, gt=0, le=1e7,
+                                        description="instead of merge_ms: your camera's frame rate [1/s]; impacts "
+                                                    "closer than one frame interval are one visible bounce")
+
+    @model_validator(mode="after")
+    def _one_merge_window(self):
+        if self.camera_fps is not None and "merge_ms" in self.model_fields_set:
+            raise _problems("run", [(("camera_fps",), "give camera_fps or merge_ms, not both")])
+        return self
+
+    @property
+    def merge_window(self):
+        """Impacts closer than this are one visible bounce [s]."""
+        return 1.0 / self.camera_fps if self.camera_fps is not None else self.merge_ms / 1e3
 
 
 #: The sections of a study file that hold settings.

@@ -256,3 +256,31 @@ def test_bench_json(capsys):
     assert result["seconds"] > 0
     assert result["drops_per_second"] == pytest.approx(result["drops"] / result["seconds"], rel=1e-12)
     assert result["failed"] == 0
+
+
+# --- the bounce-grouping window from the camera's frame rate ------------------
+
+def test_camera_frame_rate_sets_which_impacts_make_one_bounce(tmp_path, capsys):
+    # a 30 mm pin tipping from 20 mm: its impacts come 9.8 ms, 16 ms, 56 ms,
+    # 47 ms and 4.9 ms apart. A 100 frames/s camera (10 ms per frame) sees
+    # impacts 1-2 and 5-6 as one bounce each; at 100,000 frames/s every
+    # impact is a bounce of its own.
+    args = ["drop", "--shape", "capsule", "--radius", "0.003", "--length", "0.024", "--height", "0.02",
+            "--angle", "20", "--restitution", "0.9", "--friction", "0.1", "--impacts", "6", "--no-plots"]
+    bounces = {}
+    for fps in (100, 100000):
+        path = tmp_path / f"impacts-{fps}.csv"
+        assert main(args + ["--fps", str(fps), "--csv", str(path)]) == 0
+        bounces[fps] = pd.read_csv(path)["bounce"].tolist()
+    assert bounces[100] == [1, 1, 2, 3, 4, 4]
+    assert bounces[100000] == [1, 2, 3, 4, 5, 6]
+    assert main(args + ["--fps", "100", "--merge-ms", "10"]) == 2
+    assert "not allowed with argument --fps" in capsys.readouterr().err
+
+
+def test_study_takes_the_camera_frame_rate_or_the_window_not_both():
+    from hopscape.study import RunSettings
+    assert RunSettings(camera_fps=500).merge_window == pytest.approx(0.002, rel=1e-15)
+    assert RunSettings().merge_window == 0.010
+    with pytest.raises(Exception, match="give camera_fps or merge_ms, not both"):
+        RunSettings(camera_fps=500, merge_ms=5)
