@@ -46,6 +46,20 @@ def table(headers, rows):
     return "\n".join(lines)
 
 
+def _energy_bound_text(result):
+    """The energy bound of drop 0, and whether its impact law keeps to it."""
+    from hopscape.sim.impact import LAW_TABLE
+    law = LAW_TABLE[int(result.release["law"][0])]
+    text = (f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
+            "(total energy / m g) as long as no impact creates energy; from rest that is the release height, so "
+            "only spin or a throw lets the centre beat it, while the lowest point can, because at release it "
+            "hangs below the centre.")
+    if law.creates_energy:
+        text += (f" The {law.name} law can create energy (with slip reversal or stick), so under it the bound "
+                 "does not hold.")
+    return text
+
+
 def drop_report(shape, result, bounces, reference="centre"):
     """Impacts, visible bounces and the energy bound of one drop, as text.
 
@@ -112,9 +126,7 @@ def drop_report(shape, result, bounces, reference="centre"):
     out += ["",
             f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "
             f"top {rel['top'] * 1e3:.2f} mm",
-            f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
-            "(total energy / m g); from rest that is the release height, so only spin or a throw lets the "
-            "centre beat it, while the lowest point can, because at release it hangs below the centre.",
+            _energy_bound_text(result),
             f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
             f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
             f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
