@@ -24,6 +24,7 @@ from pydantic_core import InitErrorDetails, PydanticCustomError
 from hopscape import sim
 from hopscape.sim.limits import number_text
 
+from .errors import shown
 from .metric_kinds import METRIC_KINDS
 from .quantities import COLUMN, QUANTITIES, label
 from .sensitivity import METHOD_NAMES, METHODS
@@ -34,7 +35,7 @@ __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"
 class Strict(BaseModel):
     """Base of every study model: unknown fields are errors; values are frozen."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
 
 
 class Uniform(Strict):
@@ -85,12 +86,12 @@ class Quantity(Strict):
     def _number_is_fixed(cls, data):
         if isinstance(data, bool):
             raise ValueError(f"must be a number or a mapping with one of value, grid, uniform, normal, "
-                             f"log_uniform; got {data!r}")
+                             f"log_uniform; got {shown(data)}")
         if isinstance(data, (int, float)):
             return {"value": data}
         if not isinstance(data, dict):
             raise ValueError("must be a number, or a mapping with one of grid, uniform, normal, log_uniform "
-                             f"(see `hopscape new`); got {data!r}")
+                             f"(see `hopscape new`); got {shown(data)}")
         return data
 
     @model_validator(mode="after")
@@ -253,7 +254,7 @@ class Metric(Strict):
     def _bounce(cls, v):
         if v in ("later", "first") or (isinstance(v, int) and not isinstance(v, bool) and v >= 1):
             return v
-        raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v!r}")
+        raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {shown(v)}")
 
 
 _FORMATS = Field(["png"], description="picture file formats")

@@ -20,7 +20,7 @@ from hopscape import sim
 from hopscape.sim.impact import LAW_TABLE
 from hopscape.sim.limits import Interval
 
-from .errors import InputError
+from .errors import InputError, shown
 from .metric_kinds import METRIC_KINDS
 from .plausibility import study_warnings
 from .study import SECTIONS, Study, check_size, contradictions
@@ -117,6 +117,13 @@ def _loc_text(loc):
     return "".join(parts) or "(top level)"
 
 
+#: Largest study file read [bytes]. A study is a few kilobytes; a file far
+#: larger is a mistake (or an attack on the parser), refused before parsing.
+MAX_BYTES = 256 * 1024
+#: Deepest nesting of mappings and lists; a study needs four levels.
+MAX_DEPTH = 12
+
+
 def load_study(path) -> Study:
     """Read and validate a study file; raise :class:`InputError` with every
     problem as ``file:line:col: field: message``."""
@@ -124,10 +131,54 @@ def load_study(path) -> Study:
     if not path.is_file():
         raise InputError(f"{path}: no such study file")
     try:
+        size = path.stat().st_size
+        if size > MAX_BYTES:
+            raise InputError(f"{path}:1:1: the study file is {size:,} bytes; a study file may hold at most "
+                             f"{MAX_BYTES:,} (is this the right file?)")
         text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read the study file ({exc})")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: the study file is not UTF-8 text (byte {exc.start})")
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read the study file ({exc.strerror or exc})")
     return parse_study(text, str(path))
+
+
+def _hostile(text, filename):
+    """Problems found before any YAML is built: size, control characters,
+    anchors and aliases (a few lines can expand to gigabytes), and nesting
+    deeper than :data:`MAX_DEPTH`. The scanner reads tokens one by one and
+    builds nothing, so this is safe on any input."""
+    if len(text.encode("utf-8", "replace")) > MAX_BYTES:
+        return [f"{filename}:1:1: the study text is over {MAX_BYTES:,} bytes; a study file may hold at most that"]
+    for number, line in enumerate(text.splitlines(), 1):
+        bad = next((i for i, ch in enumerate(line) if (ord(ch) < 32 and ch != "\t") or ord(ch) == 127), None)
+        if bad is not None:
+            return [f"{filename}:{number}:{bad + 1}: control character {line[bad]!r} in the study file "
+                    "(only text, tabs and line breaks are allowed)"]
+    depth = 0
+    try:
+        for token in YAML(typ="rt").scan(text):
+            name = type(token).__name__
+            if name in ("AnchorToken", "AliasToken"):
+                mark = token.start_mark
+                return [f"{mark_text(filename, mark)}: YAML anchors and aliases (& and *) are not allowed in study "
+                        "files; write the value out"]
+            if name in ("BlockMappingStartToken", "BlockSequenceStartToken", "FlowMappingStartToken",
+                        "FlowSequenceStartToken"):
+                depth += 1
+                if depth > MAX_DEPTH:
+                    return [f"{mark_text(filename, token.start_mark)}: nested more than {MAX_DEPTH} levels deep; "
+                            "a study file needs four"]
+            elif name in ("BlockEndToken", "FlowMappingEndToken", "FlowSequenceEndToken"):
+                depth -= 1
+    except MarkedYAMLError:
+        return []   # the loader reports the syntax error with its place
+    return []
+
+
+def mark_text(filename, mark):
+    """``file:line:col`` of a YAML mark (1-based)."""
+    return f"{filename}:{mark.line + 1}:{mark.column + 1}"
 
 
 def parse_study(text, filename="<study>") -> Study:
@@ -150,6 +201,9 @@ def parse_study(text, filename="<study>") -> Study:
         With every problem at once, one ``file:line:col: field: message``
         line each.
     """
+    hostile = _hostile(text, filename)
+    if hostile:
+        raise InputError(hostile)
     yaml = YAML(typ="rt")
     yaml.version = (1, 2)
     yaml.allow_duplicate_keys = True
@@ -195,6 +249,11 @@ def parse_study(text, filename="<study>") -> Study:
     return study
 
 
+#: Pydantic's type errors in plain words (a study file's numbers are strict:
+#: true, false and quoted text are not numbers).
+_TYPE_WORDS = {"float_type": "a number", "float_parsing": "a number", "int_type": "a whole number",
+               "int_parsing": "a whole number", "int_from_float": "a whole number", "bool_type": "true or false",
+               "string_type": "text"}
 _BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
 
 
@@ -243,12 +302,14 @@ def _message(err):
                     "complete study")
         return "required field is missing" + (f" ({info.description})" if info is not None and info.description
                                                else "")
+    if kind in _TYPE_WORDS:
+        return f"must be {_TYPE_WORDS[kind]}, got {shown(err['input'])}"
     if kind in _BOUND_WORDS:
         interval = _field_interval(tuple(err["loc"]))
         if interval is not None:
-            return f"must be {interval.describe()}, got {err['input']!r}"
+            return f"must be {interval.describe()}, got {shown(err['input'])}"
     if "input" in err and kind not in ("value_error", "study") and "got" not in msg:
-        return f"{msg}, got {err['input']!r}"
+        return f"{msg}, got {shown(err['input'])}"
     return msg
 
 
