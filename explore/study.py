@@ -35,7 +35,7 @@ __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"
 class Strict(BaseModel):
     """Base of every study model: unknown fields are errors; values are frozen."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True, strict=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True, allow_inf_nan=False)
 
 
 class Uniform(Strict):
@@ -394,6 +394,16 @@ class Study(Strict):
         """The :class:`Quantity` called ``name`` (None where not given)."""
         return getattr(getattr(self, QUANTITIES[name].section), name)
 
+    def allowed(self, name):
+        """The range quantity ``name`` may take in this study: its declared
+        range narrowed by the body's own (a capsule's aspect ratio is at
+        least 1; a cylinder's length is above 0). Draws are kept inside it."""
+        allowed = QUANTITIES[name].allowed
+        shape = sim.SHAPES[self.body.shape]
+        own = {"aspect_ratio": shape.aspect_ratio_allowed,
+               "length": shape.dimension("length").allowed if shape.has_length() else None}.get(name)
+        return allowed if own is None else allowed.intersection(own)
+
     def quantities(self):
         """All quantities given (name -> Quantity), in a fixed order."""
         out = {}
@@ -482,19 +492,30 @@ def contradictions(sections):
     if metric is not None and run is not None and isinstance(metric.bounce, int) and metric.bounce > run.impacts:
         problems.append((("metric", "bounce"), f"bounce {metric.bounce} can never be seen with run.impacts "
                          f"{run.impacts}; raise run.impacts"))
+    if metric is not None and run is not None and metric.bounce == "later" and run.impacts < 2:
+        problems.append((("metric", "bounce"), f"a later bounce needs at least 2 impacts, got run.impacts "
+                         f"{run.impacts}; raise run.impacts or use bounce: first"))
     if run is not None and run.scheduler is not None and run.backend != "dask":
         problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
     return problems
 
 
-def check_size(study: Study):
-    """Problems of size (the grid stage's drops over the limit), as (location, message)."""
-    cells = grid_cells(study)
-    total = cells * max(study.analyses.draws if study.random() else 1, 1)
-    if total > 20_000_000:
-        return [(("analyses", "draws"), f"the grid needs {total:,} drops (over the 20,000,000 limit); "
-                 "use fewer steps or draws")]
-    return []
+#: Most drops a study may ask for, over all its stages.
+MAX_DROPS = 20_000_000
+
+
+def check_size(study: Study, counts):
+    """Problems of size, as (location, message): every stage's drops
+    (``counts``, from :func:`explore.plan.count_drops`) together over
+    :data:`MAX_DROPS`."""
+    total = sum(counts.values())
+    if total <= MAX_DROPS:
+        return []
+    biggest = max(counts, key=counts.get)
+    where = {"grid": ("analyses", "draws"), "robust": ("tolerance", "draws")}.get(biggest, ("analyses", "sensitivity"))
+    listing = ", ".join(f"{stage} {n:,}" for stage, n in counts.items())
+    return [(where, f"the study needs {total:,} drops ({listing}), over the {MAX_DROPS:,} limit; use fewer grid "
+             f"steps or draws (the {biggest} stage is the largest)")]
 
 
 def grid_cells(study):

@@ -122,6 +122,10 @@ def _loc_text(loc):
 MAX_BYTES = 256 * 1024
 #: Deepest nesting of mappings and lists; a study needs four levels.
 MAX_DEPTH = 12
+#: Most YAML tokens (keys, values, brackets) a study file may hold; the
+#: example studies hold about 300. Counting stops here, so a file of huge
+#: lists is refused in a fraction of a second instead of parsed for seconds.
+MAX_TOKENS = 5000
 
 
 def load_study(path) -> Study:
@@ -145,8 +149,8 @@ def load_study(path) -> Study:
 
 def _hostile(text, filename):
     """Problems found before any YAML is built: size, control characters,
-    anchors and aliases (a few lines can expand to gigabytes), and nesting
-    deeper than :data:`MAX_DEPTH`. The scanner reads tokens one by one and
+    anchors and aliases (a few lines can expand to gigabytes), nesting
+    deeper than :data:`MAX_DEPTH`, more than :data:`MAX_TOKENS` tokens. The scanner reads tokens one by one and
     builds nothing, so this is safe on any input."""
     if len(text.encode("utf-8", "replace")) > MAX_BYTES:
         return [f"{filename}:1:1: the study text is over {MAX_BYTES:,} bytes; a study file may hold at most that"]
@@ -157,8 +161,11 @@ def _hostile(text, filename):
                     "(only text, tabs and line breaks are allowed)"]
     depth = 0
     try:
-        for token in YAML(typ="rt").scan(text):
+        for count, token in enumerate(YAML(typ="rt").scan(text)):
             name = type(token).__name__
+            if count > MAX_TOKENS:
+                return [f"{mark_text(filename, token.start_mark)}: the study file holds over {MAX_TOKENS:,} YAML "
+                        "keys, values and brackets; a study needs a few hundred (is this the right file?)"]
             if name in ("AnchorToken", "AliasToken"):
                 mark = token.start_mark
                 return [f"{mark_text(filename, mark)}: YAML anchors and aliases (& and *) are not allowed in study "
@@ -235,7 +242,20 @@ def parse_study(text, filename="<study>") -> Study:
         for loc, msg in contradictions(_sections_alone(plain)):
             line, col = _position(data, loc)
             found.append((line, col, f"{_loc_text(loc)}: {msg}"))
-    for loc, msg in (check_size(study) if study is not None else []):
+    inside_share = None
+    if study is not None:
+        from .plan import count_drops   # the planner needs the validated study
+        counts = count_drops(study)
+        size_problems = check_size(study, counts)
+        if not size_problems and counts.get("grid", 0) <= 2_000_000:
+            inside_share = _inside_share(study)
+            if inside_share == 1.0:
+                size_problems.append((("release", "height"), "every drop of the grid starts touching or inside "
+                                      "the floor (the centre is no higher than the body's lowest point below it); "
+                                      "raise the height or give height_of: bottom"))
+    else:
+        size_problems = []
+    for loc, msg in size_problems:
         line, col = _position(data, loc)
         found.append((line, col, f"{_loc_text(loc)}: {msg}"))
     messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
@@ -245,13 +265,24 @@ def parse_study(text, filename="<study>") -> Study:
     for loc, message in study_warnings(study):
         line, col = _position(data, loc)
         warnings.append((line, col, f"{filename}:{line}:{col}: {_loc_text(loc)}: {message}"))
+    if inside_share:
+        line, col = _position(data, ("release", "height"))
+        warnings.append((line, col, f"{filename}:{line}:{col}: release.height: {inside_share:.0%} of the grid's "
+                                    "drops start touching or inside the floor and will not be simulated"))
     study._warnings = tuple(text for *_, text in sorted(warnings))
     return study
 
 
+def _inside_share(study):
+    """Share of the grid stage's drops that start inside the floor."""
+    from .plan import grid_frame, inside_floor
+    inside = inside_floor(study, grid_frame(study))
+    return float(inside.mean()) if inside.size else 0.0
+
+
 #: Pydantic's type errors in plain words (a study file's numbers are strict:
 #: true, false and quoted text are not numbers).
-_TYPE_WORDS = {"float_type": "a number", "float_parsing": "a number", "int_type": "a whole number",
+_TYPE_WORDS = {"finite_number": "a finite number", "float_type": "a number", "float_parsing": "a number", "int_type": "a whole number",
                "int_parsing": "a whole number", "int_from_float": "a whole number", "bool_type": "true or false",
                "string_type": "text"}
 _BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}

@@ -53,6 +53,16 @@ class Interval:
         if self.closed not in _SIDES:
             raise ValueError(f"closed must be one of {', '.join(_SIDES)}, got {self.closed!r}")
 
+    def intersection(self, other):
+        """The values in both ranges (the tighter end of each side wins)."""
+        low_end = max((self.low, self.closed in ("both", "left")), (other.low, other.closed in ("both", "left")),
+                      key=lambda end: (end[0], not end[1]))
+        high_end = min((self.high, self.closed in ("both", "right")),
+                       (other.high, other.closed in ("both", "right")), key=lambda end: (end[0], end[1]))
+        closed = {(True, True): "both", (True, False): "left", (False, True): "right",
+                  (False, False): "neither"}[low_end[1], high_end[1]]
+        return Interval(low_end[0], high_end[0], closed=closed, unit=self.unit or other.unit)
+
     def contains(self, value):
         """Element-wise: finite and inside the range."""
         value = np.asarray(value, dtype=float)

@@ -24,7 +24,7 @@ GOOD_STUDY = {
     "description": "a small valid study the tests break on purpose",
     "body": {**PIN, "aspect_ratio": grid(2.0, 5.0, 4), "density": 1150},
     "contact": {"restitution": uniform(0.8, 0.95), "friction": 0.2},
-    "release": {"height": 0.01, "angle": grid(0, 90, 5)},
+    "release": {"height": 0.02, "angle": grid(0, 90, 5)},
     "analyses": {"draws": 4, "maps": [{"x": "angle", "y": "aspect_ratio"}]},
     "run": {"jobs": 1, "impacts": 3},
 }

@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 
 from hopscape.cli import main
-from hopscape.study_file import MAX_BYTES, MAX_DEPTH
+from hopscape.study_file import MAX_BYTES, MAX_DEPTH, MAX_TOKENS
 
 ROOT = Path(__file__).resolve().parents[1]
 QUICK = (ROOT / "studies" / "quick.yaml").read_text(encoding="utf-8")
@@ -81,9 +81,13 @@ def test_a_long_value_is_shortened_in_its_message(tmp_path, capsys):
 
 
 def test_a_long_list_under_an_unknown_key_is_one_short_line(tmp_path, capsys):
+    # 8 MB of list took 409 s and 3.5 GB; 140 kB of it now stops at the
+    # token limit; a short unknown list is still named as an unknown field
     text = QUICK.replace("metric:\n", "colours: [" + ", ".join(["red"] * 20_000) + "]\nmetric:\n")
     line, seconds = one_error(tmp_path, capsys, text=text)
-    assert "colours: unknown field" in line and seconds < 5.0
+    assert f"holds over {MAX_TOKENS:,} YAML keys, values and brackets" in line and seconds < 2.0
+    line, _ = one_error(tmp_path, capsys, text=QUICK.replace("metric:\n", "colours: [red, green]\nmetric:\n"))
+    assert "colours: unknown field" in line
 
 
 @pytest.mark.parametrize("old, new, field, words", [
@@ -99,3 +103,55 @@ def test_a_bool_or_text_is_not_a_number_in_any_form(tmp_path, capsys, old, new, 
     assert old in QUICK
     line, _ = one_error(tmp_path, capsys, text=QUICK.replace(old, new))
     assert f": {field}: " in line and words in line
+
+
+# --- check is the promise of run: what run would die on, check refuses ---------
+
+@pytest.mark.parametrize("old, new, field, words", [
+    ("restitution: {uniform: {low: 0.8, high: 0.95}}", "restitution: {normal: {mean: 0.9, sd: .inf}}",
+     "contact.restitution.normal.sd", "must be a finite number, got inf"),
+    ("impacts: 6", "impacts: 1", "metric.bounce", "a later bounce needs at least 2 impacts"),
+])
+def test_settings_run_would_die_on_are_refused_by_check(tmp_path, capsys, old, new, field, words):
+    assert old in QUICK
+    code, err, path, _ = check_file(tmp_path, capsys, text=QUICK.replace(old, new))
+    assert code == 2
+    assert any(f": {field}: " in line and words in line for line in err), err
+
+
+def test_the_size_limit_counts_every_stage(tmp_path, capsys):
+    # 2001 x 2001 = 4,004,001 cells: the robust stage is 4,004,001 x 4096
+    # = 16,400,388,096 drops (it was left out of the limit)
+    text = QUICK.replace("steps: 26", "steps: 2001").replace("steps: 61", "steps: 2001") \
+                .replace("draws: 32", "draws: 4096").replace("draws: 48", "draws: 1")
+    line, seconds = one_error(tmp_path, capsys, text=text)
+    assert ": tolerance.draws: the study needs " in line and "robust 16,400,388,096" in line
+    assert seconds < 5.0
+
+
+def test_every_drop_inside_the_floor_is_refused(tmp_path, capsys):
+    text = QUICK.replace("height_of: bottom", "height_of: centre") \
+                .replace("height: {uniform: {low: 0.003, high: 0.008}}", "height: 0.001")
+    line, _ = one_error(tmp_path, capsys, text=text)
+    assert ": release.height: every drop of the grid starts touching or inside the floor" in line
+
+
+def test_a_share_of_drops_inside_the_floor_is_a_warning(tmp_path, capsys):
+    code, err, path, _ = check_file(tmp_path, capsys, text=QUICK.replace("height_of: bottom", "height_of: centre"))
+    assert code == 0
+    assert any(line.startswith(f"hopscape: warning: {path}:") and "of the grid's drops start touching or inside"
+               in line for line in err), err
+
+
+def test_a_normal_draw_is_kept_inside_the_shape_range():
+    # a capsule's aspect ratio is at least 1 (it is at least a sphere); a
+    # normal around 1.2 with sd 0.5 would put a third of its draws below
+    from hopscape.plan import grid_frame
+    from hopscape.study import parse_study
+    text = QUICK.replace("aspect_ratio: {grid: {low: 2.0, high: 7.0, steps: 26}}",
+                         "aspect_ratio: {normal: {mean: 1.2, sd: 0.5}}")
+    text = text.replace("    - {x: angle, y: aspect_ratio}\n", "")
+    study = parse_study(text.replace("maps:\n", "maps: []\n"), "q.yaml")
+    assert study.allowed("aspect_ratio").describe() == "in [1, 50]"
+    draws = grid_frame(study)["aspect_ratio"].to_numpy()
+    assert draws.min() >= 1.0 and (draws < 1.2).mean() > 0.1
