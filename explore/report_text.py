@@ -112,13 +112,21 @@ def drop_report(shape, result, bounces, reference="centre"):
     out += ["",
             f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "
             f"top {rel['top'] * 1e3:.2f} mm",
-            f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
-            "(total energy / m g); from rest that is the release height, so only spin or a throw lets the "
-            "centre beat it, while the lowest point can, because at release it hangs below the centre.",
+            (f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
+             "(total energy / m g); from rest that is the release height, so only spin or a throw lets the "
+             "centre beat it, while the lowest point can, because at release it hangs below the centre."
+             if np.isfinite(result.energy_bound[0]) else
+             f"floor inclined by {np.degrees(float(result.release['floor_angle'][0])):g} deg: heights are measured "
+             "normal to the floor, and there is no energy bound (moving downhill the body can gain energy)."),
             f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
             f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
             f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
             f"the drop ended after {n} impact(s): " + {"impacts": "the impact limit (--impacts) was reached",
-                                                       "settled": "it settled", "resting": "it came to rest in contact",
+                                                       "settled": "it settled",
+                                                       "contact": "sustained contact began (restitution 0): it now "
+                                                       "pivots or slides on the floor, which this model does not follow",
+                                                       "could_vault": "sustained contact began while its centre still "
+                                                       "rose with over a tenth of its energy: it may vault into a new "
+                                                       "flight that this model does not follow",
                                                        "failed": "the contact search failed"}[status]]
     return "\n".join(out)

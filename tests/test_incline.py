@@ -263,3 +263,36 @@ def test_rising_centre_with_little_energy_left_is_plain_contact():
     kinetic = 0.5 * r.mass[0] * (v_x ** 2 + v_y ** 2) + 0.5 * r.inertia[0] * w ** 2
     assert kinetic < VAULT_SHARE * (r.release_energy[0] - r.mass[0] * G * CAPSULE.radius)
     assert sim.STATUS[r.status[0]] == "contact"
+
+
+
+def test_study_rows_carry_their_floor_angle():
+    # explore.metrics.simulate_frame passes each row's floor_angle_deg to
+    # the simulation: a row's first rebound ratio (centre) is that of the
+    # same drop simulated on its own (sim.group_bounces), and on a slope its
+    # energy bound ratio is NaN (sim.DropResult.energy_bound). The same
+    # floating-point operations: equal to 1e-15.
+    import pandas as pd
+    from conftest import PIN, study_yaml
+    from hopscape.metrics import simulate_frame
+    from hopscape.study import COLUMN, parse_study
+
+    study = parse_study(study_yaml({
+        "name": "chute", "body": {**PIN, "aspect_ratio": 3.0, "density": 1150},
+        "contact": {"restitution": 0.8, "friction": 0.2},
+        "release": {"height": 0.05, "angle": 30, "floor_angle": {"grid": {"low": -30, "high": 30, "steps": 3}}},
+        "metric": {"reference": "centre"}, "run": {"impacts": 4}}))
+    frame = pd.DataFrame({COLUMN["aspect_ratio"]: 3.0, COLUMN["diameter"]: 0.006, COLUMN["density"]: 1150.0,
+                          COLUMN["restitution"]: 0.8, COLUMN["friction"]: 0.2, COLUMN["height"]: 0.05,
+                          COLUMN["angle"]: 30.0, COLUMN["spin"]: 0.0, COLUMN["vx"]: 0.0, COLUMN["vy"]: 0.0,
+                          COLUMN["floor_angle"]: [-30.0, 0.0, 30.0]})
+    out = simulate_frame(study, frame)
+    shape = sim.Capsule.from_aspect_ratio(3.0, 0.006, 1150.0)
+    for row, alpha in enumerate((-30.0, 0.0, 30.0)):
+        result = sim.simulate(shape, sim.Release(0.05, np.radians(30.0), floor_angle=np.radians(alpha)),
+                              sim.Contact(0.8, 0.2), impacts=4)
+        ratio = sim.group_bounces(result, study.run.merge_ms / 1e3).ratio["centre"][0, 0]
+        assert out["ratio_1"].iloc[row] == pytest.approx(ratio, rel=1e-15)
+    assert np.isnan(out["energy_bound_ratio"].iloc[0]) and np.isnan(out["energy_bound_ratio"].iloc[2])
+    assert out["energy_bound_ratio"].iloc[1] == pytest.approx(1.0, rel=1e-12)  # from rest, level floor
+    assert len(set(out["ratio_1"])) == 3
