@@ -99,6 +99,7 @@ def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
     from hopscape.sim.limits import FRICTION, RESTITUTION
+    from .quantities import QUANTITIES
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
@@ -129,6 +130,10 @@ def build_parser():
     d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
     d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
     d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--floor-angle", type=_finite("--floor-angle"), default=0.0,
+                   help="[deg] floor inclination, positive where the floor falls towards +x, "
+                   f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
+                   "vy are then in floor coordinates, heights normal to the floor")
     d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
     _merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
@@ -210,6 +215,7 @@ def cmd_drop(args):
     from hopscape import sim
     from hopscape.sim.limits import MASS
     from .batch import impact_table
+    from .quantities import QUANTITIES
     from .report_text import drop_report
 
     merge_window = _merge_window(args)
@@ -227,8 +233,9 @@ def cmd_drop(args):
             shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density, **further)
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
+        floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
-                              vx=args.vx, vy=args.vy, reference=args.height_of)
+                              vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
         result = sim.simulate(shape, release, contact, impacts=args.impacts)
         return shape, result

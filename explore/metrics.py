@@ -17,11 +17,16 @@ Metric columns (one row per drop):
 ``event``
     the metric's event: value above ``metric.threshold``, or the flag.
 ``energy_bound_ratio``
-    highest the centre could ever rise / release height of the centre [-].
+    highest the centre could ever rise / release height of the centre [-];
+    NaN on an inclined floor, where sliding downhill can bring energy in.
 ``energy_gain``
     some impact created energy (Newton's law only).
 ``status``
-    impacts | settled | resting | failed | inside floor.
+    impacts | settled | contact | could_vault | failed | inside floor
+    (:mod:`sim.drop`).
+
+Heights and ratios are measured normal to the floor (``floor_angle``, 0
+where the study does not give it).
 """
 from __future__ import annotations
 
@@ -64,7 +69,9 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
         part = _shape(study, out.iloc[idx])
         release = sim.Release(height=centre[idx], angle=angle[idx],
                               spin=out[COLUMN["spin"]].to_numpy()[idx],
-                              vx=out[COLUMN["vx"]].to_numpy()[idx], vy=out[COLUMN["vy"]].to_numpy()[idx])
+                              vx=out[COLUMN["vx"]].to_numpy()[idx], vy=out[COLUMN["vy"]].to_numpy()[idx],
+                              floor_angle=np.radians(out[COLUMN["floor_angle"]].to_numpy()[idx])
+                              if COLUMN["floor_angle"] in out else 0.0)
         contact = sim.Contact(out[COLUMN["restitution"]].to_numpy()[idx],
                               out[COLUMN["friction"]].to_numpy()[idx], study.contact.law)
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1))

@@ -216,7 +216,9 @@ class Contact(_Section):
 
 class Release(_Section):
     """How the body leaves the rig: height (of the centre or the lowest
-    point), angle, spin and velocity."""
+    point), angle, spin and velocity, and the floor's inclination
+    (``floor_angle``, positive where the floor falls towards +x; the height
+    is then normal to the floor and the angle from the floor line)."""
 
     height: Quantity = _quantity_field("height")
     height_of: Literal["centre", "bottom"] = Field("centre", description="the point the height is measured to")
@@ -224,6 +226,8 @@ class Release(_Section):
     spin: Quantity = _quantity_field("spin", Quantity(value=0.0))
     vx: Quantity = _quantity_field("vx", Quantity(value=0.0))
     vy: Quantity = _quantity_field("vy", Quantity(value=0.0))
+    # absent: a level floor (0 deg); heights, vx and vy are then in floor coordinates
+    floor_angle: Optional[Quantity] = _quantity_field("floor_angle", None)
 
 
 class Metric(Strict):

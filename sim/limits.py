@@ -116,3 +116,6 @@ SIZE_OR_ZERO = Interval(0.0, math.inf, unit="m")
 DENSITY = Interval(0.0, math.inf, closed="right", unit="kg/m^3")
 #: Total mass of the body.
 MASS = Interval(0.0, math.inf, closed="right", unit="kg")
+#: Inclination of the floor: gravity must keep a component into the floor
+#: (``g cos(alpha) > 0``) for a flight to end.
+FLOOR_ANGLE = Interval(-math.pi / 2, math.pi / 2, closed="neither", unit="rad")

@@ -17,6 +17,7 @@ import hopscape.metrics
 import hopscape.runner
 from hopscape import sim
 from hopscape.cli import main
+from hopscape.study import parse_study
 
 # A valid, small study. Every test below breaks it in one or more places.
 GOOD_STUDY = {
@@ -444,3 +445,16 @@ def test_real_command_reports_without_traceback(tmp_path):
     assert all(re.match(rf"hopscape: error: {re.escape(str(path))}:\d+:\d+: ", line) for line in lines)
     line, col = where(text, "x: 1")
     assert f"{path}:{line}:{col}: x: unknown field" in proc.stderr
+
+
+def test_floor_angle_outside_its_range_is_refused_at_its_place(tmp_path, capsys):
+    # explore.quantities: floor_angle in [-60, 60] deg
+    text = study_yaml(changed(GOOD_STUDY, release={"floor_angle": grid(-10, 70, 5)}))
+    msg = only_error(tmp_path, capsys, text, "high: 70", "floor_angle", "release.floor_angle")
+    assert "[-60, 60] deg" in msg and "70" in msg
+
+
+def test_floor_angle_is_a_study_quantity_that_can_be_gridded(tmp_path, capsys):
+    study = parse_study(study_yaml(changed(GOOD_STUDY, release={"floor_angle": grid(0, 30, 4)})))
+    assert "floor_angle" in study.gridded()
+    assert parse_study(study_yaml(GOOD_STUDY)).quantity("floor_angle") is None  # absent: a level floor
