@@ -16,6 +16,8 @@ from hopscape.sim.impact import LAWS, SLIP_HISTORY
 from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
 from .errors import InputError
+from .files import atomic_write
+from .quantities import radians_within_one_turn
 from .plausibility import drop_warnings
 from .quantities import QUANTITIES
 
@@ -87,13 +89,15 @@ def read_table(path):
 
 
 def write_table(frame, path):
-    """Write CSV or Parquet by the file ending; the parent folder is made."""
+    """Write CSV or Parquet by the file ending, atomically
+    (:func:`hopscape.files.atomic_write`); the parent folder is made."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    if path.suffix.lower() in (".parquet", ".pq"):
-        frame.to_parquet(path, index=False)
-    else:
-        frame.to_csv(path, index=False)
+    with atomic_write(path) as tmp:
+        if path.suffix.lower() in (".parquet", ".pq"):
+            frame.to_parquet(tmp, index=False)
+        else:
+            frame.to_csv(tmp, index=False)
 
 
 def _shown(value):
@@ -176,7 +180,7 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
     # a body inside the floor is a per-row error too
     if good.size:
         shapes = bodies(good)
-        gap = num["height"][good] - shapes.depth(np.radians(num["angle"][good]))
+        gap = num["height"][good] - shapes.depth(radians_within_one_turn(num["angle"][good]))
         inside = gap <= 0
         errors[good[inside]] = [f"height {num['height'][i]} m puts the body touching or inside the floor "
                                 f"(its lowest point would be at {g:.4g} m)" for i, g in zip(good[inside], gap[inside])]
@@ -184,7 +188,7 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
     tables = []
     if good.size:
         shapes = bodies(good)
-        release = sim.Release(height=num["height"][good], angle=np.radians(num["angle"][good]),
+        release = sim.Release(height=num["height"][good], angle=radians_within_one_turn(num["angle"][good]),
                               spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good],
                               floor_angle=np.radians(num["floor_angle"][good]))
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))

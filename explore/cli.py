@@ -15,7 +15,8 @@ from pathlib import Path
 import numpy as np
 
 from .cli_text import STRICT_HELP, report_warnings
-from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
+from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
+from .files import refuse_overwriting_input
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
           "can injure; wear eye protection, guard the drop zone, and follow your local safety rules.")
@@ -40,16 +41,32 @@ def _finite(name):
     return convert
 
 
-def _positive_int(name, low=1):
+def _positive_int(name, low=1, high=None):
+    """An option's converter: a whole number in [low, high]."""
+    from hopscape.sim.limits import Interval
+    allowed = Interval(low, float("inf") if high is None else high)
+
     def convert(text):
         try:
             value = int(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"must be a whole number, got {text!r}")
-        if value < low:
-            raise argparse.ArgumentTypeError(f"must be >= {low}, got {value}")
+            raise argparse.ArgumentTypeError(f"must be a whole number, got {shown(text)}")
+        if not allowed.contains(value):
+            raise argparse.ArgumentTypeError(f"must be {allowed.describe()}, got {value}")
         return value
     return convert
+
+
+def _declared_int(name, field):
+    """A whole-number option bounded like the study file's ``RunSettings`` field."""
+    from .study import RunSettings, declared_range
+    allowed = declared_range((RunSettings, field))
+    return _positive_int(name, int(allowed.low), int(allowed.high))
+
+
+#: Most drops ``hopscape bench`` times at once (its result is held in memory:
+#: 10^6 drops peak near 500 MB).
+BENCH_DROPS = 2_000_000
 
 
 def _per_shape(dimension):
@@ -134,7 +151,7 @@ def build_parser():
                    help="[deg] floor inclination, positive where the floor falls towards +x, "
                    f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
                    "vy are then in floor coordinates, heights normal to the floor")
-    d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
+    d.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=10, help="impacts to follow (default 10)")
     _merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
@@ -153,7 +170,7 @@ def build_parser():
                        "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
-    b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
+    b.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=3, help="impacts per drop (default 3)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
     _merge_window_options(b)
@@ -161,8 +178,8 @@ def build_parser():
 
     # --- bench -------------------------------------------------------
     n = sub.add_parser("bench", help="time the kernel on the benchmark population")
-    n.add_argument("--drops", type=_positive_int("--drops"), default=200_000, help="drops to time (default 200000)")
-    n.add_argument("--jobs", type=_positive_int("--jobs"), default=1, help="worker processes (default 1)")
+    n.add_argument("--drops", type=_positive_int("--drops", 1, BENCH_DROPS), default=200_000, help="drops to time (default 200000)")
+    n.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=1, help="worker processes (default 1)")
     n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported")
     n.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -212,6 +229,7 @@ def _user_value_errors(call):
 
 def cmd_drop(args):
     """``hopscape drop``: one drop, its impacts and bounces as tables, three pictures."""
+    from .quantities import radians_within_one_turn
     from hopscape import sim
     from hopscape.sim.limits import MASS
     from .batch import impact_table
@@ -234,7 +252,7 @@ def cmd_drop(args):
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
-        release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
+        release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
         result = sim.simulate(shape, release, contact, impacts=args.impacts)
@@ -270,7 +288,10 @@ def cmd_batch(args):
     from .batch import read_table, run_batch, write_table
 
     merge_window = _merge_window(args)
+    refuse_overwriting_input(args.out, args.drops)
     frame = read_table(args.drops)
+    if frame.empty:
+        raise InputError(f"{args.drops} holds no drops (only a header?); nothing to simulate")
     from .batch import INPUT_COLUMNS
     unknown = [c for c in frame.columns if c not in INPUT_COLUMNS]
     if unknown:

@@ -36,6 +36,7 @@ import pandas as pd
 from hopscape import sim
 
 from .metric_kinds import METRIC_KINDS, Outcome
+from .quantities import radians_within_one_turn
 from .study import COLUMN, Study
 
 
@@ -53,7 +54,7 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     impacts = study.run.impacts
     out = frame.reset_index(drop=True).copy()
     shape = _shape(study, out)
-    angle = np.radians(out[COLUMN["angle"]].to_numpy())
+    angle = radians_within_one_turn(out[COLUMN["angle"]].to_numpy())
     height = out[COLUMN["height"]].to_numpy()
     centre = height + (shape.depth(angle) if study.release.height_of == "bottom" else 0.0)
     inside = centre - shape.depth(angle) <= 0

@@ -27,6 +27,7 @@ import pandas as pd
 
 from .distributions import Distribution
 from .sensitivity import METHODS, plan_values
+from .quantities import radians_within_one_turn
 from .study import COLUMN, QUANTITIES, Study, grid_cells
 
 #: Random stream of each stage: fixed numbers, the sensitivity methods' from
@@ -291,7 +292,7 @@ def inside_floor(study: Study, frame: pd.DataFrame):
 
     shape = study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
                                   length=column("length"))
-    return column("height") - shape.depth(np.radians(column("angle"))) <= 0
+    return column("height") - shape.depth(radians_within_one_turn(column("angle"))) <= 0
 
 
 def count_drops(study: Study):

@@ -12,6 +12,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from hopscape.sim.limits import RESTITUTION, Interval
 
 
@@ -80,3 +82,14 @@ COLUMN = {name: spec.column for name, spec in QUANTITIES.items()}
 def label(name):
     """Axis label with unit of quantity ``name``, e.g. ``release angle [deg]``."""
     return QUANTITIES[name].label
+
+
+def radians_within_one_turn(degrees):
+    """Degrees to radians, reduced to one turn first where they exceed it.
+
+    ``fmod`` by 360 is exact in floating point, so an angle of 1e20 deg
+    gives exactly the answer of its reduced form; angles within one turn
+    are converted untouched (bit for bit as before).
+    """
+    degrees = np.asarray(degrees, dtype=float)
+    return np.radians(np.where(np.abs(degrees) > 360.0, np.fmod(degrees, 360.0), degrees))

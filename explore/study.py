@@ -22,7 +22,7 @@ from pydantic import (BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
 from hopscape import sim
-from hopscape.sim.limits import number_text
+from hopscape.sim.limits import Interval, number_text
 
 from .errors import shown
 from .metric_kinds import METRIC_KINDS
@@ -145,6 +145,21 @@ def _problems(title, problems):
         InitErrorDetails(type=PydanticCustomError("study", "{message}", {"message": message}), loc=tuple(loc),
                          input=None)
         for loc, message in problems])
+
+
+def declared_range(field):
+    """The :class:`sim.limits.Interval` a pydantic field declares with
+    ``ge``/``gt``/``le``/``lt`` (None if it declares none), so that the
+    study file, the command line and their messages share one range."""
+    if isinstance(field, tuple):     # (model, field name)
+        field = field[0].model_fields[field[1]]
+    bounds = {name: getattr(meta, name) for meta in field.metadata for name in ("ge", "gt", "le", "lt")
+              if getattr(meta, name, None) is not None}
+    if not bounds:
+        return None
+    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
+    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
+                    closed=closed["gt" not in bounds, "lt" not in bounds])
 
 
 def _quantity_field(name, *default):

@@ -7,7 +7,6 @@ two are joined here. Also the commented template ``hopscape new`` writes.
 """
 from __future__ import annotations
 
-import math
 import string
 from importlib import resources
 from pathlib import Path
@@ -18,12 +17,11 @@ from ruamel.yaml.error import MarkedYAMLError
 
 from hopscape import sim
 from hopscape.sim.impact import LAW_TABLE
-from hopscape.sim.limits import Interval
 
 from .errors import InputError, shown
 from .metric_kinds import METRIC_KINDS
 from .plausibility import study_warnings
-from .study import SECTIONS, Study, check_size, contradictions
+from .study import SECTIONS, Study, check_size, contradictions, declared_range
 
 
 def _sections_alone(plain):
@@ -305,20 +303,10 @@ def _field_info(loc):
 
 
 def _field_interval(loc):
-    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
-    on the model field at ``loc``, so that its message reads like every
-    other range's; None where the field declares none."""
+    """The :class:`sim.limits.Interval` declared on the model field at
+    ``loc`` (:func:`declared_range`); None where the field declares none."""
     info = _field_info(loc)
-    if info is None:
-        return None
-    bounds = {name: getattr(meta, name) for meta in info.metadata for name in ("ge", "gt", "le", "lt")
-              if getattr(meta, name, None) is not None}
-    if not bounds:
-        return None
-    low_closed, high_closed = "gt" not in bounds, "lt" not in bounds
-    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
-    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
-                    closed=closed[low_closed, high_closed])
+    return None if info is None else declared_range(info)
 
 
 def _message(err):

@@ -361,6 +361,11 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
     mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch = arrays
+    # an angle of many turns is that angle within one turn (fmod is exact);
+    # angles within a turn are left untouched, bit for bit
+    many_turns = np.abs(th0) > 2 * np.pi
+    if many_turns.any():
+        th0 = np.where(many_turns, np.fmod(th0, 2 * np.pi), th0)
     gap0 = y0 - depth(th0, hl, hw, rl, rw)
     if np.any(gap0 <= 0):
         i = int(np.argmax(gap0 <= 0))

@@ -319,3 +319,22 @@ def test_batch_floor_angle_column_reaches_the_simulation(tmp_path, capsys):
                                        err_msg=column)
         times.append(got["time"].iloc[0])
     assert len(set(times)) == 3  # the tilt changed the drops
+
+
+def test_huge_angles_give_the_answer_of_their_reduced_form(tmp_path):
+    # 1e20 deg is exactly 1e20 mod 360 = fmod(1e20, 360) deg in floating point
+    # (IEEE 754 remainder is exact), so both rows must match bit for bit
+    import math
+    from hopscape.batch import run_batch
+    reduced = math.fmod(1e20, 360.0)
+    frame = pd.DataFrame({"shape": ["capsule"] * 2, "length": [0.01] * 2, "radius": [0.003] * 2,
+                          "density": [1100.0] * 2, "height": [0.05] * 2, "angle": [1e20, reduced],
+                          "restitution": [0.8] * 2, "friction": [0.3] * 2})
+    table = run_batch(frame, impacts=4)
+    first, second = (table[table["drop"] == i].drop(columns="drop").reset_index(drop=True) for i in (0, 1))
+    pd.testing.assert_frame_equal(first, second)
+    # the Python API likewise, in radians
+    shape = sim.Capsule(length=0.01, radius=0.003, density=1100.0)
+    many = sim.simulate(shape, sim.Release(0.05, 1e6), sim.Contact(0.8, 0.3), impacts=3)
+    one = sim.simulate(shape, sim.Release(0.05, math.fmod(1e6, 2 * math.pi)), sim.Contact(0.8, 0.3), impacts=3)
+    assert np.array_equal(many.impacts["time"], one.impacts["time"])
