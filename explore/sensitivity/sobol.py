@@ -22,11 +22,10 @@ from typing import ClassVar
 
 import numpy as np
 import pandas as pd
-from SALib.analyze import sobol as _sobol_analyze
 from SALib.sample import sobol as _sobol_sample
 
 from .._arguments import SensitivityError, fail, integer
-from . import _checks
+from . import _checks, _saltelli
 from ._checks import DEFAULT_RESAMPLES, DEFAULT_SEED
 from ._method import Method, Picture, Table
 
@@ -178,9 +177,7 @@ def _sobol_indices(names, y, second_order, confidence_level, num_resamples, seed
     if np.ptp(y) == 0.0:
         raise SensitivityError(f"y: must vary (got {y.size} runs all equal to {y[0].item()!r}): "
                                "the variance shares are undefined for a constant output")
-    return _sobol_analyze.analyze(_checks.unit_problem(names), y, calc_second_order=second_order,
-                                  num_resamples=num_resamples, conf_level=confidence_level,
-                                  print_to_console=False, parallel=False, seed=seed)
+    return _saltelli.analyse(y, len(names), second_order, confidence_level, num_resamples, seed)
 
 
 def sobol_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAULT_RESAMPLES):
