@@ -45,6 +45,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from joblib import Parallel, cpu_count, delayed
 from scipy.stats import norm
 
 #: Bytes of resample row numbers held at once (uint32, one row per
@@ -59,6 +60,9 @@ COUNT_BYTES = 16 * 2 ** 20
 
 #: Bytes of one block of drawn row numbers (rows of SALib's r matrix).
 DRAW_BYTES = 8 * 2 ** 20
+
+#: Threads for drawing, counting and multiplying.
+WORKERS = max(1, min(2, cpu_count()))
 
 # SALib's threshold for 'constant' outputs and zero variance
 _EPS = np.finfo(float).eps
@@ -179,52 +183,97 @@ def _products(parts):
     return np.column_stack(columns)
 
 
-def resample_counts(base, num_resamples, seed):
-    """How often each of SALib's resamples chose each row, in blocks of resamples.
+def _draw_rows(seed, base, num_resamples, rows, columns, chosen):
+    """Rows ``rows`` of SALib's resample matrix, columns ``columns``, into ``chosen`` transposed.
+
+    The generator is moved to the first row's place in the stream: each
+    number drawn takes one 32-bit half of a 64-bit PCG64 output (below
+    2^32, with no rejection when N is a power of two, see
+    :func:`_can_jump`), so row i starts i R / 2 outputs in when i R is even.
+    """
+    generator = np.random.default_rng(seed)
+    generator.bit_generator.advance(rows.start * num_resamples // 2)
+    step = max(2, DRAW_BYTES // (4 * num_resamples)) // 2 * 2
+    for row in range(rows.start, rows.stop, step):
+        drawn = generator.integers(base, size=(min(step, rows.stop - row), num_resamples), dtype=np.uint32)
+        chosen[:, row:row + drawn.shape[0]] = drawn[:, columns].T
+
+
+def _can_jump(base):
+    # Lemire's bounded draw (NumPy's Generator.integers) rejects a 32-bit
+    # number only below (2^32 - N) mod N, which is 0 for N a power of two:
+    # then every number drawn is exactly one 32-bit half and a row's place
+    # in the stream is known
+    return base & (base - 1) == 0 and base <= 2 ** 32
+
+
+def _row_ranges(base, workers):
+    """Up to ``workers`` ranges of rows, each starting on an even row."""
+    if workers < 2 or not _can_jump(base) or base < 4:
+        return [range(0, base)]
+    cuts = [base * w // workers // 2 * 2 for w in range(workers)] + [base]
+    return [range(a, b) for a, b in zip(cuts, cuts[1:]) if b > a]
+
+
+def _sums(chosen, products, out):
+    """``out[b] = counts of chosen[b] @ products``, one count buffer reused."""
+    base = products.shape[0]
+    per_block = max(1, min(len(chosen), COUNT_BYTES // (8 * base)))
+    counts = np.empty((per_block, base))
+    for first in range(0, len(chosen), per_block):
+        block = chosen[first:first + per_block]
+        for i, rows in enumerate(block):
+            counts[i] = np.bincount(rows, minlength=base)
+        np.matmul(counts[:len(block)], products, out=out[first:first + len(block)])
+
+
+def resample_sums(products, num_resamples, seed, workers=WORKERS):
+    """For each of SALib's resamples, the sum of ``products`` over the rows it chose.
 
     Parameters
     ----------
-    base : int
-        Rows to resample from, N (base samples). [-]
+    products : numpy.ndarray
+        Per-row terms, shape (N, K), C order. [-]
     num_resamples : int
         Resamples R. [-]
     seed : int
         SALib's bootstrap seed (>= 1).
+    workers : int, optional
+        Threads. [-]
 
-    Yields
-    ------
-    first : int
-        Number of the block's first resample. [-]
-    counts : numpy.ndarray
-        float64, shape (resamples in the block, N): row b counts how often
-        resample ``first + b`` chose each row (it sums to N). [-]
+    Returns
+    -------
+    numpy.ndarray
+        Shape (R, K): row b is sum over the N rows resample b drew (with
+        repeats) of their products. [-]
 
     Notes
     -----
-    SALib draws ``default_rng(seed).integers(N, size=(N, R))`` in one go.
-    The same generator drawing the same matrix in blocks of rows gives the
-    same numbers (one stream, C order); uint32 draws the same values as the
-    default int64 for N < 2^32. Only the columns of the resamples in hand
-    are kept, transposed so each resample's row numbers are contiguous for
-    ``bincount``; when all R columns would take more than
-    :data:`INDEX_BYTES`, the stream is drawn once per group of resamples.
+    SALib draws ``default_rng(seed).integers(N, size=(N, R))`` in one go;
+    column b is resample b. The same generator drawing the same matrix in
+    blocks of rows gives the same numbers (one stream, C order), uint32
+    the same values as the default int64. Only the columns of the
+    resamples in hand are kept, transposed so that each resample's rows
+    are contiguous for ``bincount``; when all R would take more than
+    :data:`INDEX_BYTES` the stream is drawn again for each group of
+    resamples. Threads draw separate ranges of rows (the generator jumped
+    ahead, see :func:`_can_jump`), then count and multiply separate
+    resamples: NumPy's generator, bincount and matmul release the GIL.
     """
+    base = products.shape[0]
     per_group = max(1, min(num_resamples, INDEX_BYTES // (4 * base)))
-    draw_rows = max(1, DRAW_BYTES // (4 * num_resamples))
-    per_block = max(1, min(per_group, COUNT_BYTES // (8 * base)))
-    for start in range(0, num_resamples, per_group):
-        stop = min(num_resamples, start + per_group)
-        chosen = np.empty((stop - start, base), dtype=np.uint32)
-        generator = np.random.default_rng(seed)
-        for row in range(0, base, draw_rows):
-            drawn = generator.integers(base, size=(min(draw_rows, base - row), num_resamples), dtype=np.uint32)
-            chosen[:, row:row + drawn.shape[0]] = drawn[:, start:stop].T
-        for first in range(0, stop - start, per_block):
-            block = chosen[first:first + per_block]
-            counts = np.empty((block.shape[0], base))
-            for i, rows in enumerate(block):
-                counts[i] = np.bincount(rows, minlength=base)
-            yield start + first, counts
+    chosen = np.empty((per_group, base), dtype=np.uint32)
+    sums = np.empty((num_resamples, products.shape[1]))
+    with Parallel(n_jobs=workers, prefer="threads") as parallel:
+        for start in range(0, num_resamples, per_group):
+            columns = slice(start, min(num_resamples, start + per_group))
+            group = chosen[:columns.stop - start]
+            parallel(delayed(_draw_rows)(seed, base, num_resamples, rows, columns, group)
+                     for rows in _row_ranges(base, workers))
+            cuts = np.linspace(0, len(group), min(workers, len(group)) + 1).astype(int)
+            parallel(delayed(_sums)(group[a:b], products, sums[start + a:start + b])
+                     for a, b in zip(cuts, cuts[1:]))
+    return sums
 
 
 def bootstrap_estimates(parts, num_resamples, seed):
@@ -244,10 +293,7 @@ def bootstrap_estimates(parts, num_resamples, seed):
         ``S1``, ``ST``: shape (R, D); ``S2``: shape (R, pairs) for the pairs
         j < k in row-major order, or None. [-]
     """
-    products = _products(parts)
-    sums = np.empty((num_resamples, products.shape[1]))
-    for first, counts in resample_counts(parts.base, num_resamples, seed):
-        np.matmul(counts, products, out=sums[first:first + counts.shape[0]])
+    sums = resample_sums(_products(parts), num_resamples, seed)
     n, d = parts.base, parts.dimension
     mean = sums[:, 0] / (2 * n)
     variance = sums[:, 1] / (2 * n) - mean ** 2
