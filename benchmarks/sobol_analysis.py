@@ -8,7 +8,8 @@ an Ishigami-like function of the plan's first three columns plus smaller
 terms in the other three, saved to a file once per size.
 
 Every measurement runs in a fresh process that loads those outputs, so its
-peak resident memory (``ru_maxrss``) is that of one analysis; the
+peak resident memory (VmHWM) is that of one analysis (besides the
+imports and the outputs, given as "before"); the
 processes alternate old, new, old, new, ... because this machine's speed
 drifts by +-25 %. CPU seconds (all threads) are given besides the wall
 clock: on a busy machine they are the steadier figure.
@@ -70,12 +71,25 @@ def _child(path, file, base):
     import SALib.analyze.sobol  # noqa: F401  imports outside the clock and the baseline
     import hopscape.sensitivity  # noqa: F401
 
+    baseline = _resident_mb("VmHWM")
     before = resource.getrusage(resource.RUSAGE_SELF)
     seconds = _analyse(path, y, base)
     after = resource.getrusage(resource.RUSAGE_SELF)
     cpu = after.ru_utime + after.ru_stime - before.ru_utime - before.ru_stime
-    print(json.dumps({"seconds": seconds, "cpu": cpu, "peak_mb": after.ru_maxrss / 1024,
-                      "baseline_mb": before.ru_maxrss / 1024}))
+    print(json.dumps({"seconds": seconds, "cpu": cpu, "peak_mb": _resident_mb("VmHWM"), "baseline_mb": baseline}))
+
+
+def _resident_mb(field):
+    """A memory figure of this process from /proc/self/status [MB].
+
+    VmHWM, the peak resident size, starts afresh at exec; ``ru_maxrss``
+    would carry the parent's peak over (Linux keeps it across fork and
+    exec).
+    """
+    for line in Path("/proc/self/status").read_text().splitlines():
+        if line.startswith(field + ":"):
+            return int(line.split()[1]) / 1024
+    raise RuntimeError(f"no {field} in /proc/self/status")
 
 
 def main():
