@@ -17,6 +17,7 @@ Reference values and where they come from:
   SALib's two-decimal ones.
 """
 import re
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -25,6 +26,7 @@ from numpy.testing import assert_allclose
 from SALib.analyze import sobol as salib_sobol
 
 from _ishigami import BASE, SALIB_ATOL, SALIB_RTOL, SEED, ishigami_outputs
+from conftest import run_text
 from hopscape import sensitivity as sens
 from hopscape.test_functions import (ISHIGAMI_NAMES, ISHIGAMI_S1, ISHIGAMI_S2, ISHIGAMI_ST, ishigami,
                                     ishigami_indices)
@@ -372,8 +374,6 @@ def test_resample_sums_are_sums_over_salibs_resamples(monkeypatch, base, workers
 
 def study_text(base):
     """studies/rod-glass.yaml with `base` base samples and one job."""
-    from pathlib import Path
-
     text = (Path(__file__).parents[1] / "studies" / "rod-glass.yaml").read_text(encoding="utf-8")
     text, samples = re.subn(r"samples: \d+", f"samples: {base}", text)
     text, jobs = re.subn(r"jobs: \d+", "jobs: 1", text)
@@ -382,8 +382,6 @@ def study_text(base):
 
 
 def test_indices_and_intervals_are_salibs_on_a_real_study(tmp_path):
-    from conftest import run_text
-
     outcome = run_text(study_text(256), tmp_path / "run")
     plan = outcome.plan
     assert plan.base_samples == 256 and len(plan.names) == 6
