@@ -17,6 +17,7 @@ Reference values and where they come from:
   SALib's two-decimal ones.
 """
 import re
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -25,6 +26,7 @@ from numpy.testing import assert_allclose
 from SALib.analyze import sobol as salib_sobol
 
 from _ishigami import BASE, SALIB_ATOL, SALIB_RTOL, SEED, ishigami_outputs
+from conftest import run_text
 from hopscape import sensitivity as sens
 from hopscape.test_functions import (ISHIGAMI_NAMES, ISHIGAMI_S1, ISHIGAMI_S2, ISHIGAMI_ST, ishigami,
                                     ishigami_indices)
@@ -277,3 +279,120 @@ def test_convergence_with_second_order_uses_the_longer_blocks():
     sub_plan = sens.SobolPlan(plan.names, 256, True, plan.seed, plan.unit[: 256 * 8])
     direct, _ = sens.sobol_analyze(sub_plan, y[: 256 * 8])
     assert_allclose(quarter["ST"], direct.set_index("parameter")["ST"], rtol=0, atol=0)
+
+
+# --------------------------------------------------------------------------
+# (d) our estimators against SALib's own analysis
+# --------------------------------------------------------------------------
+# explore.sensitivity._saltelli computes SALib's estimators with SALib's
+# resamples as weighted sums instead of gathering (N, R) matrices. The
+# reference is SALib's function API itself, ``SALib.analyze.sobol.analyze``
+# (first order of Saltelli et al. 2010, total order of Jansen 1999, second
+# order of Saltelli 2002), given the same outputs and bootstrap seed.
+#
+# Tolerances:
+# * S1, ST, S2: exactly equal (atol = rtol = 0): the point estimates take
+#   the same operations in the same order as SALib's first_order,
+#   total_order and second_order.
+# * *_conf: rtol = 1e-10. The resamples are SALib's own (its seed, its
+#   stream of row numbers), so the intervals agree up to the order of the
+#   sums (a counts-times-products matrix product instead of a mean over the
+#   gathered rows, the variance as E[y^2] - E[y]^2 of centred outputs):
+#   3e-14 relative measured. 1e-10 sits far above that and far below any
+#   Monte Carlo difference: an interval from other resamples would differ
+#   by about 1 / sqrt(2 (R - 1)) = 5 % for R = 200 (the relative standard
+#   error of a standard deviation estimated from R values).
+
+CONF_RTOL = 1e-10
+
+
+def salib_analysis(names, y, second_order, seed, num_resamples=sens.DEFAULT_RESAMPLES):
+    problem = {"num_vars": len(names), "names": list(names), "bounds": [[0.0, 1.0]] * len(names)}
+    return salib_sobol.analyze(problem, np.asarray(y, dtype=float), calc_second_order=second_order,
+                               num_resamples=num_resamples, conf_level=0.95, seed=seed)
+
+
+def assert_same_as_salib(indices, pairs, reference):
+    assert_allclose(indices["S1"], reference["S1"], rtol=0, atol=0)
+    assert_allclose(indices["ST"], reference["ST"], rtol=0, atol=0)
+    assert_allclose(indices["S1_conf"], reference["S1_conf"], rtol=CONF_RTOL, atol=0)
+    assert_allclose(indices["ST_conf"], reference["ST_conf"], rtol=CONF_RTOL, atol=0)
+    if pairs is not None:
+        upper = np.triu_indices(len(indices), 1)
+        assert_allclose(pairs["S2"], reference["S2"][upper], rtol=0, atol=0)
+        assert_allclose(pairs["S2_conf"], reference["S2_conf"][upper], rtol=CONF_RTOL, atol=0)
+
+
+@pytest.mark.parametrize("base, second_order", [(2 ** 8, False), (BASE, False), (2 ** 10, True)])
+def test_indices_and_intervals_are_salibs_on_ishigami(base, second_order):
+    plan = sens.sobol_plan(ISHIGAMI_NAMES, base, second_order=second_order, seed=SEED)
+    y = ishigami_outputs(plan)
+    indices, pairs = sens.sobol_analyze(plan, y, seed=11)
+    assert_same_as_salib(indices, pairs, salib_analysis(ISHIGAMI_NAMES, y, second_order, 11))
+    # the intervals are real bootstrap widths, not zeros: about 1/sqrt(N)
+    assert (indices["ST_conf"] > 0.1 / np.sqrt(base)).all()
+
+
+def test_convergence_levels_are_salibs_analysis_of_the_first_base_samples(ishigami_run):
+    plan, y, _, _ = ishigami_run
+    table = sens.sobol_convergence(plan, y, seed=5)
+    rows = plan.rows_per_base_sample
+    for level, part in table.groupby("base_samples"):
+        reference = salib_analysis(ISHIGAMI_NAMES, y[: level * rows], False, 5)
+        assert_same_as_salib(part.reset_index(drop=True), None, reference)
+
+
+def test_first_base_samples_of_a_plan_are_the_smaller_plan():
+    # what the convergence levels rest on: the first N/4 base samples of a
+    # plan are the plan of N/4 base samples with the same seed (a prefix of
+    # one scrambled Sobol' sequence; SALib's layout keeps each base
+    # sample's rows together), with and without second order
+    for second_order in (False, True):
+        plan = sens.sobol_plan(ISHIGAMI_NAMES, 64, second_order=second_order, seed=SEED)
+        for level in (16, 32):
+            smaller = sens.sobol_plan(ISHIGAMI_NAMES, level, second_order=second_order, seed=SEED)
+            np.testing.assert_array_equal(plan.unit[: smaller.rows], smaller.unit)
+
+
+@pytest.mark.parametrize("base, workers", [(64, 1), (64, 2), (64, 3), (100, 2)])
+def test_resample_sums_are_sums_over_salibs_resamples(monkeypatch, base, workers):
+    from hopscape.sensitivity import _saltelli
+
+    # tiny memory budgets: several groups of resamples (the stream drawn
+    # again for each), several blocks of drawn rows and of counts
+    monkeypatch.setattr(_saltelli, "INDEX_BYTES", 4 * base * 7)
+    monkeypatch.setattr(_saltelli, "DRAW_BYTES", 4 * 30 * 6)
+    monkeypatch.setattr(_saltelli, "COUNT_BYTES", 8 * base * 3)
+    resamples, seed = 30, 9
+    products = np.random.default_rng(1).normal(size=(base, 4))
+    found = _saltelli.resample_sums(products, resamples, seed, workers=workers)
+    # SALib's resamples: column b of default_rng(seed).integers(N, size=(N, R))
+    chosen = np.random.default_rng(seed).integers(base, size=(base, resamples))
+    expected = products[chosen].sum(axis=0)
+    assert_allclose(found, expected, rtol=1e-12, atol=1e-12)
+
+
+def study_text(base):
+    """studies/rod-glass.yaml with `base` base samples and one job."""
+    text = (Path(__file__).parents[1] / "studies" / "rod-glass.yaml").read_text(encoding="utf-8")
+    text, samples = re.subn(r"samples: \d+", f"samples: {base}", text)
+    text, jobs = re.subn(r"jobs: \d+", "jobs: 1", text)
+    assert samples == 1 and jobs == 1
+    return text
+
+
+def test_indices_and_intervals_are_salibs_on_a_real_study(tmp_path):
+    outcome = run_text(study_text(256), tmp_path / "run")
+    plan = outcome.plan
+    assert plan.base_samples == 256 and len(plan.names) == 6
+    y = outcome.tables["sobol"].sort_values("sample")["value"].to_numpy(dtype=float)
+    y = np.nan_to_num(y, nan=0.0)  # as the analysis does with drops that start inside the floor
+    assert np.ptp(y) > 0
+    indices, pairs = sens.sobol_analyze(plan, y, seed=3)
+    assert pairs is None
+    assert_same_as_salib(indices, None, salib_analysis(plan.names, y, False, 3))
+    table = sens.sobol_convergence(plan, y, seed=3)
+    for level in (64, 128):
+        part = table[table["base_samples"] == level].reset_index(drop=True)
+        reference = salib_analysis(plan.names, y[: level * plan.rows_per_base_sample], False, 3)
+        assert_same_as_salib(part, None, reference)

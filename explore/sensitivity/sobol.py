@@ -1,7 +1,11 @@
 """Sobol' variance-based indices: plan, analysis, convergence, declaration.
 
-The sampler and estimators are SALib's (function API,
-``SALib.sample.sobol``, ``SALib.analyze.sobol``) on the unit hypercube.
+The sampler is SALib's (function API, ``SALib.sample.sobol``) on the unit
+hypercube. The estimators and bootstrap are those of
+``SALib.analyze.sobol.analyze``, computed by :mod:`._saltelli` as weighted
+sums in bounded memory: the same indices bit for bit and the same
+resamples, so the same intervals to rounding (checked against SALib in
+tests/test_sensitivity_sobol.py).
 
 References
 ----------
@@ -22,11 +26,10 @@ from typing import ClassVar
 
 import numpy as np
 import pandas as pd
-from SALib.analyze import sobol as _sobol_analyze
 from SALib.sample import sobol as _sobol_sample
 
 from .._arguments import SensitivityError, fail, integer
-from . import _checks
+from . import _checks, _saltelli
 from ._checks import DEFAULT_RESAMPLES, DEFAULT_SEED
 from ._method import Method, Picture, Table
 
@@ -178,9 +181,7 @@ def _sobol_indices(names, y, second_order, confidence_level, num_resamples, seed
     if np.ptp(y) == 0.0:
         raise SensitivityError(f"y: must vary (got {y.size} runs all equal to {y[0].item()!r}): "
                                "the variance shares are undefined for a constant output")
-    return _sobol_analyze.analyze(_checks.unit_problem(names), y, calc_second_order=second_order,
-                                  num_resamples=num_resamples, conf_level=confidence_level,
-                                  print_to_console=False, parallel=False, seed=seed)
+    return _saltelli.analyse(y, len(names), second_order, confidence_level, num_resamples, seed)
 
 
 def sobol_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAULT_RESAMPLES):
@@ -226,8 +227,11 @@ def sobol_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAU
 
     Notes
     -----
-    Estimators of Saltelli et al. (2010) [2] for S1 and ST and of
-    Saltelli (2002) for S2, as implemented by ``SALib.analyze.sobol``.
+    Estimators of Saltelli et al. (2010) [2] for S1, Jansen (1999) for ST
+    (as given in [2]) and Saltelli (2002) for S2, with SALib's arithmetic
+    and bootstrap resamples (:mod:`._saltelli`): the indices are
+    ``SALib.analyze.sobol.analyze``'s bit for bit, the intervals to about
+    1e-14 relative.
     Estimates carry sampling error: small indices can come out slightly
     negative and ST slightly above 1.
     """
@@ -254,7 +258,11 @@ def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=D
     """S1 and ST recomputed on the first N/4, N/2 and all N base samples.
 
     A prefix of 2^k points of a scrambled Sobol' sequence is itself a
-    balanced design, so each level is a valid smaller study. Indices that
+    balanced design, so each level is a valid smaller study (the first
+    N/4 base samples of a plan are the N/4 plan of the same seed). Each
+    level is SALib's analysis of those outputs; its cost is proportional
+    to its base samples, so the N/4 and N/2 levels add 3/4 of one
+    analysis. Indices that
     stay put and intervals that narrow (roughly by 1/sqrt(2) per doubling)
     mean N was enough.
 
