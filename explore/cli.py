@@ -16,6 +16,7 @@ import numpy as np
 
 from .cli_text import STRICT_HELP, report_warnings
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
+from .batch_contract import per_shape
 from .files import refuse_overwriting_input
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
@@ -70,13 +71,6 @@ def _declared_int(name, field):
 BENCH_DROPS = 2_000_000
 
 
-def _per_shape(dimension):
-    """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
-    from hopscape import sim
-    return "; ".join(f"{kind}: {cls.dimension(dimension).meaning}" for kind, cls in sim.SHAPES.items()
-                     if any(d.name == dimension for d in cls.dimensions))
-
-
 def _merge_window_options(parser):
     """``--merge-ms`` or ``--fps``: which impacts make one visible bounce."""
     window = parser.add_mutually_exclusive_group()
@@ -127,12 +121,12 @@ def build_parser():
     d = sub.add_parser("drop", help="simulate one drop, print its impacts and bounces, draw pictures")
     d.add_argument("--shape", default="capsule", choices=list(sim.SHAPES))
     d.add_argument("--length", type=_finite("--length"), default=None,
-                   help=f"[m] {_per_shape('length')} (default 0.014)")
+                   help=f"[m] {per_shape('length')} (default 0.014)")
     d.add_argument("--radius", type=_finite("--radius"), default=None,
-                   help=f"[m] {_per_shape('radius')} (default 0.0035)")
+                   help=f"[m] {per_shape('radius')} (default 0.0035)")
     for name in _further_dimensions():
         d.add_argument(f"--{name.replace('_', '-')}", type=_finite(f"--{name}"), default=None,
-                       help=f"[m] {_per_shape(name)} (default: the shape's own)")
+                       help=f"[m] {per_shape(name)} (default: the shape's own)")
     d.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
                    help="overall length / diameter, instead of --length (uses --radius)")
     d.add_argument("--density", type=_finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
@@ -163,7 +157,7 @@ def build_parser():
     d.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- batch -------------------------------------------------------
-    from .batch import INPUT_COLUMNS
+    from .batch_contract import INPUT_COLUMNS
     columns = "; ".join(f"{c} [{u}]" + (" (optional)" if d is not None else "")
                         for c, (u, d) in INPUT_COLUMNS.items())
     b = sub.add_parser("batch", help="many drops from a CSV or Parquet table",
@@ -293,7 +287,7 @@ def cmd_batch(args):
     frame = read_table(args.drops)
     if frame.empty:
         raise InputError(f"{args.drops} holds no drops (only a header?); nothing to simulate")
-    from .batch import INPUT_COLUMNS
+    from .batch_contract import INPUT_COLUMNS
     unknown = [c for c in frame.columns if c not in INPUT_COLUMNS]
     if unknown:
         print(f"hopscape: note: ignoring column(s) {', '.join(map(str, unknown))} (known: {', '.join(INPUT_COLUMNS)})",

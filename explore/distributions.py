@@ -12,7 +12,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
 from ._arguments import SensitivityError, fail, real
 
@@ -93,7 +92,7 @@ class Distribution:
                 # a truncation window far out in a tail holds no probability
                 # in floating point and its quantiles are meaningless
                 alpha, beta = self._standard_bounds()
-                mass = stats.norm.cdf(beta) - stats.norm.cdf(alpha)
+                mass = _stats().norm.cdf(beta) - _stats().norm.cdf(alpha)
                 if not mass > 1e-12:
                     fail("normal.low/high", "a window holding some of the normal's probability", (self.low, self.high),
                           f": it holds {mass:.1e} of it (mean {self.mean!r}, sd {self.sd!r})")
@@ -139,9 +138,9 @@ class Distribution:
             # exp(log(x)) can miss x by an ulp; keep the ends exact
             return np.where(u == 0.0, self.low, np.where(u == 1.0, self.high, values))
         if self.low is None and self.high is None:
-            return stats.norm.ppf(u, loc=self.mean, scale=self.sd)
+            return _stats().norm.ppf(u, loc=self.mean, scale=self.sd)
         alpha, beta = self._standard_bounds()
-        values = stats.truncnorm.ppf(u, alpha, beta, loc=self.mean, scale=self.sd)
+        values = _stats().truncnorm.ppf(u, alpha, beta, loc=self.mean, scale=self.sd)
         return np.clip(values, -np.inf if self.low is None else self.low,
                        np.inf if self.high is None else self.high)
 
@@ -163,3 +162,9 @@ class Distribution:
             text += f" truncated to [{low}, {high}]"
         return text
 
+
+def _stats():
+    """scipy.stats, imported when a normal is first evaluated (it takes most
+    of a second; validating a study needs none of it)."""
+    from scipy import stats
+    return stats

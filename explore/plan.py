@@ -22,8 +22,12 @@ one per sensitivity method (``sobol``, ``morris``: ``explore.sensitivity.METHODS
 """
 from __future__ import annotations
 
+import typing
+
 import numpy as np
-import pandas as pd
+
+if typing.TYPE_CHECKING:   # pandas is imported where tables are built: `check` needs none
+    import pandas as pd
 
 from .distributions import Distribution
 from .sensitivity import METHODS, plan_values
@@ -104,6 +108,7 @@ def cell_coordinates(study: Study) -> pd.DataFrame:
         fastest) and one column per gridded quantity.
         [units of the columns' names]
     """
+    import pandas as pd
     axes = grid_axes(study)
     mesh = np.meshgrid(*axes.values(), indexing="ij") if axes else []
     frame = {"cell": np.arange(grid_cells(study))}
@@ -145,6 +150,12 @@ def grid_frame(study: Study) -> pd.DataFrame:
         distributed), from the grid stage's own random stream.
         [units of the columns' names]
     """
+    import pandas as pd
+    return pd.DataFrame(grid_columns(study))
+
+
+def grid_columns(study: Study):
+    """The columns of :func:`grid_frame` as NumPy arrays (no table built)."""
     axes = grid_axes(study)
     draws = study.analyses.draws if study.random() else 1
     mesh = np.meshgrid(*axes.values(), indexing="ij") if axes else []
@@ -153,7 +164,7 @@ def grid_frame(study: Study) -> pd.DataFrame:
     values = {name: np.repeat(m.ravel(), draws) for name, m in zip(axes, mesh)}
     frame = {"cell": cell, "draw": np.tile(np.arange(draws), cells)}
     frame.update(_fill(study, cell.size, _rng(study, "grid"), values))
-    return pd.DataFrame(frame)
+    return frame
 
 
 def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
@@ -178,6 +189,7 @@ def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
         ``pair``; heights are kept at or above the smallest allowed height.
         [units of the columns' names]
     """
+    import pandas as pd
     tol = study.tolerance
     draws = tol.draws
     per_cell = int(grid["draw"].max()) + 1
@@ -235,6 +247,7 @@ def sensitivity_frame(study: Study, plan) -> pd.DataFrame:
         and a column per quantity (plan values for the varying ones, the
         fixed values for the rest). [units of the columns' names]
     """
+    import pandas as pd
     dists = {name: distribution(name, study.quantity(name), study.allowed(name)) for name in plan.names}
     values = plan_values(plan, dists)
     frame = {"sample": np.arange(plan.rows)}
@@ -258,6 +271,7 @@ def build_stages(study: Study):
     plan : object or None
         The sensitivity plan (:func:`sensitivity_plan`), None without one.
     """
+    import pandas as pd
     stages = {}
     if study.gridded():
         stages["grid"] = grid_frame(study)
@@ -275,20 +289,21 @@ def build_stages(study: Study):
     return stages, plan
 
 
-def inside_floor(study: Study, frame: pd.DataFrame):
-    """Which rows of a stage table start touching or inside the floor (they
-    are not simulated): the centre no higher than the lowest point's depth
-    below it. A height given to the lowest point never is.
+def inside_floor(study: Study, frame):
+    """Which rows of a stage table (a DataFrame or a dict of columns) start
+    touching or inside the floor (they are not simulated): the centre no
+    higher than the lowest point's depth below it. A height given to the
+    lowest point never is.
 
     Returns
     -------
     numpy.ndarray of bool
     """
-    if study.release.height_of == "bottom":
-        return np.zeros(len(frame), bool)
-
     def column(name):
-        return frame[COLUMN[name]].to_numpy() if COLUMN[name] in frame else None
+        return np.asarray(frame[COLUMN[name]]) if COLUMN[name] in frame else None
+
+    if study.release.height_of == "bottom":
+        return np.zeros(len(column("height")), bool)
 
     shape = study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
                                   length=column("length"))

@@ -273,8 +273,8 @@ def parse_study(text, filename="<study>") -> Study:
 
 def _inside_share(study):
     """Share of the grid stage's drops that start inside the floor."""
-    from .plan import grid_frame, inside_floor
-    inside = inside_floor(study, grid_frame(study))
+    from .plan import grid_columns, inside_floor
+    inside = inside_floor(study, grid_columns(study))
     return float(inside.mean()) if inside.size else 0.0
 
 

@@ -42,11 +42,10 @@ References
 """
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 
 import numpy as np
-from joblib import Parallel, cpu_count, delayed
-from scipy.stats import norm
 
 #: Bytes of resample row numbers held at once (uint32, one row per
 #: resample). Above it the generator's stream is drawn again for each group
@@ -62,7 +61,7 @@ COUNT_BYTES = 16 * 2 ** 20
 DRAW_BYTES = 8 * 2 ** 20
 
 #: Threads for drawing, counting and multiplying.
-WORKERS = max(1, min(2, cpu_count()))
+WORKERS = max(1, min(2, os.cpu_count() or 1))
 
 # SALib's threshold for 'constant' outputs and zero variance
 _EPS = np.finfo(float).eps
@@ -265,6 +264,7 @@ def resample_sums(products, num_resamples, seed, workers=WORKERS):
     per_group = max(1, min(num_resamples, INDEX_BYTES // (4 * base)))
     chosen = np.empty((per_group, base), dtype=np.uint32)
     sums = np.empty((num_resamples, products.shape[1]))
+    from joblib import Parallel, delayed
     with Parallel(n_jobs=workers, prefer="threads") as parallel:
         for start in range(0, num_resamples, per_group):
             columns = slice(start, min(num_resamples, start + per_group))
@@ -336,6 +336,7 @@ def analyse(y, dimension, second_order, confidence_level, num_resamples, seed):
     """
     parts = split(y, dimension, second_order)
     result = point_estimates(parts)
+    from scipy.stats import norm
     z = norm.ppf(0.5 + confidence_level / 2)
     if _constant(parts):
         spread = {key: np.zeros(dimension) for key in ("S1", "ST")}

@@ -17,9 +17,6 @@ from dataclasses import dataclass, field
 from typing import ClassVar
 
 import numpy as np
-import pandas as pd
-from SALib.analyze import morris as _morris_analyze
-from SALib.sample import morris as _morris_sample
 
 from .._arguments import fail, integer
 from . import _checks
@@ -136,6 +133,7 @@ def morris_plan(names, trajectories=64, levels=4, seed=DEFAULT_SEED):
     trajectories = integer("trajectories", trajectories, 2)
     levels = _levels(levels)
     seed = _checks.seed("seed", seed)
+    from SALib.sample import morris as _morris_sample   # imported on use: validating a study needs no SALib
     unit = _morris_sample.sample(_checks.unit_problem(names), trajectories, num_levels=levels,
                                  optimal_trajectories=None, seed=seed)
     return MorrisPlan(names, trajectories, levels, seed, unit)
@@ -181,6 +179,8 @@ def morris_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFA
     """
     y, confidence_level, num_resamples, seed = _checks.analysis_inputs(
         plan, MorrisPlan, "morris_analyze", y, confidence_level, num_resamples, seed)
+    import pandas as pd
+    from SALib.analyze import morris as _morris_analyze
     result = _morris_analyze.analyze(_checks.unit_problem(plan.names), np.array(plan.unit), y,
                                      num_resamples=num_resamples, conf_level=confidence_level,
                                      print_to_console=False, num_levels=plan.levels, seed=seed)

@@ -25,8 +25,6 @@ from dataclasses import dataclass, field
 from typing import ClassVar
 
 import numpy as np
-import pandas as pd
-from SALib.sample import sobol as _sobol_sample
 
 from .._arguments import SensitivityError, fail, integer
 from . import _checks, _saltelli
@@ -170,6 +168,7 @@ def sobol_plan(names, base_samples, second_order=False, seed=DEFAULT_SEED):
     names = _checks.names(names)
     base_samples = _power_of_two("base_samples", base_samples)
     seed = _checks.seed("seed", seed)
+    from SALib.sample import sobol as _sobol_sample   # imported on use: validating a study needs no SALib
     unit = _sobol_sample.sample(_checks.unit_problem(names), base_samples, calc_second_order=bool(second_order),
                                 scramble=True, seed=seed)
     return SobolPlan(names, base_samples, bool(second_order), seed, unit)
@@ -235,6 +234,7 @@ def sobol_analyze(plan, y, confidence_level=0.95, seed=None, num_resamples=DEFAU
     Estimates carry sampling error: small indices can come out slightly
     negative and ST slightly above 1.
     """
+    import pandas as pd   # imported on use: validating a study needs no pandas
     y, confidence_level, num_resamples, seed = _checks.analysis_inputs(
         plan, SobolPlan, "sobol_analyze", y, confidence_level, num_resamples, seed)
     result = _sobol_indices(plan.names, y, plan.second_order, confidence_level, num_resamples, seed)
@@ -287,6 +287,7 @@ def sobol_convergence(plan, y, confidence_level=0.95, seed=None, num_resamples=D
         samples are left out, so a plan with N = 2 or 4 gives fewer than
         three levels. [-]
     """
+    import pandas as pd   # imported on use: validating a study needs no pandas
     y, confidence_level, num_resamples, seed = _checks.analysis_inputs(
         plan, SobolPlan, "sobol_convergence", y, confidence_level, num_resamples, seed)
     n_full = plan.base_samples
