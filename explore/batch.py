@@ -15,6 +15,7 @@ from hopscape.sim.impact import LAWS, SLIP_HISTORY
 
 from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
+from .defaults import IMPACTS
 from .errors import InputError
 from .plausibility import drop_warnings
 
@@ -135,7 +136,7 @@ def _row_errors(frame, law):
     return errors, kinds, laws
 
 
-def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
+def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
               progress=None, warn=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 

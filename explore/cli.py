@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from .cli_text import STRICT_HELP, report_warnings
+from .defaults import IMPACTS
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
@@ -106,7 +107,8 @@ def build_parser():
     d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
     d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
     d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
-    d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
+    d.add_argument("--impacts", type=_positive_int("--impacts"), default=IMPACTS,
+                   help=f"impacts to follow (default {IMPACTS}, as in batch and studies)")
     d.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0,
                    help="[ms] impacts closer than this make one visible bounce (default 10)")
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
@@ -126,7 +128,8 @@ def build_parser():
                        "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
-    b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
+    b.add_argument("--impacts", type=_positive_int("--impacts"), default=IMPACTS,
+                   help=f"impacts per drop (default {IMPACTS}, as in drop and studies)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
     b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
