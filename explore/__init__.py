@@ -237,12 +237,14 @@ def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analy
     from .errors import InputError
     from .runner import run_study as run_stages
 
+    source_text = ""                # a validated study is recorded as such in the folder's study.yaml
     if not hasattr(study, "fingerprint"):
+        source_text = _study_text(study)[0]
         study = load_study(study)
     if jobs is not None and jobs < 1:
         raise InputError(f"jobs must be >= 1, got {jobs}")
     folder = Path("runs") / study.name if folder is None else Path(folder)
-    outcome = run_stages(study, folder, fresh=fresh, jobs=jobs, backend=backend, progress=progress)
+    outcome = run_stages(study, folder, source_text, fresh=fresh, jobs=jobs, backend=backend, progress=progress)
     if not analyse:
         return StudyRun(study, outcome.folder, outcome.tables)
     from .analysis import analyse as analyse_run

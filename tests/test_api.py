@@ -17,7 +17,7 @@ import pandas as pd
 import pytest
 
 import hopscape
-from conftest import SMALL, SMALL_COUNTS
+from conftest import SMALL, SMALL_COUNTS, write_study
 from hopscape import sim
 from hopscape.batch import OUTPUT_COLUMNS, run_batch
 from hopscape.cli import build_parser, main
@@ -223,7 +223,8 @@ def test_load_study_changes_are_checked_like_the_file(monkeypatch):
 
 
 def test_run_study_tables_per_stage_and_combined(tmp_path):
-    run = hopscape.run_study(hopscape.load_study(SMALL), tmp_path / "run", backend="sequential", analyse=False)
+    run = hopscape.run_study(write_study(tmp_path, SMALL), tmp_path / "run", backend="sequential", analyse=False)
+    assert (run.folder / "study.yaml").read_text(encoding="utf-8") == SMALL    # the file as written
     assert {stage: len(table) for stage, table in run.tables.items()} == SMALL_COUNTS
     assert run.report is None and run.ranking is None
     every = run.table()
