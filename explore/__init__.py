@@ -268,7 +268,7 @@ def _warn_each(lines):
         warnings.warn(line, UserWarning, stacklevel=4)
 
 
-def simulate_drops(frame, impacts=DEFAULT_IMPACTS, law="energetic", merge_ms=None):
+def simulate_drops(frame, impacts=DEFAULT_IMPACTS, law="energetic", merge_ms=None, camera_fps=None):
     """Simulate a table of drops, as ``hopscape batch`` does.
 
     Parameters
@@ -278,13 +278,17 @@ def simulate_drops(frame, impacts=DEFAULT_IMPACTS, law="energetic", merge_ms=Non
         ``shape``, ``length`` [m], ``radius`` [m], ``density`` [kg/m^3],
         ``height`` [m, of the centre of mass], ``angle`` [deg], ``spin``
         [rad/s], ``vx``, ``vy`` [m/s], ``restitution``, ``friction`` [-],
-        ``law``; see ``hopscape.batch.INPUT_COLUMNS``.
+        ``law``, ``floor_angle`` [deg]; see ``hopscape.batch.INPUT_COLUMNS``.
     impacts : int, optional
         Impacts followed per drop (default :data:`DEFAULT_IMPACTS`).
     law : {"energetic", "poisson", "newton"}, optional
         Impact law of rows whose ``law`` is empty or missing.
     merge_ms : float, optional
-        Impacts closer than this are one visible bounce [ms]; default 10.
+        Impacts closer than this are one visible bounce [ms]; default 10
+        (what a camera at 100 frames per second merges).
+    camera_fps : float, optional
+        Instead of ``merge_ms``: your camera's frame rate [1/s]; impacts
+        closer than one frame interval are one visible bounce.
 
     Returns
     -------
@@ -299,15 +303,31 @@ def simulate_drops(frame, impacts=DEFAULT_IMPACTS, law="energetic", merge_ms=Non
     Raises
     ------
     InputError
-        For a missing required column or an unknown ``law``.
+        For a missing required column, an unknown ``law`` or a bounce
+        window out of range.
     """
     import pandas as pd
 
-    from . import sim
     from .batch import run_batch
 
-    merge_within = sim.MERGE_WITHIN if merge_ms is None else merge_ms / 1e3
-    return run_batch(pd.DataFrame(frame), impacts=impacts, law=law, merge_within=merge_within, warn=_warn_each)
+    return run_batch(pd.DataFrame(frame), impacts=impacts, law=law, merge_within=_bounce_window(merge_ms, camera_fps),
+                     warn=_warn_each)
+
+
+def _bounce_window(merge_ms, camera_fps):
+    """Impacts closer than this are one visible bounce [s]: ``merge_ms`` [ms] or one frame of ``camera_fps``."""
+    from .errors import InputError
+
+    if camera_fps is None:
+        window = 10.0 if merge_ms is None else merge_ms
+        if not window >= 0:
+            raise InputError(f"merge_ms must be >= 0, got {window:g}")
+        return window / 1e3
+    if merge_ms is not None:
+        raise InputError("give merge_ms or camera_fps, not both")
+    if not camera_fps > 0:
+        raise InputError(f"camera_fps must be > 0 frames per second, got {camera_fps:g}")
+    return 1.0 / camera_fps
 
 
 @dataclass(frozen=True)
@@ -373,7 +393,8 @@ class Drop:
             to the axis, not wrapped], ``vx``, ``vy`` [m/s], ``spin``
             [rad/s], ``bottom``, ``top`` [m, heights of the lowest and top
             points], ``translational``, ``rotational``, ``potential``,
-            ``total`` [J, energies].
+            ``total`` [J, energies]; on an inclined floor x runs along the
+            floor and heights are normal to it.
         """
         import numpy as np
         import pandas as pd
@@ -388,8 +409,8 @@ class Drop:
 
 
 def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, density=1200.0, height=0.3,
-         height_of="centre", angle=30.0, spin=0.0, vx=0.0, vy=0.0, restitution=0.8, friction=0.3,
-         law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, **dimensions):
+         height_of="centre", angle=30.0, spin=0.0, vx=0.0, vy=0.0, floor_angle=0.0, restitution=0.8,
+         friction=0.3, law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, camera_fps=None, **dimensions):
     """Simulate one drop, as ``hopscape drop`` does (same defaults).
 
     Parameters
@@ -418,6 +439,10 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         Counter-clockwise positive. [rad/s]
     vx, vy : float, optional
         Velocity of the centre at release. [m/s]
+    floor_angle : float, optional
+        Floor inclination, positive where the floor falls towards +x; then
+        ``height``, ``angle``, ``vx`` and ``vy`` are in floor coordinates,
+        heights normal to the floor. [deg]
     restitution : float, optional
         [-], in [0, 1].
     friction : float, optional
@@ -428,6 +453,8 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         Impacts to follow (default :data:`DEFAULT_IMPACTS`).
     merge_ms : float, optional
         Impacts closer than this make one visible bounce [ms]; default 10.
+    camera_fps : float, optional
+        Instead of ``merge_ms``: your camera's frame rate [1/s].
     **dimensions : float
         Further dimensions a shape declares, e.g. ``edge`` [m] of a
         rounded tablet.
@@ -442,10 +469,16 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
     ValueError
         For a value outside its allowed range (the message names it, the
         range and the value), or a body that starts inside the floor.
+    InputError
+        For a bounce window out of range.
     """
     import numpy as np
 
     from . import sim
+    from .quantities import QUANTITIES
+
+    window = _bounce_window(merge_ms, camera_fps)
+    floor_angle = QUANTITIES["floor_angle"].allowed.check("floor_angle", floor_angle)
 
     if isinstance(shape, str):
         if aspect_ratio is not None:
@@ -454,6 +487,7 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
             shape = sim.SHAPES[shape].from_aspect_ratio(aspect_ratio, 2 * radius, density)
         else:
             shape = sim.make_shape(shape, length=length, radius=radius, density=density, **dimensions)
-    release = sim.Release(height=height, angle=np.radians(angle), spin=spin, vx=vx, vy=vy, reference=height_of)
+    release = sim.Release(height=height, angle=np.radians(angle), spin=spin, vx=vx, vy=vy, reference=height_of,
+                          floor_angle=np.radians(floor_angle))
     result = sim.simulate(shape, release, sim.Contact(restitution, friction, law), impacts=impacts)
-    return Drop(shape, result, sim.MERGE_WITHIN if merge_ms is None else merge_ms / 1e3)
+    return Drop(shape, result, window)

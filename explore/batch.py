@@ -18,6 +18,7 @@ from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 from .defaults import IMPACTS
 from .errors import InputError
 from .plausibility import drop_warnings
+from .quantities import QUANTITIES
 
 def _per_shape(dimension):
     """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
@@ -39,6 +40,8 @@ INPUT_COLUMNS = {
     "restitution": ("-, " + RESTITUTION.describe(), None),
     "friction": ("-, " + FRICTION.describe(), None),
     "law": (" | ".join(LAWS), None),
+    "floor_angle": ("deg, floor inclination, positive where the floor falls towards +x; height, angle, vx and vy "
+                    "are then in floor coordinates (height normal to the floor)", 0.0),
 }
 # every further dimension a shape declares gets a column of its own,
 # optional (an empty cell or no column: the shape's default)
@@ -48,7 +51,7 @@ INPUT_COLUMNS.update({d.name: ("m; " + _per_shape(d.name), np.nan) for cls in si
 DIMENSIONS = tuple(dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions))
 #: Columns read as numbers for every row; the shapes' own dimensions
 #: (length, radius) are checked per shape, as each shape declares them.
-NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")
+NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction", "floor_angle")
 
 #: Output columns (one row per drop and impact) and their units.
 OUTPUT_COLUMNS = {
@@ -66,7 +69,7 @@ OUTPUT_COLUMNS = {
     "slip": "slip | stick | reversed",
     "energy_gain": "True where the impact created energy (Newton law)",
     "bounce": "1-based visible bounce this impact belongs to",
-    "status": "why the drop stopped: impacts | settled | resting | failed",
+    "status": "why the drop stopped: impacts | settled | contact | could_vault | failed (README, 'Batch tables')",
     "error": "why the row could not be simulated (empty when it ran)",
 }
 
@@ -128,7 +131,8 @@ def _row_errors(frame, law):
     for column in NUMBERS:
         values, raw = numbers(column), frame[column].to_numpy()
         flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
-    for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION)):
+    for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION),
+                            ("floor_angle", QUANTITIES["floor_angle"].allowed)):
         values = numbers(column)
         flag(~allowed.contains(values), lambda i, c=column, a=allowed, v=values: a.problem(c, v[i]))
     laws = frame["law"].fillna(law).astype(str).str.strip().str.lower().to_numpy() if "law" in frame else np.full(n, law)
@@ -182,7 +186,8 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     if good.size:
         shapes = bodies(good)
         release = sim.Release(height=num["height"][good], angle=np.radians(num["angle"][good]),
-                              spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good])
+                              spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good],
+                              floor_angle=np.radians(num["floor_angle"][good]))
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))
         result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
         tables.append(impact_table(result, merge_within, drop_ids=good))

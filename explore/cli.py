@@ -60,6 +60,29 @@ def _per_shape(dimension):
                      if any(d.name == dimension for d in cls.dimensions))
 
 
+def _merge_window_options(parser):
+    """``--merge-ms`` or ``--fps``: which impacts make one visible bounce."""
+    window = parser.add_mutually_exclusive_group()
+    window.add_argument("--merge-ms", type=_finite("--merge-ms"), default=None,
+                        help="[ms] impacts closer than this make one visible bounce (default 10: what a camera at "
+                             "100 frames per second merges)")
+    window.add_argument("--fps", type=_finite("--fps"), default=None,
+                        help="[1/s] your camera's frame rate, instead of --merge-ms: impacts closer than one frame "
+                             "interval make one visible bounce")
+
+
+def _merge_window(args):
+    """The bounce-grouping window of ``--merge-ms`` or ``--fps`` [s]."""
+    if args.fps is not None:
+        if not args.fps > 0:
+            raise InputError(f"--fps must be > 0 frames per second, got {args.fps:g}")
+        return 1.0 / args.fps
+    merge_ms = 10.0 if args.merge_ms is None else args.merge_ms
+    if merge_ms < 0:
+        raise InputError(f"--merge-ms must be >= 0, got {merge_ms:g}")
+    return merge_ms / 1e3
+
+
 def _law_help():
     """One clause per impact law, from :data:`sim.impact.LAW_TABLE`."""
     from hopscape.sim.impact import LAW_TABLE
@@ -77,6 +100,7 @@ def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
     from hopscape.sim.limits import FRICTION, RESTITUTION
+    from .quantities import QUANTITIES
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
@@ -107,10 +131,13 @@ def build_parser():
     d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
     d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
     d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--floor-angle", type=_finite("--floor-angle"), default=0.0,
+                   help="[deg] floor inclination, positive where the floor falls towards +x, "
+                   f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
+                   "vy are then in floor coordinates, heights normal to the floor")
     d.add_argument("--impacts", type=_positive_int("--impacts"), default=IMPACTS,
                    help=f"impacts to follow (default {IMPACTS}, as in batch and studies)")
-    d.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0,
-                   help="[ms] impacts closer than this make one visible bounce (default 10)")
+    _merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
     d.add_argument("--csv", type=Path, default=None, help="write the impact table to this CSV file")
@@ -132,7 +159,7 @@ def build_parser():
                    help=f"impacts per drop (default {IMPACTS}, as in drop and studies)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
-    b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
+    _merge_window_options(b)
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
@@ -191,10 +218,10 @@ def cmd_drop(args):
     from hopscape import sim
     from hopscape.sim.limits import MASS
     from .batch import impact_table
+    from .quantities import QUANTITIES
     from .report_text import drop_report
 
-    if args.merge_ms < 0:
-        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    merge_window = _merge_window(args)
     radius = 0.0035 if args.radius is None else args.radius
 
     def build():
@@ -209,8 +236,9 @@ def cmd_drop(args):
             shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density, **further)
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
+        floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
-                              vx=args.vx, vy=args.vy, reference=args.height_of)
+                              vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
         result = sim.simulate(shape, release, contact, impacts=args.impacts)
         return shape, result
@@ -222,11 +250,11 @@ def cmd_drop(args):
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
-    bounces = sim.group_bounces(result, args.merge_ms / 1e3)
+    bounces = sim.group_bounces(result, merge_window)
     print(drop_report(shape, result, bounces, args.reference))
     if args.csv is not None:
         from .batch import write_table
-        write_table(impact_table(result, args.merge_ms / 1e3), args.csv)
+        write_table(impact_table(result, merge_window), args.csv)
         print(f"\nimpact table written to {args.csv}")
     if not args.no_plots:
         from . import plots
@@ -244,8 +272,7 @@ def cmd_batch(args):
     """``hopscape batch``: many drops from a table, one output row per drop and impact."""
     from .batch import read_table, run_batch, write_table
 
-    if args.merge_ms < 0:
-        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    merge_window = _merge_window(args)
     frame = read_table(args.drops)
     from .batch import INPUT_COLUMNS
     unknown = [c for c in frame.columns if c not in INPUT_COLUMNS]
@@ -253,7 +280,7 @@ def cmd_batch(args):
         print(f"hopscape: note: ignoring column(s) {', '.join(map(str, unknown))} (known: {', '.join(INPUT_COLUMNS)})",
               file=sys.stderr)
     start = time.perf_counter()
-    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3,
+    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=merge_window,
                       warn=lambda lines: report_warnings(lines, args.strict))
     elapsed = time.perf_counter() - start
     write_table(table, args.out)

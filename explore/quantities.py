@@ -69,6 +69,8 @@ QUANTITIES = {spec.name: spec for spec in (
     QuantitySpec("spin", "release", "rad/s", "release spin", _rig(-1e6, 1e6, "rad/s")),
     QuantitySpec("vx", "release", "m/s", "release velocity x", _rig(-100.0, 100.0, "m/s")),
     QuantitySpec("vy", "release", "m/s", "release velocity y", _rig(-100.0, 100.0, "m/s")),
+    # positive: the floor falls towards +x; heights are then normal to the floor
+    QuantitySpec("floor_angle", "release", "deg", "floor inclination", _rig(-60.0, 60.0, "deg")),
 )}
 
 #: Column name of each quantity in result tables (the unit in the name).
