@@ -109,7 +109,13 @@ def _command_impacts(tmp_path, capsys, options):
     return pd.read_csv(path, keep_default_na=False, na_values=[""])
 
 
-@pytest.mark.parametrize("options, keywords", [([], {}), (PIN_OPTIONS, PIN)], ids=["defaults", "pin"])
+#: A steep drop onto a floor inclined by 20 deg, bounces as a 60 frames/s camera sees them.
+INCLINE = {"height": 0.05, "angle": 70.0, "floor_angle": 20.0, "camera_fps": 60.0}
+INCLINE_OPTIONS = ["--height", "0.05", "--angle", "70", "--floor-angle", "20", "--fps", "60"]
+
+
+@pytest.mark.parametrize("options, keywords", [([], {}), (PIN_OPTIONS, PIN), (INCLINE_OPTIONS, INCLINE)],
+                         ids=["defaults", "pin", "incline"])
 def test_drop_gives_the_commands_impact_table(tmp_path, capsys, options, keywords):
     ours = hopscape.drop(**keywords).impacts
     theirs = _command_impacts(tmp_path, capsys, options)
@@ -119,6 +125,7 @@ def test_drop_gives_the_commands_impact_table(tmp_path, capsys, options, keyword
         # the CSV keeps 17 significant digits; the arithmetic is the same
         assert np.allclose(ours[column], theirs[column], rtol=1e-12, atol=1e-15), column
     assert list(ours["slip"]) == list(theirs["slip"])
+    assert list(ours["bounce"]) == list(theirs["bounce"])
 
 
 def test_history_before_the_first_impact_is_free_flight():
@@ -150,6 +157,25 @@ def test_bounces_of_a_sphere_rise_to_e_squared_of_the_fall():
     expected = radius + e ** 2 * (height - radius) * e ** (2 * np.arange(len(bounces)))
     assert np.allclose(bounces["height_centre"], expected, rtol=1e-9)
     assert np.allclose(bounces["ratio_centre"], expected / height, rtol=1e-9)
+
+
+def test_bounce_window_is_merge_ms_or_one_camera_frame():
+    # the rule of sim/bounces.py: an impact joins the bounce before it when
+    # the flight between them is shorter than the window (10 ms by default,
+    # one frame interval with a camera's frame rate)
+    for window, seconds in (({"merge_ms": 1.0}, 0.001), ({}, 0.010), ({"camera_fps": 25.0}, 0.040)):
+        impacts = hopscape.drop(**PIN, **window).impacts
+        starts_a_bounce = np.concatenate([[True], impacts["flight"].to_numpy()[:-1] >= seconds])
+        assert list(impacts["bounce"]) == list(np.cumsum(starts_a_bounce)), window
+    assert hopscape.drop(**PIN, merge_ms=10.0).impacts.equals(hopscape.drop(**PIN).impacts)
+    with pytest.raises(InputError, match="give merge_ms or camera_fps, not both"):
+        hopscape.drop(merge_ms=5.0, camera_fps=100.0)
+    with pytest.raises(InputError, match="camera_fps must be > 0 frames per second, got 0"):
+        hopscape.simulate_drops(DROPS, camera_fps=0.0)
+    with pytest.raises(InputError, match="merge_ms must be >= 0, got -1"):
+        hopscape.drop(merge_ms=-1.0)
+    with pytest.raises(ValueError, match="floor_angle must be in"):
+        hopscape.drop(floor_angle=75.0)
 
 
 def test_drop_bad_value_names_the_field():
