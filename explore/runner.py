@@ -10,7 +10,8 @@ same table an uninterrupted run gives. A folder holding another study's
 parts is refused (``fresh=True`` starts over).
 
 Every part carries a ``stage`` column (:data:`STAGE_COLUMN`), so that
-``pandas.read_parquet`` on the ``results`` folder keeps the stages apart.
+parts read together (``pandas.read_parquet`` on the ``results`` folder,
+which keeps the first part's columns) keep the stages apart.
 Parts written before parts carried it belong to the same study (the
 fingerprint does not change with the table's layout): a run over such a
 folder resumes, and each old part gets the column, rewritten atomically,

@@ -260,6 +260,7 @@ def test_run_study_tables_per_stage_and_combined(tmp_path):
     with pytest.raises(InputError, match="stage must be one of grid, robust, sobol .* got 'morris'"):
         run.table("morris")
     # the parts on disk carry the stage too, so one read of the folder keeps them apart
+    # (pyarrow takes the first part's columns: a grid part's, here)
     on_disk = pd.read_parquet(run.folder / "results")
     assert on_disk["stage"].value_counts().to_dict() == SMALL_COUNTS
     with pytest.raises(InputError, match="jobs must be >= 1, got 0"):
