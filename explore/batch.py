@@ -16,6 +16,7 @@ from hopscape.sim.impact import LAWS, SLIP_HISTORY
 from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
 from .batch_contract import DIMENSIONS, INPUT_COLUMNS, NUMBERS, OUTPUT_COLUMNS  # noqa: F401 (the contract)
+from .defaults import IMPACTS
 from .errors import InputError
 from .files import atomic_write
 from .plausibility import drop_warnings
@@ -89,7 +90,7 @@ def _row_errors(frame, law):
     return errors, kinds, laws
 
 
-def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
+def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
               progress=None, warn=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 

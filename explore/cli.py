@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from .cli_text import STRICT_HELP, report_warnings
+from .defaults import IMPACTS
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
 from .batch_contract import per_shape
 from .files import refuse_overwriting_input
@@ -146,7 +147,8 @@ def build_parser():
                    help="[deg] floor inclination, positive where the floor falls towards +x, "
                    f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
                    "vy are then in floor coordinates, heights normal to the floor")
-    d.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=10, help="impacts to follow (default 10)")
+    d.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=IMPACTS,
+                   help=f"impacts to follow (default {IMPACTS}, as in batch and studies)")
     _merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
@@ -165,7 +167,8 @@ def build_parser():
                        "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
-    b.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=3, help="impacts per drop (default 3)")
+    b.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=IMPACTS,
+                   help=f"impacts per drop (default {IMPACTS}, as in drop and studies)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
     _merge_window_options(b)

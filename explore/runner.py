@@ -8,6 +8,14 @@ Running the same study into the same folder again skips the finished
 chunks, so a run killed at any moment completes on the next call with the
 same table an uninterrupted run gives. A folder holding another study's
 parts is refused (``fresh=True`` starts over).
+
+Every part carries a ``stage`` column (:data:`STAGE_COLUMN`), so that
+parts read together (``pandas.read_parquet`` on the ``results`` folder,
+which keeps the first part's columns) keep the stages apart.
+Parts written before parts carried it belong to the same study (the
+fingerprint does not change with the table's layout): a run over such a
+folder resumes, and each old part gets the column, rewritten atomically,
+when it is read.
 """
 from __future__ import annotations
 
@@ -40,8 +48,9 @@ class RunOutcome:
     folder : pathlib.Path
         The run folder (``study.yaml``, ``results/part-*.parquet``, ...).
     tables : dict of str to pandas.DataFrame
-        Per stage (``grid``, ``robust``, ``sobol``, ``morris``): the input
-        columns plus the metric columns, in stage order.
+        Per stage (``grid``, ``robust``, ``sobol``, ``morris``): the
+        :data:`STAGE_COLUMN`, the input columns and the metric columns, in
+        stage order.
     plan : object or None
         The sensitivity plan the ``sobol`` or ``morris`` stage was drawn
         from, or None.
@@ -59,6 +68,11 @@ class RunOutcome:
     seconds: dict = field(default_factory=dict)
     simulated: int = 0      # drops simulated in this call (the rest were on disk)
     total: int = 0
+
+
+#: Column naming the stage of every row of a result part (and of the tables
+#: :func:`run_study` returns): ``grid``, ``robust``, ``sobol`` or ``morris``.
+STAGE_COLUMN = "stage"
 
 
 def _part_name(stage, k):
@@ -169,8 +183,24 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
     return folder
 
 
+def _with_stage(table, stage):
+    """``table`` with the :data:`STAGE_COLUMN` first."""
+    table = table.copy()
+    table.insert(0, STAGE_COLUMN, stage)
+    return table
+
+
 def _work(study, stage, k, frame):
-    return stage, k, simulate_frame(study, frame)
+    return stage, k, _with_stage(simulate_frame(study, frame), stage)
+
+
+def _read_part(path, stage):
+    """A result part; one written before parts carried their stage gets the column and is rewritten."""
+    table = pd.read_parquet(path)
+    if STAGE_COLUMN not in table:
+        table = _with_stage(table, stage)
+        write_atomic(table, path)
+    return table
 
 
 @contextlib.contextmanager
@@ -287,7 +317,8 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
     tables = {}
     for stage, frame in stages.items():
         parts = sorted(results.glob(f"part-{stage}-*.parquet"))
-        table = pd.concat([pd.read_parquet(p) for p in parts], ignore_index=True) if parts else frame.iloc[:0]
+        table = (pd.concat([_read_part(p, stage) for p in parts], ignore_index=True) if parts
+                 else _with_stage(frame.iloc[:0], stage))
         tables[stage] = table
     clock["loading"] = time.perf_counter() - t_load
     return RunOutcome(study, folder, tables, plan, clock, simulated, total)

@@ -24,6 +24,7 @@ from pydantic_core import InitErrorDetails, PydanticCustomError
 from hopscape import sim
 from hopscape.sim.limits import Interval, number_text
 
+from .defaults import IMPACTS
 from .errors import shown
 from .metric_kinds import METRIC_KINDS
 from .quantities import COLUMN, QUANTITIES, label
@@ -349,7 +350,7 @@ class RunSettings(Strict):
     scheduler: Optional[str] = Field(None, description="address of a Dask scheduler (backend: dask)")
     chunk_size: int = Field(default=20000, ge=100, le=1_000_000, description="drops per task and result part")
     seed: int = Field(default=1, ge=1, le=2 ** 32 - 1, description="seed of every random draw")
-    impacts: int = Field(default=6, ge=1, le=50, description="impacts followed per drop")
+    impacts: int = Field(default=IMPACTS, ge=1, le=50, description="impacts followed per drop")
     merge_ms: float = Field(default=10.0, ge=0, le=1000,
                             description="impacts closer than this are one visible bounce [ms] (10 ms is what a "
                                         "camera at 100 frames per second merges)")

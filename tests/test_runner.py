@@ -309,6 +309,26 @@ def test_parts_without_fingerprint_are_refused(small_reference, tmp_path):
         run_text(SMALL, tmp_path)
 
 
+def test_parts_carry_their_stage(small_reference):
+    for path in (small_reference.folder / "results").glob("part-*.parquet"):
+        assert set(pd.read_parquet(path, columns=["stage"])["stage"]) == {path.name.split("-")[1]}, path.name
+
+
+def test_folder_from_before_parts_carried_their_stage_resumes(small_reference, tmp_path):
+    # a run folder written before parts had a stage column: same study, same
+    # fingerprint, so it resumes; each old part gains the column on reading
+    shutil.copytree(small_reference.folder, tmp_path, dirs_exist_ok=True)
+    parts = sorted((tmp_path / "results").glob("part-*.parquet"))
+    for path in parts:
+        write_atomic(pd.read_parquet(path).drop(columns="stage"), path)
+    parts[0].unlink()                                   # and one chunk still to run
+    again = run_text(SMALL, tmp_path)
+    assert 0 < again.simulated < sum(SMALL_COUNTS.values())
+    assert_same_tables(again.tables, small_reference.tables)
+    for path in parts:
+        assert "stage" in pd.read_parquet(path).columns, path.name
+
+
 def test_run_from_python_records_the_study(tmp_path):
     study = parse_study(SMALL)
     run_study(study, tmp_path, backend="sequential", progress=False)

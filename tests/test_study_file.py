@@ -110,7 +110,7 @@ def test_a_bool_or_text_is_not_a_number_in_any_form(tmp_path, capsys, old, new, 
 @pytest.mark.parametrize("old, new, field, words", [
     ("restitution: {uniform: {low: 0.8, high: 0.95}}", "restitution: {normal: {mean: 0.9, sd: .inf}}",
      "contact.restitution.normal.sd", "must be a finite number, got inf"),
-    ("impacts: 6", "impacts: 1", "metric.bounce", "a later bounce needs at least 2 impacts"),
+    ("seed: 7", "seed: 7\n  impacts: 1", "metric.bounce", "a later bounce needs at least 2 impacts"),
 ])
 def test_settings_run_would_die_on_are_refused_by_check(tmp_path, capsys, old, new, field, words):
     assert old in QUICK
