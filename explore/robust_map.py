@@ -153,7 +153,7 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
         fig.legend(handles=legend, loc="lower right", fontsize=8, ncol=len(legend), frameon=False)
     fig.text(0.01, 0.005, wrap(f"{study.tolerance.draws} toleranced drops per cell, each compared with the same "
                                "drop released exactly (same restitution, friction, ...). A cell is chaotic when its "
-                               "outcome flips often, not when the metric's value moves.", 110),
+                               "outcome flips often, not when the metric's value moves.", 95),
              fontsize=7, va="bottom")
     fig.get_layout_engine().set(rect=(0, 0.07, 1, 0.93))
     return save_figure(fig, base, formats), base.with_suffix(".csv")
