@@ -119,6 +119,8 @@ def _cells(study: Study, table: pd.DataFrame, keys):
         "beats_release_probability": g["beats_release"].mean(),
         "inside_floor_fraction": g["value"].apply(lambda v: float(np.isnan(v).mean())),
     }).reset_index()
+    out["event_low"], out["event_high"] = wilson_interval(np.rint(out["event_probability"] * out["drops"]),
+                                                          out["drops"])
     return out
 
 
@@ -162,8 +164,9 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     csv : pathlib.Path
         Per cell: the two grid values, ``drops``, ``mean_value``,
         ``event_probability`` [-], ``mean_best_later_ratio`` [-],
-        ``beats_first_probability`` [-], ``beats_release_probability`` [-]
-        and ``inside_floor_fraction`` [-].
+        ``beats_first_probability`` [-], ``beats_release_probability`` [-],
+        ``inside_floor_fraction`` [-] and the event probability's 95 %
+        Wilson interval ``event_low``, ``event_high`` [-].
     """
     folder.mkdir(parents=True, exist_ok=True)
     cells = _cells(study, table, [x, y])

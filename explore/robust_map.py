@@ -110,7 +110,7 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
         fig.colorbar(mesh, ax=right).set_label("flip rate: outcome differs from the exact release [-]", fontsize=8)
         if _line(left, xs, ys, p, target, OKABE_ITO["sky"]):
             legend.append(plt.Line2D([], [], color=OKABE_ITO["sky"], lw=1.5,
-                                     label=f"target: {target:.0%} of toleranced drops"))
+                                     label=f"goal met in {target:.0%} of toleranced drops (the target)"))
         chaotic = points[points["chaotic"]]
         if len(chaotic):
             # marked cell by cell: a contour of a flip rate estimated from a

@@ -61,6 +61,13 @@ def test_curve_csv_holds_median_band_and_probability_per_angle(small_run):
         assert row["p10_value"] <= row["median_value"] <= row["p90_value"]
 
 
+def test_map_csv_has_wilson_intervals(small_run):
+    cells = pd.read_csv(small_run / "maps" / "map-angle-aspect_ratio.csv")
+    for _, row in cells.iloc[::9].iterrows():
+        ci = binomtest(round(row["event_probability"] * 12), 12).proportion_ci(method="wilson")
+        assert (row["event_low"], row["event_high"]) == pytest.approx((ci.low, ci.high), abs=1e-12)
+
+
 def test_curve_probability_has_wilson_intervals(small_run):
     curve = pd.read_csv(small_run / "maps" / "curve-angle.csv")
     for _, row in curve.iterrows():

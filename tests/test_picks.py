@@ -175,3 +175,10 @@ def test_picks_csv(small_run):
     assert met["margin_steps"].is_monotonic_decreasing and (met["margin_steps"] >= 1).all()
     assert (picks_csv["goal_low"] <= picks_csv["goal_probability"]).all()
     assert (picks_csv["goal_probability"] <= picks_csv["goal_high"]).all()
+
+
+def test_chaotic_flip_rate_is_a_share_and_the_old_setting_is_gone():
+    with pytest.raises(Exception, match=r"analyses\.picks\.chaotic_flip_rate: must be in \(0, 1\], got 1.5"):
+        study_of(analyses={"picks": {"chaotic_flip_rate": 1.5}})
+    with pytest.raises(Exception, match=r"analyses\.picks\.chaotic_spread: unknown field"):
+        study_of(analyses={"picks": {"chaotic_spread": 0.1}})

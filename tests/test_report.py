@@ -1,19 +1,21 @@
 """``report.html`` of a run (explore/report.py).
 
-Two runs: the shared small CLI run (maps, curve, robustness, Sobol ranking,
-picks) and a tiny grid-only run written here, which must leave out what it
-did not compute.
+The shared small CLI run (maps, curve, robustness, Sobol ranking, picks,
+safe regions); a tiny grid-only run, which must leave out what it did not
+compute; a study whose event can never happen (the energy bound), which
+must say so first; and a study under an impact law that creates energy.
 """
 import html
 import re
 
 import pandas as pd
+import pytest
 
-from conftest import PIN, SMALL, SMALL_COUNTS, grid, run_text, study_yaml
-from hopscape.analysis import analyse
+from conftest import PIN, SMALL, SMALL_COUNTS, grid, run_text, study_yaml, uniform
+from hopscape.analysis import analyse, headline
 from hopscape.cli import main
-from hopscape.regions import region_sentences
 from hopscape.maps import energy_note
+from hopscape.regions import region_sentences
 from hopscape.report import SAFETY, write_report
 from hopscape.study import parse_study
 
@@ -133,6 +135,7 @@ NEVER = {
 }
 
 
+@pytest.mark.slow
 def test_a_study_where_the_event_never_happens_says_so_first(tmp_path, capsys):
     study_path = tmp_path / "never.yaml"
     study_path.write_text(study_yaml(NEVER), encoding="utf-8")
@@ -144,3 +147,37 @@ def test_a_study_where_the_event_never_happens_says_so_first(tmp_path, capsys):
     page = page_of(tmp_path / "run")
     assert page.index(html.escape(sentence)) < page.index("<b>Safety.</b>")
     assert "No cell meets the target 80% under the release tolerance" in page
+
+
+def test_energy_creating_law_changes_the_bound_and_the_footnote(tmp_path):
+    # Newton's law can create energy when slip reverses or the contact
+    # sticks (Stronge, J. Appl. Mech. 58:1049, 1991); with restitution 0.95
+    # and friction up to 1, some of these 72 drops do
+    text = study_yaml({
+        "name": "newton",
+        "body": {**PIN, "aspect_ratio": grid(2.0, 8.0, 4)},
+        "contact": {"law": "newton", "restitution": 0.95, "friction": uniform(0.05, 1.0)},
+        "release": {"height": 0.02, "angle": grid(5, 85, 9)},
+        "analyses": {"draws": 2, "robustness": False},
+        "run": {"jobs": 1, "impacts": 6},
+    })
+    outcome = run_text(text, tmp_path)
+    assert outcome.tables["grid"]["energy_gain"].any()
+    write_report(outcome, analyse(outcome), {})
+    page = page_of(tmp_path)
+    assert "the centre can never rise above its release height" not in page
+    assert "Impacts only take energy away" not in page
+    assert "Energy bound: none here. The newton law can create energy at an impact" in page
+    assert ("Some drops had an impact that created energy: the newton law can, with stick as well as with slip "
+            "reversal (Stronge, J. Appl. Mech. 58:1049, 1991).") in page
+
+
+def test_headline_when_the_event_always_happens():
+    study = parse_study(study_yaml(NEVER))
+    table = pd.DataFrame({"event": [True, True, False], "status": ["impacts", "impacts", "inside floor"]})
+    # the drop that would start inside the floor is no drop: the event happened in all 2
+    assert headline(study, {"grid": table}) == (
+        "In all 2 drops of this study the event (best later bounce above 1 x the release height of the centre) "
+        "always happened, so every map and pick below is flat: widen the ranges or change the threshold to find "
+        "where it stops.")
+    assert headline(study, {"grid": table.assign(event=[True, False, False])}) is None

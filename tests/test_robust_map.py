@@ -11,7 +11,8 @@ import pandas as pd
 import pytest
 from scipy.stats import binomtest
 
-from conftest import read_parts
+from conftest import PIN, PIN_ON_STEEL, grid, read_parts, run_text, study_yaml
+from hopscape.analysis import analyse
 from hopscape.study import COLUMN
 
 KEYS = [COLUMN["angle"], COLUMN["aspect_ratio"]]
@@ -57,3 +58,31 @@ def test_safe_region_file_covers_exactly_the_cells_meeting_the_target(small_run,
     assert covered == meeting and meeting
     # the region sizes add up to the cells meeting the target
     assert regions.groupby("region")["cells"].first().sum() == len(meeting)
+
+
+def test_one_grid_quantity_draws_curves_and_a_csv(tmp_path):
+    # one swept quantity: the robustness "map" is two curves over it
+    text = study_yaml({
+        "name": "line",
+        "body": {**PIN, "aspect_ratio": 4.0},
+        "contact": PIN_ON_STEEL,
+        "release": {"height": 0.005, "height_of": "bottom", "angle": grid(10, 80, 8)},
+        "metric": {"reference": "bottom"},
+        "tolerance": {"draws": 6},
+        "analyses": {"draws": 3, "picks": {"count": 2, "target": 0.5}},
+        "run": {"jobs": 1, "seed": 5, "impacts": 4},
+    })
+    outcome = run_text(text, tmp_path)
+    art = analyse(outcome)
+    (title, paths, csv), = art.robustness
+    assert title == "robustness over angle" and paths[0].is_file()
+    points = pd.read_csv(csv)
+    robust = outcome.tables["robust"]
+    # the angle of each cell, then the share of its 6 toleranced drops with the event
+    expected = robust.groupby("cell")["event"].mean().to_numpy()
+    np.testing.assert_allclose(points["goal_probability"], expected, rtol=1e-15)
+    assert list(points[COLUMN["angle"]]) == [10, 20, 30, 40, 50, 60, 70, 80]
+    regions = pd.read_csv(tmp_path / "safe-regions.csv")
+    met = points[COLUMN["angle"]][points["goal_probability"] >= 0.5].tolist()
+    covered = [a for _, r in regions.iterrows() for a in met if r["angle_deg_low"] <= a <= r["angle_deg_high"]]
+    assert sorted(covered) == met
