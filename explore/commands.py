@@ -164,6 +164,8 @@ def cmd_run(args):
                 f"grid step(s), outcome flips in {best['flip_rate']:.0%}")
         if "angle_window_low_deg" in best and best["angle_window_low_deg"] == best["angle_window_low_deg"]:
             text += f", angle window {best['angle_window_low_deg']:g}-{best['angle_window_high_deg']:g} deg"
+        if not best["meets_target"]:
+            text += " - below the target: no cell meets it"
         if best["chaotic"]:
             text += " (chaotic region!)"
         print(text)

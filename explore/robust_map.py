@@ -127,8 +127,6 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
             legend.append(plt.Line2D([], [], ls="", marker="o", mfc="white", mec="black", label="picks, by rank"))
         for ax in (left, right):
             ax.set_ylabel(label(y))
-        if flat(p):
-            left.set_title(flat_words(p), fontsize=9)
     else:
         xv = points[COLUMN[x]]
         left.fill_between(xv, points["goal_low"], points["goal_high"], color=OKABE_ITO["blue"], alpha=0.2, lw=0,
@@ -145,7 +143,9 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
         right.legend(fontsize=8, frameon=False)
     for ax in (left, right):
         ax.set_xlabel(label(x))
-    left.set_title("does the drop do what you want?", fontsize=10, loc="left")
+    probability = points["goal_probability"].to_numpy()
+    left.set_title("does the drop do what you want?" + (f" (goal: {flat_words(probability)})" if flat(probability)
+                                                         else ""), fontsize=10, loc="left")
     right.set_title("do release errors change the outcome?", fontsize=10, loc="left")
     fig.suptitle(f"{study.name}: where the goal holds under release errors ({tolerance_text(study)})",
                  fontsize=11)
