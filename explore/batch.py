@@ -16,7 +16,10 @@ from hopscape.sim.impact import LAWS, SLIP_HISTORY
 from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
 
 from .errors import InputError
+from .files import atomic_write
+from .quantities import radians_within_one_turn
 from .plausibility import drop_warnings
+from .quantities import QUANTITIES
 
 def _per_shape(dimension):
     """``capsule: cap radius; sphere: radius; ...`` from the shapes' declarations."""
@@ -38,6 +41,8 @@ INPUT_COLUMNS = {
     "restitution": ("-, " + RESTITUTION.describe(), None),
     "friction": ("-, " + FRICTION.describe(), None),
     "law": (" | ".join(LAWS), None),
+    "floor_angle": ("deg, floor inclination, positive where the floor falls towards +x; height, angle, vx and vy "
+                    "are then in floor coordinates (height normal to the floor)", 0.0),
 }
 # every further dimension a shape declares gets a column of its own,
 # optional (an empty cell or no column: the shape's default)
@@ -47,7 +52,7 @@ INPUT_COLUMNS.update({d.name: ("m; " + _per_shape(d.name), np.nan) for cls in si
 DIMENSIONS = tuple(dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions))
 #: Columns read as numbers for every row; the shapes' own dimensions
 #: (length, radius) are checked per shape, as each shape declares them.
-NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction")
+NUMBERS = ("density", "height", "angle", "spin", "vx", "vy", "restitution", "friction", "floor_angle")
 
 #: Output columns (one row per drop and impact) and their units.
 OUTPUT_COLUMNS = {
@@ -65,7 +70,7 @@ OUTPUT_COLUMNS = {
     "slip": "slip | stick | reversed",
     "energy_gain": "True where the impact created energy (Newton law)",
     "bounce": "1-based visible bounce this impact belongs to",
-    "status": "why the drop stopped: impacts | settled | resting | failed",
+    "status": "why the drop stopped: impacts | settled | contact | could_vault | failed (README, 'Batch tables')",
     "error": "why the row could not be simulated (empty when it ran)",
 }
 
@@ -84,13 +89,15 @@ def read_table(path):
 
 
 def write_table(frame, path):
-    """Write CSV or Parquet by the file ending; the parent folder is made."""
+    """Write CSV or Parquet by the file ending, atomically
+    (:func:`hopscape.files.atomic_write`); the parent folder is made."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    if path.suffix.lower() in (".parquet", ".pq"):
-        frame.to_parquet(path, index=False)
-    else:
-        frame.to_csv(path, index=False)
+    with atomic_write(path) as tmp:
+        if path.suffix.lower() in (".parquet", ".pq"):
+            frame.to_parquet(tmp, index=False)
+        else:
+            frame.to_csv(tmp, index=False)
 
 
 def _shown(value):
@@ -127,7 +134,8 @@ def _row_errors(frame, law):
     for column in NUMBERS:
         values, raw = numbers(column), frame[column].to_numpy()
         flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
-    for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION)):
+    for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION),
+                            ("floor_angle", QUANTITIES["floor_angle"].allowed)):
         values = numbers(column)
         flag(~allowed.contains(values), lambda i, c=column, a=allowed, v=values: a.problem(c, v[i]))
     laws = frame["law"].fillna(law).astype(str).str.strip().str.lower().to_numpy() if "law" in frame else np.full(n, law)
@@ -172,7 +180,7 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
     # a body inside the floor is a per-row error too
     if good.size:
         shapes = bodies(good)
-        gap = num["height"][good] - shapes.depth(np.radians(num["angle"][good]))
+        gap = num["height"][good] - shapes.depth(radians_within_one_turn(num["angle"][good]))
         inside = gap <= 0
         errors[good[inside]] = [f"height {num['height'][i]} m puts the body touching or inside the floor "
                                 f"(its lowest point would be at {g:.4g} m)" for i, g in zip(good[inside], gap[inside])]
@@ -180,8 +188,9 @@ def run_batch(frame, impacts=3, law="energetic", merge_within=sim.MERGE_WITHIN, 
     tables = []
     if good.size:
         shapes = bodies(good)
-        release = sim.Release(height=num["height"][good], angle=np.radians(num["angle"][good]),
-                              spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good])
+        release = sim.Release(height=num["height"][good], angle=radians_within_one_turn(num["angle"][good]),
+                              spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good],
+                              floor_angle=np.radians(num["floor_angle"][good]))
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))
         result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
         tables.append(impact_table(result, merge_within, drop_ids=good))

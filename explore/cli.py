@@ -15,7 +15,8 @@ from pathlib import Path
 import numpy as np
 
 from .cli_text import STRICT_HELP, report_warnings
-from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
+from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
+from .files import refuse_overwriting_input
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
           "can injure; wear eye protection, guard the drop zone, and follow your local safety rules.")
@@ -40,16 +41,32 @@ def _finite(name):
     return convert
 
 
-def _positive_int(name, low=1):
+def _positive_int(name, low=1, high=None):
+    """An option's converter: a whole number in [low, high]."""
+    from hopscape.sim.limits import Interval
+    allowed = Interval(low, float("inf") if high is None else high)
+
     def convert(text):
         try:
             value = int(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"must be a whole number, got {text!r}")
-        if value < low:
-            raise argparse.ArgumentTypeError(f"must be >= {low}, got {value}")
+            raise argparse.ArgumentTypeError(f"must be a whole number, got {shown(text)}")
+        if not allowed.contains(value):
+            raise argparse.ArgumentTypeError(f"must be {allowed.describe()}, got {value}")
         return value
     return convert
+
+
+def _declared_int(name, field):
+    """A whole-number option bounded like the study file's ``RunSettings`` field."""
+    from .study import RunSettings, declared_range
+    allowed = declared_range((RunSettings, field))
+    return _positive_int(name, int(allowed.low), int(allowed.high))
+
+
+#: Most drops ``hopscape bench`` times at once (its result is held in memory:
+#: 10^6 drops peak near 500 MB).
+BENCH_DROPS = 2_000_000
 
 
 def _per_shape(dimension):
@@ -57,6 +74,29 @@ def _per_shape(dimension):
     from hopscape import sim
     return "; ".join(f"{kind}: {cls.dimension(dimension).meaning}" for kind, cls in sim.SHAPES.items()
                      if any(d.name == dimension for d in cls.dimensions))
+
+
+def _merge_window_options(parser):
+    """``--merge-ms`` or ``--fps``: which impacts make one visible bounce."""
+    window = parser.add_mutually_exclusive_group()
+    window.add_argument("--merge-ms", type=_finite("--merge-ms"), default=None,
+                        help="[ms] impacts closer than this make one visible bounce (default 10: what a camera at "
+                             "100 frames per second merges)")
+    window.add_argument("--fps", type=_finite("--fps"), default=None,
+                        help="[1/s] your camera's frame rate, instead of --merge-ms: impacts closer than one frame "
+                             "interval make one visible bounce")
+
+
+def _merge_window(args):
+    """The bounce-grouping window of ``--merge-ms`` or ``--fps`` [s]."""
+    if args.fps is not None:
+        if not args.fps > 0:
+            raise InputError(f"--fps must be > 0 frames per second, got {args.fps:g}")
+        return 1.0 / args.fps
+    merge_ms = 10.0 if args.merge_ms is None else args.merge_ms
+    if merge_ms < 0:
+        raise InputError(f"--merge-ms must be >= 0, got {merge_ms:g}")
+    return merge_ms / 1e3
 
 
 def _law_help():
@@ -76,6 +116,7 @@ def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
     from hopscape.sim.limits import FRICTION, RESTITUTION
+    from .quantities import QUANTITIES
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
@@ -106,9 +147,12 @@ def build_parser():
     d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
     d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
     d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
-    d.add_argument("--impacts", type=_positive_int("--impacts"), default=10, help="impacts to follow (default 10)")
-    d.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0,
-                   help="[ms] impacts closer than this make one visible bounce (default 10)")
+    d.add_argument("--floor-angle", type=_finite("--floor-angle"), default=0.0,
+                   help="[deg] floor inclination, positive where the floor falls towards +x, "
+                   f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
+                   "vy are then in floor coordinates, heights normal to the floor")
+    d.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=10, help="impacts to follow (default 10)")
+    _merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
     d.add_argument("--csv", type=Path, default=None, help="write the impact table to this CSV file")
@@ -126,16 +170,16 @@ def build_parser():
                        "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
-    b.add_argument("--impacts", type=_positive_int("--impacts"), default=3, help="impacts per drop (default 3)")
+    b.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=3, help="impacts per drop (default 3)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
-    b.add_argument("--merge-ms", type=_finite("--merge-ms"), default=10.0, help="[ms] bounce grouping (default 10)")
+    _merge_window_options(b)
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
     n = sub.add_parser("bench", help="time the kernel on the benchmark population")
-    n.add_argument("--drops", type=_positive_int("--drops"), default=200_000, help="drops to time (default 200000)")
-    n.add_argument("--jobs", type=_positive_int("--jobs"), default=1, help="worker processes (default 1)")
+    n.add_argument("--drops", type=_positive_int("--drops", 1, BENCH_DROPS), default=200_000, help="drops to time (default 200000)")
+    n.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=1, help="worker processes (default 1)")
     n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported")
     n.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -185,13 +229,14 @@ def _user_value_errors(call):
 
 def cmd_drop(args):
     """``hopscape drop``: one drop, its impacts and bounces as tables, three pictures."""
+    from .quantities import radians_within_one_turn
     from hopscape import sim
     from hopscape.sim.limits import MASS
     from .batch import impact_table
+    from .quantities import QUANTITIES
     from .report_text import drop_report
 
-    if args.merge_ms < 0:
-        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    merge_window = _merge_window(args)
     radius = 0.0035 if args.radius is None else args.radius
 
     def build():
@@ -206,8 +251,9 @@ def cmd_drop(args):
             shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density, **further)
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
-        release = sim.Release(height=args.height, angle=np.radians(args.angle), spin=args.spin,
-                              vx=args.vx, vy=args.vy, reference=args.height_of)
+        floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
+        release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
+                              vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
         result = sim.simulate(shape, release, contact, impacts=args.impacts)
         return shape, result
@@ -219,11 +265,11 @@ def cmd_drop(args):
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
-    bounces = sim.group_bounces(result, args.merge_ms / 1e3)
+    bounces = sim.group_bounces(result, merge_window)
     print(drop_report(shape, result, bounces, args.reference))
     if args.csv is not None:
         from .batch import write_table
-        write_table(impact_table(result, args.merge_ms / 1e3), args.csv)
+        write_table(impact_table(result, merge_window), args.csv)
         print(f"\nimpact table written to {args.csv}")
     if not args.no_plots:
         from . import plots
@@ -241,16 +287,18 @@ def cmd_batch(args):
     """``hopscape batch``: many drops from a table, one output row per drop and impact."""
     from .batch import read_table, run_batch, write_table
 
-    if args.merge_ms < 0:
-        raise InputError(f"--merge-ms must be >= 0, got {args.merge_ms}")
+    merge_window = _merge_window(args)
+    refuse_overwriting_input(args.out, args.drops)
     frame = read_table(args.drops)
+    if frame.empty:
+        raise InputError(f"{args.drops} holds no drops (only a header?); nothing to simulate")
     from .batch import INPUT_COLUMNS
     unknown = [c for c in frame.columns if c not in INPUT_COLUMNS]
     if unknown:
         print(f"hopscape: note: ignoring column(s) {', '.join(map(str, unknown))} (known: {', '.join(INPUT_COLUMNS)})",
               file=sys.stderr)
     start = time.perf_counter()
-    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=args.merge_ms / 1e3,
+    table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=merge_window,
                       warn=lambda lines: report_warnings(lines, args.strict))
     elapsed = time.perf_counter() - start
     write_table(table, args.out)

@@ -31,7 +31,8 @@ def register(sub):
     run.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
     run.add_argument("--out", type=Path, default=None, help="run folder (default runs/<name>)")
     run.add_argument("--fresh", action="store_true", help="discard earlier results in the run folder")
-    run.add_argument("--jobs", type=int, default=None, help="override run.jobs")
+    from .cli import _declared_int
+    run.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=None, help="override run.jobs")
     run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None)
     run.add_argument("--scheduler", default=None, help="address of a Dask scheduler (implies --backend dask)")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
@@ -132,8 +133,8 @@ def cmd_run(args):
     path = find_study(args.study)
     study = load_study(path)
     report_warnings(study.warnings, args.strict)
-    if args.jobs is not None and args.jobs < 1:
-        raise InputError(f"--jobs must be >= 1, got {args.jobs}")
+    if args.out is not None and args.out.exists() and not args.out.is_dir():
+        raise InputError(f"--out {args.out} is a file; the run folder must be a folder (nothing was written)")
     out = args.out or Path("runs") / study.name
     start = time.perf_counter()
     outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,

@@ -27,3 +27,16 @@ class InputError(Exception):
             messages = [messages]
         self.messages = list(messages)
         super().__init__("\n".join(self.messages))
+
+
+#: Longest value shown in a message [characters]: a 98 KB value must not
+#: become a 98 KB error line.
+SHOWN_CHARACTERS = 60
+
+
+def shown(value):
+    """A value as a message shows it: its repr, cut to :data:`SHOWN_CHARACTERS`."""
+    text = repr(value)
+    if len(text) <= SHOWN_CHARACTERS:
+        return text
+    return f"{text[:SHOWN_CHARACTERS - 10]}... ({len(text):,} characters)"

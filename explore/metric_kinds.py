@@ -28,9 +28,13 @@ class Outcome:
         Rebound ratio of each visible bounce of the reference point (peak
         height / its release height), shape (drops, bounces); 0 where a drop
         had fewer bounces. [-]
+    heights : numpy.ndarray, optional
+        Peak height of each visible bounce of the reference point above the
+        floor, same shape; 0 where a drop had fewer bounces. [m]
     """
 
     ratios: np.ndarray
+    heights: np.ndarray = None
 
     @property
     def best_later(self):
@@ -46,6 +50,14 @@ class Outcome:
         if bounce == "first":
             return self.ratios[:, 0]
         return self.ratios[:, int(bounce) - 1]
+
+    def height_of(self, bounce):
+        """Peak height of ``bounce`` (``"later"``: the highest later one) [m]."""
+        if bounce == "later":
+            return self.heights[:, 1:].max(axis=1) if self.heights.shape[1] > 1 else np.zeros(len(self.heights))
+        if bounce == "first":
+            return self.heights[:, 0]
+        return self.heights[:, int(bounce) - 1]
 
     @property
     def beats_release(self):
@@ -83,6 +95,9 @@ class MetricKind:
         Whether ``metric.threshold`` decides the event.
     uses_bounce : bool
         Whether ``metric.bounce`` chooses what is measured.
+    uses_limit : bool
+        Whether ``metric.limit`` (a height [m]) decides the event; the study
+        file then requires it, and refuses it for the other kinds.
     """
 
     name: str
@@ -92,12 +107,15 @@ class MetricKind:
     words: Callable
     uses_threshold: bool = False
     uses_bounce: bool = False
+    uses_limit: bool = False
 
     def event(self, value, metric):
-        """The event per drop from its value: above the threshold, or the flag."""
+        """The event per drop from its value: above the threshold or the
+        limit, or the flag."""
         value = np.asarray(value, dtype=float)
+        level = metric.threshold if self.uses_threshold else metric.limit if self.uses_limit else 0.5
         with np.errstate(invalid="ignore"):
-            return value > (metric.threshold if self.uses_threshold else 0.5)
+            return value > level
 
 
 def _ratio_words(metric):
@@ -127,6 +145,14 @@ METRIC_KINDS = {kind.name: kind for kind in (
         words=lambda metric: (f"best later bounce / first bounce ({POINT_WORDS[metric.reference]} heights)",
                               f"a later bounce rises above {metric.threshold:g} x the first "
                               f"({POINT_WORDS[metric.reference]})")),
+    MetricKind(
+        "clears", "a bounce's peak height above the floor [m] against a limit (a chute lip, a guard)",
+        is_flag=False, uses_bounce=True, uses_limit=True,
+        value=lambda outcome, metric: outcome.height_of(metric.bounce),
+        words=lambda metric: (f"peak height of the {POINT_WORDS[metric.reference]} in the "
+                              f"{_bounce_words(metric.bounce)} [m]",
+                              f"the {POINT_WORDS[metric.reference]} clears {metric.limit * 1e3:g} mm in the "
+                              f"{_bounce_words(metric.bounce)}")),
     MetricKind(
         "beats_first", "a later bounce rises above the first",
         is_flag=True,

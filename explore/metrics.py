@@ -17,11 +17,16 @@ Metric columns (one row per drop):
 ``event``
     the metric's event: value above ``metric.threshold``, or the flag.
 ``energy_bound_ratio``
-    highest the centre could ever rise / release height of the centre [-].
+    highest the centre could ever rise / release height of the centre [-];
+    NaN on an inclined floor, where sliding downhill can bring energy in.
 ``energy_gain``
     some impact created energy (Newton's law only).
 ``status``
-    impacts | settled | resting | failed | inside floor.
+    impacts | settled | contact | could_vault | failed | inside floor
+    (:mod:`sim.drop`).
+
+Heights and ratios are measured normal to the floor (``floor_angle``, 0
+where the study does not give it).
 """
 from __future__ import annotations
 
@@ -31,6 +36,7 @@ import pandas as pd
 from hopscape import sim
 
 from .metric_kinds import METRIC_KINDS, Outcome
+from .quantities import radians_within_one_turn
 from .study import COLUMN, Study
 
 
@@ -48,12 +54,13 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     impacts = study.run.impacts
     out = frame.reset_index(drop=True).copy()
     shape = _shape(study, out)
-    angle = np.radians(out[COLUMN["angle"]].to_numpy())
+    angle = radians_within_one_turn(out[COLUMN["angle"]].to_numpy())
     height = out[COLUMN["height"]].to_numpy()
     centre = height + (shape.depth(angle) if study.release.height_of == "bottom" else 0.0)
     inside = centre - shape.depth(angle) <= 0
     ok = ~inside
     ratios = np.zeros((n, impacts))
+    heights = np.zeros((n, impacts))
     bound = np.full(n, np.nan)
     gain = np.zeros(n, bool)
     status = np.full(n, "inside floor", dtype=object)
@@ -63,19 +70,22 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
         part = _shape(study, out.iloc[idx])
         release = sim.Release(height=centre[idx], angle=angle[idx],
                               spin=out[COLUMN["spin"]].to_numpy()[idx],
-                              vx=out[COLUMN["vx"]].to_numpy()[idx], vy=out[COLUMN["vy"]].to_numpy()[idx])
+                              vx=out[COLUMN["vx"]].to_numpy()[idx], vy=out[COLUMN["vy"]].to_numpy()[idx],
+                              floor_angle=np.radians(out[COLUMN["floor_angle"]].to_numpy()[idx])
+                              if COLUMN["floor_angle"] in out else 0.0)
         contact = sim.Contact(out[COLUMN["restitution"]].to_numpy()[idx],
                               out[COLUMN["friction"]].to_numpy()[idx], study.contact.law)
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1))
-        b = sim.group_bounces(result, study.run.merge_ms / 1e3)
+        b = sim.group_bounces(result, study.run.merge_window)
         ratios[idx] = np.nan_to_num(b.ratio[study.metric.reference], nan=0.0)
+        heights[idx] = np.nan_to_num(b.height[study.metric.reference], nan=0.0)
         bound[idx] = result.energy_bound / result.release_height("centre")
         gain[idx] = result.energy_gain.any(axis=1)
         status[idx] = np.asarray(sim.STATUS, dtype=object)[result.status]
         bounces_seen[idx] = b.count
     metric = study.metric
     kind = METRIC_KINDS[metric.kind]
-    outcome = Outcome(ratios)
+    outcome = Outcome(ratios, heights)
     best_later, beats_release, beats_first = outcome.best_later, outcome.beats_release, outcome.beats_first
     value = np.where(inside, np.nan, kind.value(outcome, metric))
     event = kind.event(value, metric)

@@ -27,6 +27,7 @@ import pandas as pd
 
 from .distributions import Distribution
 from .sensitivity import METHODS, plan_values
+from .quantities import radians_within_one_turn
 from .study import COLUMN, QUANTITIES, Study, grid_cells
 
 #: Random stream of each stage: fixed numbers, the sensitivity methods' from
@@ -35,7 +36,7 @@ _STREAM = {"grid": 1, "robust": 2, **{name: method.stream for name, method in ME
 STAGES = tuple(_STREAM)
 
 
-def distribution(name, q) -> Distribution:
+def distribution(name, q, allowed=None) -> Distribution:
     """The distribution a quantity is drawn from (a grid counts as uniform).
 
     Parameters
@@ -44,6 +45,9 @@ def distribution(name, q) -> Distribution:
         The quantity's name (a key of ``explore.study.QUANTITIES``).
     q : explore.study.Quantity
         Its validated setting: a grid or a distribution.
+    allowed : sim.limits.Interval, optional
+        The range a normal is truncated to (:meth:`Study.allowed`: the
+        quantity's range and the body's own); the quantity's range if None.
 
     Returns
     -------
@@ -56,7 +60,8 @@ def distribution(name, q) -> Distribution:
     ValueError
         For a fixed quantity, which has no distribution.
     """
-    low, high = QUANTITIES[name].allowed.low, QUANTITIES[name].allowed.high
+    allowed = QUANTITIES[name].allowed if allowed is None else allowed
+    low, high = allowed.low, allowed.high
     if q.grid is not None:
         return Distribution("uniform", low=q.grid.low, high=q.grid.high, mean=None, sd=None)
     if q.uniform is not None:
@@ -119,7 +124,7 @@ def _fill(study, n, rng, values):
         elif q.kind == "fixed":
             out[COLUMN[name]] = np.full(n, q.value)
         elif q.kind != "grid":
-            out[COLUMN[name]] = distribution(name, q).ppf(rng.random(n))
+            out[COLUMN[name]] = distribution(name, q, study.allowed(name)).ppf(rng.random(n))
     return out
 
 
@@ -230,7 +235,7 @@ def sensitivity_frame(study: Study, plan) -> pd.DataFrame:
         and a column per quantity (plan values for the varying ones, the
         fixed values for the rest). [units of the columns' names]
     """
-    dists = {name: distribution(name, study.quantity(name)) for name in plan.names}
+    dists = {name: distribution(name, study.quantity(name), study.allowed(name)) for name in plan.names}
     values = plan_values(plan, dists)
     frame = {"sample": np.arange(plan.rows)}
     frame.update(_fill(study, plan.rows, _rng(study, plan.method), values))
@@ -268,6 +273,26 @@ def build_stages(study: Study):
         frame.update(_fill(study, n, _rng(study, "grid"), {}))
         stages["grid"] = pd.DataFrame(frame)
     return stages, plan
+
+
+def inside_floor(study: Study, frame: pd.DataFrame):
+    """Which rows of a stage table start touching or inside the floor (they
+    are not simulated): the centre no higher than the lowest point's depth
+    below it. A height given to the lowest point never is.
+
+    Returns
+    -------
+    numpy.ndarray of bool
+    """
+    if study.release.height_of == "bottom":
+        return np.zeros(len(frame), bool)
+
+    def column(name):
+        return frame[COLUMN[name]].to_numpy() if COLUMN[name] in frame else None
+
+    shape = study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
+                                  length=column("length"))
+    return column("height") - shape.depth(radians_within_one_turn(column("angle"))) <= 0
 
 
 def count_drops(study: Study):

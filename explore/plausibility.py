@@ -137,6 +137,8 @@ def study_warnings(study):
     low_height, high_height = study.release.height.span()
     judge(("release", "height"), [high_height], lambda h: height_problem(h, size))
     judge(("tolerance", "height"), [study.tolerance.height], lambda t: tolerance_problem(t, low_height))
+    if study.metric.limit is not None:   # a height too: a lip of 12 "m" is 12 mm
+        judge(("metric", "limit"), [study.metric.limit], PLAUSIBLE["height"].problem)
     return found
 
 

@@ -80,7 +80,11 @@ def energy(result, drop=0, path=None, samples=2000):
     times = np.unique(np.concatenate([np.linspace(0, end, samples), impact_times - 1e-9, impact_times]))
     hist = sim.history(result, drop, times)
     fig, ax = plt.subplots(figsize=(9, 4.5), constrained_layout=True)
-    ax.plot(times * MS, hist["potential"] * MJ, color=OKABE_ITO["blue"], label="potential (centre height)")
+    # on an inclined floor the potential counts the along-floor drop too, and
+    # falls below zero downhill (sim.DropResult.energy_before)
+    tilted = bool(result.gravity_along[drop] != 0)
+    ax.plot(times * MS, hist["potential"] * MJ, color=OKABE_ITO["blue"],
+            label="potential (height and distance downhill)" if tilted else "potential (centre height)")
     ax.plot(times * MS, hist["translational"] * MJ, color=OKABE_ITO["orange"], label="translational")
     ax.plot(times * MS, hist["rotational"] * MJ, color=OKABE_ITO["green"], label="rotational")
     ax.plot(times * MS, hist["total"] * MJ, color="k", lw=1.6, label="total")
@@ -89,7 +93,7 @@ def energy(result, drop=0, path=None, samples=2000):
     ax.set_xlabel("time since release [ms]")
     ax.set_ylabel("energy [mJ]")
     ax.set_xlim(0, end * MS)
-    ax.set_ylim(bottom=0)
+    ax.set_ylim(bottom=min(0.0, float(np.nanmin(hist["potential"])) * MJ * 1.05))
     ax.legend(fontsize=8, loc="upper right")
     ax.set_title("Energy exchange: impacts move energy between falling, spin and lift")
     return _finish(fig, path)
@@ -111,7 +115,9 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     for i, r in zip(idx, ratios):
         ax.annotate(f"{r:.2f}", (i, heights[i - 1] * MM), ha="center", va="bottom", fontsize=8)
     ax.axhline(release * MM, color=OKABE_ITO["blue"], ls="--", label=f"release height of the {POINT[reference]} (ratio 1)")
-    if reference == "centre":
+    # no energy bound on an inclined floor (NaN): nothing to draw
+    bound = float(result.energy_bound[drop]) if reference == "centre" else np.nan
+    if np.isfinite(bound):
         ax.axhline(result.energy_bound[drop] * MM, color=OKABE_ITO["red"], ls=":",
                    label="energy bound: highest the centre could ever rise")
     import matplotlib.patches as mpatches
@@ -119,12 +125,12 @@ def bounce_heights(result, bounces, drop=0, reference="centre", path=None):
     handles += [mpatches.Patch(color=OKABE_ITO["orange"], label="above the release height"),
                 mpatches.Patch(color=OKABE_ITO["sky"], label="below the release height")]
     ax.set_xticks(idx)
-    ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:.0f} ms merged)")
+    ax.set_xlabel(f"bounce (impacts closer than {bounces.merge_within * MS:g} ms merged)")
     ax.set_ylabel(f"peak height of the {POINT[reference]} [mm]")
     ax.set_title("Bounce heights (numbers: rebound ratio)")
     ax.legend(handles=handles, fontsize=8, loc="upper right")
     ax.set_ylim(0, max(release, float(np.nanmax(heights[:count])) if count else release,
-                       result.energy_bound[drop] if reference == "centre" else 0) * MM * 1.15)
+                       bound if np.isfinite(bound) else 0) * MM * 1.15)
     return _finish(fig, path)
 
 

@@ -12,6 +12,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from hopscape.sim.limits import RESTITUTION, Interval
 
 
@@ -69,6 +71,8 @@ QUANTITIES = {spec.name: spec for spec in (
     QuantitySpec("spin", "release", "rad/s", "release spin", _rig(-1e6, 1e6, "rad/s")),
     QuantitySpec("vx", "release", "m/s", "release velocity x", _rig(-100.0, 100.0, "m/s")),
     QuantitySpec("vy", "release", "m/s", "release velocity y", _rig(-100.0, 100.0, "m/s")),
+    # positive: the floor falls towards +x; heights are then normal to the floor
+    QuantitySpec("floor_angle", "release", "deg", "floor inclination", _rig(-60.0, 60.0, "deg")),
 )}
 
 #: Column name of each quantity in result tables (the unit in the name).
@@ -78,3 +82,14 @@ COLUMN = {name: spec.column for name, spec in QUANTITIES.items()}
 def label(name):
     """Axis label with unit of quantity ``name``, e.g. ``release angle [deg]``."""
     return QUANTITIES[name].label
+
+
+def radians_within_one_turn(degrees):
+    """Degrees to radians, reduced to one turn first where they exceed it.
+
+    ``fmod`` by 360 is exact in floating point, so an angle of 1e20 deg
+    gives exactly the answer of its reduced form; angles within one turn
+    are converted untouched (bit for bit as before).
+    """
+    degrees = np.asarray(degrees, dtype=float)
+    return np.radians(np.where(np.abs(degrees) > 360.0, np.fmod(degrees, 360.0), degrees))

@@ -177,7 +177,7 @@ def write_report(outcome, art, seconds) -> Path:
     parts += ["<h2>Study</h2>", _table(summary),
               f"<p>Metric: <b>{html.escape(value_words)}</b>; event: {html.escape(event_words)}; goal: "
               f"{'seek it' if study.metric.goal == 'seek' else 'avoid it'}. Up to {study.run.impacts} impacts per drop; "
-              f"impacts less than {study.run.merge_ms:g} ms apart count as one visible bounce."
+              f"impacts less than {study.run.merge_window * 1e3:g} ms apart count as one visible bounce."
               + (f" Release tolerance: {html.escape(tolerance_text(study))}." if tolerated else "") + "</p>",
               f"<div class=note><b>Which heights can beat the release height, and why.</b> "
               f"{html.escape(energy_note(study))}{html.escape(bound)} the lowest point starts below the centre when "

@@ -46,6 +46,24 @@ def table(headers, rows):
     return "\n".join(lines)
 
 
+def _energy_bound_text(result):
+    """The energy bound of drop 0, and whether its impact law keeps to it."""
+    from hopscape.sim.impact import LAW_TABLE
+    law = LAW_TABLE[int(result.release["law"][0])]
+    if not np.isfinite(result.energy_bound[0]):
+        return (f"floor inclined by {np.degrees(float(result.release['floor_angle'][0])):g} deg: heights are "
+                "measured normal to the floor, and there is no energy bound (moving downhill the body can gain "
+                "energy).")
+    text = (f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
+            "(total energy / m g) as long as no impact creates energy; from rest that is the release height, so "
+            "only spin or a throw lets the centre beat it, while the lowest point can, because at release it "
+            "hangs below the centre.")
+    if law.creates_energy:
+        text += (f" The {law.name} law can create energy (with slip reversal or stick), so under it the bound "
+                 "does not hold.")
+    return text
+
+
 def drop_report(shape, result, bounces, reference="centre"):
     """Impacts, visible bounces and the energy bound of one drop, as text.
 
@@ -106,19 +124,22 @@ def drop_report(shape, result, bounces, reference="centre"):
         brows.append([b + 1, ",".join(map(str, members)),
                       *(f"{bounces.height[r][0, b] * 1e3:.2f}" for r in sim.REFERENCES),
                       f"{bounces.ratio[reference][0, b]:.3f}"])
-    out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:.0f} ms apart merged)",
+    out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:g} ms apart merged)",
             table(["bounce", "impacts", "centre [mm]", "bottom [mm]", "top [mm]", f"ratio ({reference})"], brows)]
     status = sim.STATUS[int(result.status[0])]
     out += ["",
             f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "
             f"top {rel['top'] * 1e3:.2f} mm",
-            f"energy bound: the centre can never rise above {float(result.energy_bound[0]) * 1e3:.2f} mm "
-            "(total energy / m g); from rest that is the release height, so only spin or a throw lets the "
-            "centre beat it, while the lowest point can, because at release it hangs below the centre.",
+            _energy_bound_text(result),
             f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
             f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
             f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
             f"the drop ended after {n} impact(s): " + {"impacts": "the impact limit (--impacts) was reached",
-                                                       "settled": "it settled", "resting": "it came to rest in contact",
+                                                       "settled": "it settled",
+                                                       "contact": "sustained contact began (restitution 0): it now "
+                                                       "pivots or slides on the floor, which this model does not follow",
+                                                       "could_vault": "sustained contact began while its centre still "
+                                                       "rose with over a tenth of its energy: it may vault into a new "
+                                                       "flight that this model does not follow",
                                                        "failed": "the contact search failed"}[status]]
     return "\n".join(out)

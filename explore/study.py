@@ -22,8 +22,9 @@ from pydantic import (BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
 from hopscape import sim
-from hopscape.sim.limits import number_text
+from hopscape.sim.limits import Interval, number_text
 
+from .errors import shown
 from .metric_kinds import METRIC_KINDS
 from .quantities import COLUMN, QUANTITIES, label
 from .sensitivity import METHOD_NAMES, METHODS
@@ -34,7 +35,7 @@ __all__ = ["COLUMN", "QUANTITIES", "Study", "label", "load_study", "parse_study"
 class Strict(BaseModel):
     """Base of every study model: unknown fields are errors; values are frozen."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, strict=True, allow_inf_nan=False)
 
 
 class Uniform(Strict):
@@ -85,12 +86,12 @@ class Quantity(Strict):
     def _number_is_fixed(cls, data):
         if isinstance(data, bool):
             raise ValueError(f"must be a number or a mapping with one of value, grid, uniform, normal, "
-                             f"log_uniform; got {data!r}")
+                             f"log_uniform; got {shown(data)}")
         if isinstance(data, (int, float)):
             return {"value": data}
         if not isinstance(data, dict):
             raise ValueError("must be a number, or a mapping with one of grid, uniform, normal, log_uniform "
-                             f"(see `hopscape new`); got {data!r}")
+                             f"(see `hopscape new`); got {shown(data)}")
         return data
 
     @model_validator(mode="after")
@@ -144,6 +145,21 @@ def _problems(title, problems):
         InitErrorDetails(type=PydanticCustomError("study", "{message}", {"message": message}), loc=tuple(loc),
                          input=None)
         for loc, message in problems])
+
+
+def declared_range(field):
+    """The :class:`sim.limits.Interval` a pydantic field declares with
+    ``ge``/``gt``/``le``/``lt`` (None if it declares none), so that the
+    study file, the command line and their messages share one range."""
+    if isinstance(field, tuple):     # (model, field name)
+        field = field[0].model_fields[field[1]]
+    bounds = {name: getattr(meta, name) for meta in field.metadata for name in ("ge", "gt", "le", "lt")
+              if getattr(meta, name, None) is not None}
+    if not bounds:
+        return None
+    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
+    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
+                    closed=closed["gt" not in bounds, "lt" not in bounds])
 
 
 def _quantity_field(name, *default):
@@ -215,7 +231,9 @@ class Contact(_Section):
 
 class Release(_Section):
     """How the body leaves the rig: height (of the centre or the lowest
-    point), angle, spin and velocity."""
+    point), angle, spin and velocity, and the floor's inclination
+    (``floor_angle``, positive where the floor falls towards +x; the height
+    is then normal to the floor and the angle from the floor line)."""
 
     height: Quantity = _quantity_field("height")
     height_of: Literal["centre", "bottom"] = Field("centre", description="the point the height is measured to")
@@ -223,23 +241,39 @@ class Release(_Section):
     spin: Quantity = _quantity_field("spin", Quantity(value=0.0))
     vx: Quantity = _quantity_field("vx", Quantity(value=0.0))
     vy: Quantity = _quantity_field("vy", Quantity(value=0.0))
+    # absent: a level floor (0 deg); heights, vx and vy are then in floor coordinates
+    floor_angle: Optional[Quantity] = _quantity_field("floor_angle", None)
 
 
 class Metric(Strict):
     """What counts in each drop (:data:`explore.metric_kinds.METRIC_KINDS`)."""
 
-    kind: Literal[tuple(METRIC_KINDS)] = Field("ratio", description="metric kind")
+    kind: Literal[tuple(METRIC_KINDS)] = Field("ratio", description=f"metric kind: {' | '.join(METRIC_KINDS)}")
     bounce: Union[int, str] = Field("later", description="'later' (best later bounce), 'first' or a bounce number")
-    reference: Literal[tuple(sim.REFERENCES)] = Field("centre", description="the point whose height counts")
+    reference: Literal[tuple(sim.REFERENCES)] = Field("centre", description=f"the point whose height counts: "
+                                                                        f"{' | '.join(sim.REFERENCES)}")
     goal: Literal["seek", "avoid"] = Field("seek", description="whether the event is wanted or to be avoided")
     threshold: float = Field(default=1.0, gt=0, le=10, description="event: value above this [-]")
+    limit: Optional[float] = Field(default=None, gt=0, le=100,
+                                   description="kind clears: the height the reference point must rise above [m]")
+
+    @model_validator(mode="after")
+    def _limit_fits_the_kind(self):
+        kind = METRIC_KINDS[self.kind]
+        if kind.uses_limit and self.limit is None:
+            raise _problems("metric", [(("limit",), f"kind {self.kind} needs limit, the height to clear [m]")])
+        if not kind.uses_limit and self.limit is not None:
+            users = ", ".join(name for name, k in METRIC_KINDS.items() if k.uses_limit)
+            raise _problems("metric", [(("limit",), f"limit is used only by kind {users}; remove it or change "
+                                                    "the kind")])
+        return self
 
     @field_validator("bounce", mode="before")
     @classmethod
     def _bounce(cls, v):
         if v in ("later", "first") or (isinstance(v, int) and not isinstance(v, bool) and v >= 1):
             return v
-        raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {v!r}")
+        raise ValueError(f"must be 'later', 'first' or a bounce number >= 1, got {shown(v)}")
 
 
 _FORMATS = Field(["png"], description="picture file formats")
@@ -319,7 +353,22 @@ class RunSettings(Strict):
     seed: int = Field(default=1, ge=1, le=2 ** 32 - 1, description="seed of every random draw")
     impacts: int = Field(default=6, ge=1, le=50, description="impacts followed per drop")
     merge_ms: float = Field(default=10.0, ge=0, le=1000,
-                            description="impacts closer than this are one visible bounce [ms]")
+                            description="impacts closer than this are one visible bounce [ms] (10 ms is what a "
+                                        "camera at 100 frames per second merges)")
+    camera_fps: Optional[float] = Field(default=None, gt=0, le=1e7,
+                                        description="instead of merge_ms: your camera's frame rate [1/s]; impacts "
+                                                    "closer than one frame interval are one visible bounce")
+
+    @model_validator(mode="after")
+    def _one_merge_window(self):
+        if self.camera_fps is not None and "merge_ms" in self.model_fields_set:
+            raise _problems("run", [(("camera_fps",), "give camera_fps or merge_ms, not both")])
+        return self
+
+    @property
+    def merge_window(self):
+        """Impacts closer than this are one visible bounce [s]."""
+        return 1.0 / self.camera_fps if self.camera_fps is not None else self.merge_ms / 1e3
 
 
 #: The sections of a study file that hold settings.
@@ -337,10 +386,12 @@ class Study(Strict):
                       description="name of the study and of its run folder")
     description: str = Field("", description="what the study is for, in a sentence")
     _warnings: tuple = PrivateAttr(default=())
-    body: Body
-    contact: Contact
-    release: Release
-    metric: Metric = Metric()
+    body: Body = Field(description=f"the body: shape ({' | '.join(sim.SHAPES)}), diameter, and aspect_ratio "
+                                   "or length")
+    contact: Contact = Field(description="the floor contact: restitution and friction (law optional)")
+    release: Release = Field(description="the release: height and angle (spin, vx, vy optional)")
+    metric: Metric = Field(Metric(), description=f"what counts in each drop: kind ({' | '.join(METRIC_KINDS)}) and "
+                                       f"reference ({' | '.join(sim.REFERENCES)})")
     tolerance: Tolerance = Tolerance()
     analyses: Analyses = Analyses()
     run: RunSettings = RunSettings()
@@ -363,6 +414,16 @@ class Study(Strict):
     def quantity(self, name):
         """The :class:`Quantity` called ``name`` (None where not given)."""
         return getattr(getattr(self, QUANTITIES[name].section), name)
+
+    def allowed(self, name):
+        """The range quantity ``name`` may take in this study: its declared
+        range narrowed by the body's own (a capsule's aspect ratio is at
+        least 1; a cylinder's length is above 0). Draws are kept inside it."""
+        allowed = QUANTITIES[name].allowed
+        shape = sim.SHAPES[self.body.shape]
+        own = {"aspect_ratio": shape.aspect_ratio_allowed,
+               "length": shape.dimension("length").allowed if shape.has_length() else None}.get(name)
+        return allowed if own is None else allowed.intersection(own)
 
     def quantities(self):
         """All quantities given (name -> Quantity), in a fixed order."""
@@ -452,19 +513,30 @@ def contradictions(sections):
     if metric is not None and run is not None and isinstance(metric.bounce, int) and metric.bounce > run.impacts:
         problems.append((("metric", "bounce"), f"bounce {metric.bounce} can never be seen with run.impacts "
                          f"{run.impacts}; raise run.impacts"))
+    if metric is not None and run is not None and metric.bounce == "later" and run.impacts < 2:
+        problems.append((("metric", "bounce"), f"a later bounce needs at least 2 impacts, got run.impacts "
+                         f"{run.impacts}; raise run.impacts or use bounce: first"))
     if run is not None and run.scheduler is not None and run.backend != "dask":
         problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
     return problems
 
 
-def check_size(study: Study):
-    """Problems of size (the grid stage's drops over the limit), as (location, message)."""
-    cells = grid_cells(study)
-    total = cells * max(study.analyses.draws if study.random() else 1, 1)
-    if total > 20_000_000:
-        return [(("analyses", "draws"), f"the grid needs {total:,} drops (over the 20,000,000 limit); "
-                 "use fewer steps or draws")]
-    return []
+#: Most drops a study may ask for, over all its stages.
+MAX_DROPS = 20_000_000
+
+
+def check_size(study: Study, counts):
+    """Problems of size, as (location, message): every stage's drops
+    (``counts``, from :func:`explore.plan.count_drops`) together over
+    :data:`MAX_DROPS`."""
+    total = sum(counts.values())
+    if total <= MAX_DROPS:
+        return []
+    biggest = max(counts, key=counts.get)
+    where = {"grid": ("analyses", "draws"), "robust": ("tolerance", "draws")}.get(biggest, ("analyses", "sensitivity"))
+    listing = ", ".join(f"{stage} {n:,}" for stage, n in counts.items())
+    return [(where, f"the study needs {total:,} drops ({listing}), over the {MAX_DROPS:,} limit; use fewer grid "
+             f"steps or draws (the {biggest} stage is the largest)")]
 
 
 def grid_cells(study):

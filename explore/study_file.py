@@ -7,7 +7,6 @@ two are joined here. Also the commented template ``hopscape new`` writes.
 """
 from __future__ import annotations
 
-import math
 import string
 from importlib import resources
 from pathlib import Path
@@ -18,26 +17,28 @@ from ruamel.yaml.error import MarkedYAMLError
 
 from hopscape import sim
 from hopscape.sim.impact import LAW_TABLE
-from hopscape.sim.limits import Interval
 
-from .errors import InputError
+from .errors import InputError, shown
 from .metric_kinds import METRIC_KINDS
 from .plausibility import study_warnings
-from .study import SECTIONS, Study, check_size, contradictions
+from .study import SECTIONS, Study, check_size, contradictions, declared_range
 
 
 def _sections_alone(plain):
-    """The sections of a study file that validate on their own."""
+    """The sections of a study file that validate on their own (a section
+    left out counts with its default, when it has one)."""
     out = {}
     for name in SECTIONS:
-        model = Study.model_fields[name].annotation
+        field = Study.model_fields[name]
         value = plain.get(name) if isinstance(plain, dict) else None
+        if value is None:
+            if not field.is_required() and field.default is not None:
+                out[name] = field.default
+            continue
         try:
-            out[name] = model.model_validate(value) if value is not None else Study.model_fields[name].default
+            out[name] = field.annotation.model_validate(value)
         except ValidationError:
             continue
-        if out[name] is None:
-            del out[name]
     return out
 
 
@@ -114,6 +115,17 @@ def _loc_text(loc):
     return "".join(parts) or "(top level)"
 
 
+#: Largest study file read [bytes]. A study is a few kilobytes; a file far
+#: larger is a mistake (or an attack on the parser), refused before parsing.
+MAX_BYTES = 256 * 1024
+#: Deepest nesting of mappings and lists; a study needs four levels.
+MAX_DEPTH = 12
+#: Most YAML tokens (keys, values, brackets) a study file may hold; the
+#: example studies hold about 300. Counting stops here, so a file of huge
+#: lists is refused in a fraction of a second instead of parsed for seconds.
+MAX_TOKENS = 5000
+
+
 def load_study(path) -> Study:
     """Read and validate a study file; raise :class:`InputError` with every
     problem as ``file:line:col: field: message``."""
@@ -121,10 +133,57 @@ def load_study(path) -> Study:
     if not path.is_file():
         raise InputError(f"{path}: no such study file")
     try:
+        size = path.stat().st_size
+        if size > MAX_BYTES:
+            raise InputError(f"{path}:1:1: the study file is {size:,} bytes; a study file may hold at most "
+                             f"{MAX_BYTES:,} (is this the right file?)")
         text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read the study file ({exc})")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"{path}: the study file is not UTF-8 text (byte {exc.start})")
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read the study file ({exc.strerror or exc})")
     return parse_study(text, str(path))
+
+
+def _hostile(text, filename):
+    """Problems found before any YAML is built: size, control characters,
+    anchors and aliases (a few lines can expand to gigabytes), nesting
+    deeper than :data:`MAX_DEPTH`, more than :data:`MAX_TOKENS` tokens. The scanner reads tokens one by one and
+    builds nothing, so this is safe on any input."""
+    if len(text.encode("utf-8", "replace")) > MAX_BYTES:
+        return [f"{filename}:1:1: the study text is over {MAX_BYTES:,} bytes; a study file may hold at most that"]
+    for number, line in enumerate(text.splitlines(), 1):
+        bad = next((i for i, ch in enumerate(line) if (ord(ch) < 32 and ch != "\t") or ord(ch) == 127), None)
+        if bad is not None:
+            return [f"{filename}:{number}:{bad + 1}: control character {line[bad]!r} in the study file "
+                    "(only text, tabs and line breaks are allowed)"]
+    depth = 0
+    try:
+        for count, token in enumerate(YAML(typ="rt").scan(text)):
+            name = type(token).__name__
+            if count > MAX_TOKENS:
+                return [f"{mark_text(filename, token.start_mark)}: the study file holds over {MAX_TOKENS:,} YAML "
+                        "keys, values and brackets; a study needs a few hundred (is this the right file?)"]
+            if name in ("AnchorToken", "AliasToken"):
+                mark = token.start_mark
+                return [f"{mark_text(filename, mark)}: YAML anchors and aliases (& and *) are not allowed in study "
+                        "files; write the value out"]
+            if name in ("BlockMappingStartToken", "BlockSequenceStartToken", "FlowMappingStartToken",
+                        "FlowSequenceStartToken"):
+                depth += 1
+                if depth > MAX_DEPTH:
+                    return [f"{mark_text(filename, token.start_mark)}: nested more than {MAX_DEPTH} levels deep; "
+                            "a study file needs four"]
+            elif name in ("BlockEndToken", "FlowMappingEndToken", "FlowSequenceEndToken"):
+                depth -= 1
+    except MarkedYAMLError:
+        return []   # the loader reports the syntax error with its place
+    return []
+
+
+def mark_text(filename, mark):
+    """``file:line:col`` of a YAML mark (1-based)."""
+    return f"{filename}:{mark.line + 1}:{mark.column + 1}"
 
 
 def parse_study(text, filename="<study>") -> Study:
@@ -147,6 +206,9 @@ def parse_study(text, filename="<study>") -> Study:
         With every problem at once, one ``file:line:col: field: message``
         line each.
     """
+    hostile = _hostile(text, filename)
+    if hostile:
+        raise InputError(hostile)
     yaml = YAML(typ="rt")
     yaml.version = (1, 2)
     yaml.allow_duplicate_keys = True
@@ -178,7 +240,20 @@ def parse_study(text, filename="<study>") -> Study:
         for loc, msg in contradictions(_sections_alone(plain)):
             line, col = _position(data, loc)
             found.append((line, col, f"{_loc_text(loc)}: {msg}"))
-    for loc, msg in (check_size(study) if study is not None else []):
+    inside_share = None
+    if study is not None:
+        from .plan import count_drops   # the planner needs the validated study
+        counts = count_drops(study)
+        size_problems = check_size(study, counts)
+        if not size_problems and counts.get("grid", 0) <= 2_000_000:
+            inside_share = _inside_share(study)
+            if inside_share == 1.0:
+                size_problems.append((("release", "height"), "every drop of the grid starts touching or inside "
+                                      "the floor (the centre is no higher than the body's lowest point below it); "
+                                      "raise the height or give height_of: bottom"))
+    else:
+        size_problems = []
+    for loc, msg in size_problems:
         line, col = _position(data, loc)
         found.append((line, col, f"{_loc_text(loc)}: {msg}"))
     messages += [f"{filename}:{line}:{col}: {text}" for line, col, text in sorted(set(found))]
@@ -188,10 +263,26 @@ def parse_study(text, filename="<study>") -> Study:
     for loc, message in study_warnings(study):
         line, col = _position(data, loc)
         warnings.append((line, col, f"{filename}:{line}:{col}: {_loc_text(loc)}: {message}"))
+    if inside_share:
+        line, col = _position(data, ("release", "height"))
+        warnings.append((line, col, f"{filename}:{line}:{col}: release.height: {inside_share:.0%} of the grid's "
+                                    "drops start touching or inside the floor and will not be simulated"))
     study._warnings = tuple(text for *_, text in sorted(warnings))
     return study
 
 
+def _inside_share(study):
+    """Share of the grid stage's drops that start inside the floor."""
+    from .plan import grid_frame, inside_floor
+    inside = inside_floor(study, grid_frame(study))
+    return float(inside.mean()) if inside.size else 0.0
+
+
+#: Pydantic's type errors in plain words (a study file's numbers are strict:
+#: true, false and quoted text are not numbers).
+_TYPE_WORDS = {"finite_number": "a finite number", "float_type": "a number", "float_parsing": "a number", "int_type": "a whole number",
+               "int_parsing": "a whole number", "int_from_float": "a whole number", "bool_type": "true or false",
+               "string_type": "text"}
 _BOUND_WORDS = {"greater_than_equal": "ge", "less_than_equal": "le", "greater_than": "gt", "less_than": "lt"}
 
 
@@ -212,20 +303,10 @@ def _field_info(loc):
 
 
 def _field_interval(loc):
-    """The :class:`sim.limits.Interval` declared (``ge``/``gt``/``le``/``lt``)
-    on the model field at ``loc``, so that its message reads like every
-    other range's; None where the field declares none."""
+    """The :class:`sim.limits.Interval` declared on the model field at
+    ``loc`` (:func:`declared_range`); None where the field declares none."""
     info = _field_info(loc)
-    if info is None:
-        return None
-    bounds = {name: getattr(meta, name) for meta in info.metadata for name in ("ge", "gt", "le", "lt")
-              if getattr(meta, name, None) is not None}
-    if not bounds:
-        return None
-    low_closed, high_closed = "gt" not in bounds, "lt" not in bounds
-    closed = {(True, True): "both", (True, False): "left", (False, True): "right", (False, False): "neither"}
-    return Interval(bounds.get("ge", bounds.get("gt", -math.inf)), bounds.get("le", bounds.get("lt", math.inf)),
-                    closed=closed[low_closed, high_closed])
+    return None if info is None else declared_range(info)
 
 
 def _message(err):
@@ -235,14 +316,19 @@ def _message(err):
         return "unknown field (check the spelling; `hopscape new` writes every field)"
     if kind == "missing":
         info = _field_info(tuple(err["loc"]))
+        if len(err["loc"]) == 1 and err["loc"][0] in SECTIONS:
+            return (f"the study has no {err['loc'][0]} section ({info.description}); `hopscape new` writes a "
+                    "complete study")
         return "required field is missing" + (f" ({info.description})" if info is not None and info.description
                                                else "")
+    if kind in _TYPE_WORDS:
+        return f"must be {_TYPE_WORDS[kind]}, got {shown(err['input'])}"
     if kind in _BOUND_WORDS:
         interval = _field_interval(tuple(err["loc"]))
         if interval is not None:
-            return f"must be {interval.describe()}, got {err['input']!r}"
+            return f"must be {interval.describe()}, got {shown(err['input'])}"
     if "input" in err and kind not in ("value_error", "study") and "got" not in msg:
-        return f"{msg}, got {err['input']!r}"
+        return f"{msg}, got {shown(err['input'])}"
     return msg
 
 

@@ -1,7 +1,10 @@
 """hopscape physics: exact, vectorised rigid-body drops onto a flat floor.
 
 Pure functions and small value classes; no file I/O and no printing.
-Conventions (everywhere): plane x (right), y (up), floor y = 0; SI units;
+Conventions (everywhere): plane x (right, along the floor), y (up, normal to
+the floor), floor y = 0, level or inclined by ``alpha``
+(``Release.floor_angle``, positive where the floor falls towards +x: gravity
+is then ``(g sin(alpha), -g cos(alpha))``); SI units;
 angles in radians here (degrees only at the user's edge); ``theta`` from +x
 to the symmetry axis and spin counter-clockwise positive.
 """

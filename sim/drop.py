@@ -1,6 +1,13 @@
 """Many drops at once: release, flights, impacts, until settled or K impacts.
 
-A drop is a rigid body released above the floor ``y = 0``. Each drop runs
+A drop is a rigid body released above the floor ``y = 0``, level or
+inclined (``Release.floor_angle``). Everything is computed in floor
+coordinates: x along the floor, y along its normal, so heights, peaks and
+rebound ratios are measured normal to the floor. On a floor inclined by
+``alpha`` (positive: the floor falls towards +x) gravity has the normal
+component ``g cos(alpha)`` and the along-floor component ``g sin(alpha)``,
+pointing to +x; flights stay parabolas and the impact is unchanged in
+form. Each drop runs
 through up to ``impacts`` impacts; between them the flight is exact
 (:mod:`sim.flight`; its end found by :mod:`sim.search`, its peaks by
 :mod:`sim.peaks`) and each impact is Routh's method (:mod:`sim.impact`).
@@ -14,13 +21,31 @@ When a drop ends early
     Its mechanical energy above the lowest resting energy ``m g d_min`` has
     fallen below ``settle_fraction`` (default 1e-4) of what it was at
     release: the remaining hops are under a ten-thousandth of the drop.
-``resting``
+``contact``
     An impact left the contact point with no separating speed
-    (restitution 0): the body now pivots or slides in sustained contact,
-    which an impulse model does not describe.
+    (restitution 0): sustained contact began. The body now pivots or
+    slides on the floor, which an impulse model does not describe; it is
+    not at rest, and its last peaks are its state at that impact.
+``could_vault``
+    Sustained contact began as for ``contact``, but the body may still
+    leave the floor: its centre moves away from the floor (normal velocity
+    above :data:`CONTACT_SPEED`, the noise floor that rounding leaves) and
+    its kinetic energy is more than :data:`VAULT_SHARE` (a tenth) of its
+    energy above rest at release. Such a body pivots upward about the
+    struck point with energy enough to lift its centre by a tenth of the
+    drop, and may vault over that point into a new flight that this model
+    does not follow: its answer is incomplete, not "at rest". (The
+    potential energy of a tilted pose does not count: it can only bring
+    the body down.)
 ``failed``
     The contact search did not converge in its step budget (not seen in
     the benchmark population; counted by the tests).
+
+On an inclined floor "energy above rest" is the kinetic energy plus the
+normal part of the potential, ``m g cos(alpha) (y - d_min)``: the floor has
+no lowest place downhill, so the along-floor potential has no rest level
+and is left out of these tests (a body sliding downhill fast never
+counts as settled).
 """
 from __future__ import annotations
 
@@ -29,20 +54,26 @@ from dataclasses import dataclass, field, fields
 import numpy as np
 
 from ._memory import keep_freed_memory
-from .flight import GRAVITY
+from .flight import GRAVITY, floor_gravity
 from .geometry import contact_offset_at, curvature_bound, depth, depth_range
 from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact
-from .limits import FRICTION, RESTITUTION
+from .limits import FLOOR_ANGLE, FRICTION, RESTITUTION
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
 
-#: Why each drop stopped, by the code stored in ``DropResult.status``.
-STATUS = ("impacts", "settled", "resting", "failed")
-RAN_ALL, SETTLED, RESTING, FAILED = range(4)
+#: Why each drop stopped, by the code stored in ``DropResult.status`` (see
+#: the module notes; codes are kept when names are added).
+STATUS = ("impacts", "settled", "contact", "failed", "could_vault")
+RAN_ALL, SETTLED, CONTACT, FAILED, COULD_VAULT = range(5)
 
 #: Separating speed of the contact point below which contact is sustained. [m/s]
-RESTING_SPEED = 1e-9
+CONTACT_SPEED = 1e-9
+#: A body entering sustained contact with its centre moving away from the
+#: floor could still vault when its kinetic energy exceeds this share of its
+#: energy above rest at release (status ``could_vault``): enough to lift
+#: the centre by a tenth of the drop, a hop a user would see. [-]
+VAULT_SHARE = 0.1
 
 REFERENCES = ("centre", "bottom", "top")
 
@@ -67,10 +98,16 @@ class Release:
     spin : float or array
         Angular velocity, counter-clockwise positive. [rad/s]
     vx, vy : float or array
-        Velocity of the centre at release. [m/s]
+        Velocity of the centre at release, along the floor and along its
+        normal. [m/s]
     reference : {"centre", "bottom"}
         Whether ``height`` is that of the centre of mass or of the lowest
         point of the body.
+    floor_angle : float or array
+        Inclination of the floor, :data:`sim.limits.FLOOR_ANGLE`; positive:
+        the floor falls towards +x, so gravity's along-floor component
+        ``g sin(floor_angle)`` points to +x. ``height`` is then measured
+        normal to the floor and ``angle`` from the floor line. [rad]
     """
 
     height: float | np.ndarray
@@ -79,12 +116,14 @@ class Release:
     vx: float | np.ndarray = 0.0
     vy: float | np.ndarray = 0.0
     reference: str = "centre"
+    floor_angle: float | np.ndarray = 0.0
 
     def __post_init__(self):
         if self.reference not in ("centre", "bottom"):
             raise ValueError(f"release reference must be 'centre' or 'bottom', got {self.reference!r}")
         for name in ("height", "angle", "spin", "vx", "vy"):
             _array(f"release {name}", getattr(self, name))
+        FLOOR_ANGLE.check("release floor_angle", self.floor_angle)
 
     def centre_height(self, shape: Shape):
         """Height of the centre of mass at release. [m]"""
@@ -169,18 +208,38 @@ class DropResult:
             return impacts[name]
         raise AttributeError(name)
 
-    # velocities just before each impact: the flight keeps vx and spin, and
-    # vy falls by g * flight (the very expressions the kernel used, so the
-    # values are bit for bit those it saw)
+    # gravity in floor coordinates (sim.flight.floor_gravity) ------------
+    @property
+    def gravity_normal(self):
+        """Gravity's component into the floor, ``g cos(floor_angle)``, per drop. [m/s^2]"""
+        return floor_gravity(self.release["floor_angle"])[0]
+
+    @property
+    def gravity_along(self):
+        """Gravity's component along the floor towards +x, ``g sin(floor_angle)``, per drop. [m/s^2]"""
+        return floor_gravity(self.release["floor_angle"])[1]
+
+    # velocities just before each impact: the flight keeps the spin, vy
+    # falls by g_n * flight and vx grows by g_t * flight (the very
+    # expressions the kernel used, so the values are bit for bit those it
+    # saw)
     def _before(self, name, release_name):
         after = self.impacts[name]
         first = np.broadcast_to(self.release[release_name], (after.shape[0],))[:, None]
         return np.concatenate([first, after[:, :-1]], axis=1)
 
+    def _flights_before(self):
+        """Length of the flight that ends at each impact. [s]"""
+        return np.concatenate([self.impacts["time"][:, :1], self.impacts["flight"][:, :-1]], axis=1)
+
     @property
     def vx_before(self):
-        """Velocity x of the centre just before each impact. [m/s]"""
-        return self._before("vx", "vx")
+        """Velocity of the centre along the floor just before each impact. [m/s]"""
+        previous = self._before("vx", "vx")
+        along = self.gravity_along
+        if not np.any(along):
+            return previous
+        return previous + along[:, None] * self._flights_before()
 
     @property
     def spin_before(self):
@@ -189,37 +248,51 @@ class DropResult:
 
     @property
     def vy_before(self):
-        """Velocity y of the centre just before each impact. [m/s]"""
+        """Velocity of the centre normal to the floor just before each impact. [m/s]"""
         previous = self._before("vy", "vy")
-        flights = np.concatenate([self.impacts["time"][:, :1], self.impacts["flight"][:, :-1]], axis=1)
-        return previous - GRAVITY * flights
+        return previous - self.gravity_normal[:, None] * self._flights_before()
 
     # energies ---------------------------------------------------------
-    def _energy(self, vx, vy, spin, y):
+    def _energy(self, vx, vy, spin, y, x):
         m, inertia = self.mass[:, None], self.inertia[:, None]
-        return (0.5 * m * (vx ** 2 + vy ** 2), 0.5 * inertia * spin ** 2, m * GRAVITY * y)
+        potential = m * self.gravity_normal[:, None] * y
+        along = self.gravity_along
+        if np.any(along):
+            # downhill (+x for a positive floor angle) the potential falls
+            potential = potential - m * along[:, None] * x
+        return (0.5 * m * (vx ** 2 + vy ** 2), 0.5 * inertia * spin ** 2, potential)
 
     def energy_before(self):
-        """Translational, rotational, potential energy just before each impact. [J]"""
+        """Translational, rotational, potential energy just before each
+        impact; the potential ``m g_n y - m g_t x`` in floor coordinates
+        (zero at the release point's foot on the floor). [J]"""
         i = self.impacts
-        return self._energy(self.vx_before, self.vy_before, self.spin_before, i["y"])
+        return self._energy(self.vx_before, self.vy_before, self.spin_before, i["y"], i["x"])
 
     def energy_after(self):
-        """Translational, rotational, potential energy just after each impact. [J]"""
+        """Translational, rotational, potential energy just after each impact
+        (potential as in :meth:`energy_before`). [J]"""
         i = self.impacts
-        return self._energy(i["vx"], i["vy"], i["spin"], i["y"])
+        return self._energy(i["vx"], i["vy"], i["spin"], i["y"], i["x"])
 
     @property
     def release_energy(self):
-        """Total mechanical energy at release, floor as zero of potential. [J]"""
+        """Total mechanical energy at release, the floor under the release
+        point as zero of potential. [J]"""
         r = self.release
         return (0.5 * self.mass * (r["vx"] ** 2 + r["vy"] ** 2) + 0.5 * self.inertia * r["spin"] ** 2
-                + self.mass * GRAVITY * r["y"])
+                + self.mass * self.gravity_normal * r["y"])
 
     @property
     def energy_bound(self):
-        """Highest the centre could ever rise: total energy / (m g). [m]"""
-        return self.release_energy / (self.mass * GRAVITY)
+        """Highest the centre could ever rise: total energy / (m g). [m]
+
+        NaN on an inclined floor: there the body can gain energy by moving
+        downhill (the along-floor potential has no floor), so no height
+        normal to the floor bounds it."""
+        bound = self.release_energy / (self.mass * self.gravity_normal)
+        along = self.gravity_along
+        return np.where(along == 0, bound, np.nan) if np.any(along) else bound
 
     def release_height(self, reference="centre"):
         """Release height of the centre, lowest point or top point. [m]"""
@@ -233,9 +306,13 @@ class DropResult:
 
 def _broadcast(shape, release, contact):
     centre_y = release.centre_height(shape)
+    # gravity's components before broadcasting: a level floor given once
+    # costs no cosine per drop
+    gravity, gravity_along = floor_gravity(release.floor_angle)
     arrays = np.broadcast_arrays(
         shape.mass, shape.inertia, *shape.profile, centre_y, release.angle, release.spin,
-        release.vx, release.vy, contact.restitution, contact.friction)
+        release.vx, release.vy, contact.restitution, contact.friction, release.floor_angle, gravity,
+        gravity_along, np.sqrt(GRAVITY / gravity))
     n = arrays[0].size
     # views, not copies: a scalar broadcast to a million drops costs nothing
     arrays = [np.asarray(a, dtype=float).reshape(n) for a in arrays]
@@ -283,7 +360,12 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
     keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
-    mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu = arrays
+    mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch = arrays
+    # an angle of many turns is that angle within one turn (fmod is exact);
+    # angles within a turn are left untouched, bit for bit
+    many_turns = np.abs(th0) > 2 * np.pi
+    if many_turns.any():
+        th0 = np.where(many_turns, np.fmod(th0, 2 * np.pi), th0)
     gap0 = y0 - depth(th0, hl, hw, rl, rw)
     if np.any(gap0 <= 0):
         i = int(np.argmax(gap0 <= 0))
@@ -303,9 +385,10 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         sl = slice(start, min(n, start + chunk_size))
         _run_chunk(sl, k, settle_fraction, mass[sl], inertia[sl], (hl[sl], hw[sl], rl[sl], rw[sl]),
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
-                   {name: a[sl] for name, a in out.items()}, status[sl], count[sl])
+                   (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
+                   count[sl])
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
-                     "restitution": e, "friction": mu, "law": laws}
+                     "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle}
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
 
 
@@ -334,13 +417,24 @@ class _Flying:
     curvature_bound: np.ndarray  # sim.geometry.curvature_bound [m]
     d_low: np.ndarray  # sim.geometry.depth_range [m]
     d_high: np.ndarray
-    rest_energy: np.ndarray  # lowest resting energy m g d_low [J]
+    gravity: np.ndarray  # into the floor, g cos(floor angle) [m/s^2]
+    gravity_along: np.ndarray  # along the floor to +x, g sin(floor angle) [m/s^2]
+    stretch: np.ndarray  # sqrt(g / gravity): time in flight per time of a level floor's flight [-]
+    rest_energy: np.ndarray  # lowest resting energy m g_n d_low [J]
     excess_at_release: np.ndarray  # energy above rest at release [J]
     impacting: np.ndarray  # strikes again after the next flight (False: settled, flight only)
 
     @property
     def profile(self):
         return self.half_long, self.half_wide, self.round_long, self.round_wide
+
+    def level(self, tilted):
+        """Normal velocity and spin of the same flight on a level floor
+        under ``g``, in that flight's time (see :func:`_run_chunk`; as they
+        are where no drop is tilted). [m/s], [rad/s]"""
+        if not tilted:
+            return self.vy, self.spin
+        return self.vy * self.stretch, self.spin * self.stretch
 
     def take(self, where):
         """The drops at the places ``where`` (indices into these arrays)."""
@@ -380,23 +474,35 @@ def _strike(live, along, across):
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
-               e, mu, laws, out, status, count):
+               e, mu, laws, gravity, out, status, count):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
     are gathered only when some drop leaves: in most chunks none does
     before its last impact, so nothing is gathered at all.
+
+    ``gravity`` is ``(g_n, g_t, stretch)`` per drop (:class:`_Flying`). On
+    an inclined floor the flight normal to the floor, ``y + vy t - g_n
+    t^2 / 2`` with ``theta + omega t``, is exactly the flight of a level
+    floor under ``g`` in the time ``s = t / stretch`` (``stretch = sqrt(g /
+    g_n)``) with normal speed ``vy stretch`` and spin ``omega stretch``: the
+    contact search and the flight peaks, which see only the normal motion
+    and the angle, run unchanged on that flight (their proofs hold as
+    written) and its times are stretched back. A level floor has stretch 1
+    exactly, and a chunk without a tilted drop skips the stretching.
     """
     n = mass.size
+    g_n, g_t, stretch = gravity
+    tilted = bool(np.any(g_t != 0))
     d_low, d_high = depth_range(*profile)
-    rest_energy = mass * GRAVITY * d_low
+    rest_energy = mass * g_n * d_low
     live = _Flying(
         index=np.arange(n), time=np.zeros(n), x=np.zeros(n), y=y0.copy(), vx=vx0.copy(), vy=vy0.copy(),
         theta=th0.copy(), spin=om0.copy(), mass=mass, inertia=inertia, half_long=profile[0],
         half_wide=profile[1], round_long=profile[2], round_wide=profile[3], restitution=e, friction=mu,
         law=laws, curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
-        rest_energy=rest_energy,
-        excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * GRAVITY * y0
+        gravity=g_n, gravity_along=g_t, stretch=stretch, rest_energy=rest_energy,
+        excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * g_n * y0
                            - rest_energy),
         impacting=np.ones(n, bool))
 
@@ -414,8 +520,11 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         if live.index.size == 0:
             break
         # after the last impact only the flight's length is wanted
-        tau, along, across = next_contact(live.y, live.vy, live.theta, live.spin, live.profile,
-                                          live.curvature_bound, live.d_high, strikes=j < k)
+        level_vy, level_spin = live.level(tilted)
+        tau_level, along, across = next_contact(live.y, level_vy, live.theta, level_spin, live.profile,
+                                                live.curvature_bound, live.d_high, strikes=j < k)
+        del level_vy, level_spin
+        tau = tau_level * live.stretch if tilted else tau_level
         failed = np.isnan(tau)
         any_failed = bool(failed.any())
         if j > 0:
@@ -423,8 +532,11 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             flown = keep(live, ~failed) if any_failed else live
             tau_ok = tau[~failed] if any_failed else tau
             put("flight", j - 1, flown, tau_ok)
-            c, b, tp = flight_peaks(flown.y, flown.vy, flown.theta, flown.spin, tau_ok, flown.profile,
+            level_vy, level_spin = flown.level(tilted)
+            c, b, tp = flight_peaks(flown.y, level_vy, flown.theta, level_spin,
+                                    tau_level[~failed] if any_failed else tau_level, flown.profile,
                                     flown.d_low, flown.d_high)
+            del level_vy, level_spin
             put("peak_centre", j - 1, flown, c)
             put("peak_bottom", j - 1, flown, b)
             put("peak_top", j - 1, flown, tp)
@@ -436,11 +548,15 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         if not go.all():
             live = keep(live, go)
             tau, along, across = tau[go], along[go], across[go]
+        del tau_level
         # advance to the contact
         live.time += tau
         live.x += live.vx * tau
-        live.y += live.vy * tau - 0.5 * GRAVITY * tau ** 2
-        live.vy -= GRAVITY * tau
+        live.y += live.vy * tau - 0.5 * live.gravity * tau ** 2
+        live.vy -= live.gravity * tau
+        if tilted:
+            live.x += 0.5 * live.gravity_along * tau ** 2
+            live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
         record, separating, ke_after = _strike(live, along, across)
         del tau, along, across
@@ -450,19 +566,25 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         live.vx, live.vy, live.spin = record["vx"], record["vy"], record["spin"]
         del record
         # does it fly on?
-        resting = separating <= RESTING_SPEED
-        above_rest = ke_after + live.mass * GRAVITY * live.y - live.rest_energy
-        settled = ~resting & (above_rest < settle_fraction * live.excess_at_release)
-        live.impacting = ~(resting | settled)
-        del separating, ke_after, above_rest
+        in_contact = separating <= CONTACT_SPEED
+        above_rest = ke_after + live.mass * live.gravity * live.y - live.rest_energy
+        settled = ~in_contact & (above_rest < settle_fraction * live.excess_at_release)
+        live.impacting = ~(in_contact | settled)
+        del separating
         if settled.any():
             status[live.index[settled]] = SETTLED
-        if resting.any():
-            still = keep(live, resting)
+        if in_contact.any():
+            # the centre still moving off the floor with a good share of
+            # the drop's energy: it may vault over the struck point (the
+            # centre's speed above the contact speed, which rounding alone
+            # leaves it: a sphere's centre moves as its contact point does)
+            could_vault = (live.vy > CONTACT_SPEED) & (ke_after > VAULT_SHARE * live.excess_at_release)
+            still = keep(live, in_contact)
             ids = still.index
-            status[ids] = RESTING
+            status[ids] = np.where(could_vault[in_contact], COULD_VAULT, CONTACT)
             out["flight"][ids, j] = 0.0
             out["peak_centre"][ids, j] = still.y
             out["peak_bottom"][ids, j] = 0.0
             out["peak_top"][ids, j] = still.y + depth(still.theta, *still.profile)
-            live = keep(live, ~resting)
+            live = keep(live, ~in_contact)
+        del above_rest, ke_after

@@ -11,6 +11,15 @@ import numpy as np
 GRAVITY = 9.80665
 
 
+def floor_gravity(floor_angle):
+    """Gravity in floor coordinates on a floor inclined by ``floor_angle``
+    [rad] (positive: the floor falls towards +x): the component into the
+    floor ``g cos(alpha)`` and the along-floor component ``g sin(alpha)``,
+    pointing to +x. A level floor gives exactly ``(g, 0)``. [m/s^2]"""
+    floor_angle = np.asarray(floor_angle, dtype=float)
+    return GRAVITY * np.cos(floor_angle), GRAVITY * np.sin(floor_angle)
+
+
 def centre_at(y, vy, t):
     """Height of the centre ``t`` into a flight that starts at height ``y``
     rising at ``vy``: ``y + vy t - g t^2 / 2``. [m]"""

@@ -4,7 +4,6 @@ from __future__ import annotations
 import numpy as np
 
 from .drop import DropResult
-from .flight import GRAVITY
 from .geometry import depth
 
 
@@ -12,7 +11,9 @@ def history(result: DropResult, drop: int, times) -> dict:
     """State of drop ``drop`` at the requested ``times`` [s since release].
 
     Between impacts the flight is evaluated exactly from the state just
-    after the last impact before each time (or the release state).
+    after the last impact before each time (or the release state), in
+    floor coordinates (x along the floor, y normal to it; gravity's
+    components from the drop's floor angle, :func:`sim.flight.floor_gravity`).
 
     Returns
     -------
@@ -20,7 +21,8 @@ def history(result: DropResult, drop: int, times) -> dict:
         ``time`` [s], ``x``, ``y`` (centre) [m], ``theta`` [rad], ``vx``,
         ``vy`` [m/s], ``spin`` [rad/s], ``bottom`` and ``top`` heights [m],
         ``translational``, ``rotational``, ``potential`` and ``total``
-        energy [J].
+        energy [J] (the potential ``m g_n y - m g_t x``, as
+        :meth:`sim.DropResult.energy_before`).
     """
     times = np.asarray(times, dtype=float)
     if not 0 <= drop < result.size:
@@ -39,10 +41,11 @@ def history(result: DropResult, drop: int, times) -> dict:
     }
     seg = np.clip(np.searchsorted(start_t, times, side="right") - 1, 0, count)
     dt = times - start_t[seg]
-    x = start["x"][seg] + start["vx"][seg] * dt
-    y = start["y"][seg] + start["vy"][seg] * dt - 0.5 * GRAVITY * dt ** 2
-    vy = start["vy"][seg] - GRAVITY * dt
-    vx = start["vx"][seg]
+    g_n, g_t = float(result.gravity_normal[drop]), float(result.gravity_along[drop])
+    x = start["x"][seg] + start["vx"][seg] * dt + 0.5 * g_t * dt ** 2
+    y = start["y"][seg] + start["vy"][seg] * dt - 0.5 * g_n * dt ** 2
+    vy = start["vy"][seg] - g_n * dt
+    vx = start["vx"][seg] + g_t * dt
     spin = start["spin"][seg]
     theta = start["theta"][seg] + spin * dt
     profile = tuple(p[drop] for p in result.profile)
@@ -50,7 +53,7 @@ def history(result: DropResult, drop: int, times) -> dict:
     m, inertia = result.mass[drop], result.inertia[drop]
     trans = 0.5 * m * (vx ** 2 + vy ** 2)
     rot = 0.5 * inertia * spin ** 2
-    pot = m * GRAVITY * y
+    pot = m * g_n * y - m * g_t * x
     return {"time": times, "x": x, "y": y, "theta": theta, "vx": vx, "vy": vy, "spin": spin,
             "bottom": y - d, "top": y + d, "translational": trans, "rotational": rot,
             "potential": pot, "total": trans + rot + pot}

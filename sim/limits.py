@@ -53,6 +53,16 @@ class Interval:
         if self.closed not in _SIDES:
             raise ValueError(f"closed must be one of {', '.join(_SIDES)}, got {self.closed!r}")
 
+    def intersection(self, other):
+        """The values in both ranges (the tighter end of each side wins)."""
+        low_end = max((self.low, self.closed in ("both", "left")), (other.low, other.closed in ("both", "left")),
+                      key=lambda end: (end[0], not end[1]))
+        high_end = min((self.high, self.closed in ("both", "right")),
+                       (other.high, other.closed in ("both", "right")), key=lambda end: (end[0], end[1]))
+        closed = {(True, True): "both", (True, False): "left", (False, True): "right",
+                  (False, False): "neither"}[low_end[1], high_end[1]]
+        return Interval(low_end[0], high_end[0], closed=closed, unit=self.unit or other.unit)
+
     def contains(self, value):
         """Element-wise: finite and inside the range."""
         value = np.asarray(value, dtype=float)
@@ -106,3 +116,6 @@ SIZE_OR_ZERO = Interval(0.0, math.inf, unit="m")
 DENSITY = Interval(0.0, math.inf, closed="right", unit="kg/m^3")
 #: Total mass of the body.
 MASS = Interval(0.0, math.inf, closed="right", unit="kg")
+#: Inclination of the floor: gravity must keep a component into the floor
+#: (``g cos(alpha) > 0``) for a flight to end.
+FLOOR_ANGLE = Interval(-math.pi / 2, math.pi / 2, closed="neither", unit="rad")

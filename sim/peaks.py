@@ -2,6 +2,10 @@
 reaches over a flight (:func:`flight_peaks`), from the depth's
 breakpoints and bounds on the pieces between them (:mod:`sim.geometry`),
 polished where a bound beats the best height found.
+
+Heights are normal to the floor; on an inclined floor the peaks are those
+of the level-floor flight with the same path (time stretched, see
+:func:`sim.drop._run_chunk`), which reaches the same heights.
 """
 from __future__ import annotations
 

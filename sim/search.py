@@ -20,6 +20,15 @@ also never shorter than the time for the centre's parabola to drop to the
 height ``d_max`` that no part of the body can reach below, which is exact
 too. The iterates approach the first root from above, quadratically near a
 transversal crossing.
+
+On an inclined floor the search runs in floor coordinates (y normal to the
+floor) on the level-floor flight that has the same path: normal gravity
+``g_n = g cos(alpha)`` over time ``t`` is ``g`` over ``s = t sqrt(g_n / g)``
+with the normal speed and the spin scaled by ``sqrt(g / g_n)``
+(:func:`sim.drop._run_chunk`). The gap as a function of ``s`` is then
+exactly the gap above, so ``g`` in the bound is the right constant and the
+argument holds as written; ``CONTACT_GAP`` is a distance and needs no
+scaling.
 """
 from __future__ import annotations
 

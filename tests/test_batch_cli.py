@@ -201,6 +201,7 @@ def test_batch_missing_input_file_is_bad_input(tmp_path, capsys):
     # default capsule (L = 14 mm, R = 3.5 mm) at 30 deg: lowest point 7 mm
     # below the centre, released at 1 mm -> -6 mm
     (["--height", "0.001"], ["inside the floor", "-0.006"]),
+    (["--floor-angle", "75"], ["--floor-angle", "[-60, 60] deg", "75"]),
 ])
 def test_drop_bad_arguments(tmp_path, capsys, args, words):
     code = main(["drop", "--no-plots", "--out", str(tmp_path / "pics")] + args)
@@ -256,3 +257,84 @@ def test_bench_json(capsys):
     assert result["seconds"] > 0
     assert result["drops_per_second"] == pytest.approx(result["drops"] / result["seconds"], rel=1e-12)
     assert result["failed"] == 0
+
+
+# --- the bounce-grouping window from the camera's frame rate ------------------
+
+def test_camera_frame_rate_sets_which_impacts_make_one_bounce(tmp_path, capsys):
+    # a 30 mm pin tipping from 20 mm: its impacts come 9.8 ms, 16 ms, 56 ms,
+    # 47 ms and 4.9 ms apart. A 100 frames/s camera (10 ms per frame) sees
+    # impacts 1-2 and 5-6 as one bounce each; at 100,000 frames/s every
+    # impact is a bounce of its own.
+    args = ["drop", "--shape", "capsule", "--radius", "0.003", "--length", "0.024", "--height", "0.02",
+            "--angle", "20", "--restitution", "0.9", "--friction", "0.1", "--impacts", "6", "--no-plots"]
+    bounces = {}
+    for fps in (100, 100000):
+        path = tmp_path / f"impacts-{fps}.csv"
+        assert main(args + ["--fps", str(fps), "--csv", str(path)]) == 0
+        bounces[fps] = pd.read_csv(path)["bounce"].tolist()
+    assert bounces[100] == [1, 1, 2, 3, 4, 4]
+    assert bounces[100000] == [1, 2, 3, 4, 5, 6]
+    assert main(args + ["--fps", "100", "--merge-ms", "10"]) == 2
+    assert "not allowed with argument --fps" in capsys.readouterr().err
+
+
+def test_study_takes_the_camera_frame_rate_or_the_window_not_both():
+    from hopscape.study import RunSettings
+    assert RunSettings(camera_fps=500).merge_window == pytest.approx(0.002, rel=1e-15)
+    assert RunSettings().merge_window == 0.010
+    with pytest.raises(Exception, match="give camera_fps or merge_ms, not both"):
+        RunSettings(camera_fps=500, merge_ms=5)
+
+
+TILTED_CSV = """\
+shape,length,radius,density,height,angle,spin,restitution,friction,floor_angle
+capsule,0.014,0.0035,1200,0.05,30,5,0.8,0.3,20
+capsule,0.014,0.0035,1200,0.05,30,5,0.8,0.3,-35
+capsule,0.014,0.0035,1200,0.05,30,5,0.8,0.3,0
+capsule,0.014,0.0035,1200,0.05,30,5,0.8,0.3,75
+"""
+
+
+def test_batch_floor_angle_column_reaches_the_simulation(tmp_path, capsys):
+    # Each row is exactly what sim.simulate gives for that drop with its
+    # floor angle (floor coordinates; 1e-13 allows last-bit differences of
+    # the CSV round trip); a floor angle outside [-60, 60] deg is a row
+    # error naming the column, its range and the value.
+    source = tmp_path / "tilted.csv"
+    source.write_text(TILTED_CSV, encoding="utf-8")
+    out, stdout = batch(tmp_path, capsys, source, "out.csv")
+    table = read(out)
+    assert "1 row(s) could not be simulated" in stdout
+    error = table[table["drop"] == 3]["error"].iloc[0]
+    assert "floor_angle" in error and "[-60, 60] deg" in error and "75" in error
+    shape = sim.Capsule(length=0.014, radius=0.0035, density=1200)
+    times = []
+    for row, alpha in enumerate((20.0, -35.0, 0.0)):
+        result = sim.simulate(shape, sim.Release(0.05, math.radians(30), 5.0, floor_angle=math.radians(alpha)),
+                              sim.Contact(0.8, 0.3), impacts=IMPACTS)
+        got = table[table["drop"] == row].sort_values("impact")
+        for column in ("time", "x", "vx", "vy", "peak_centre"):
+            np.testing.assert_allclose(got[column].to_numpy(float), result.impacts[column][0], rtol=1e-13,
+                                       err_msg=column)
+        times.append(got["time"].iloc[0])
+    assert len(set(times)) == 3  # the tilt changed the drops
+
+
+def test_huge_angles_give_the_answer_of_their_reduced_form(tmp_path):
+    # 1e20 deg is exactly 1e20 mod 360 = fmod(1e20, 360) deg in floating point
+    # (IEEE 754 remainder is exact), so both rows must match bit for bit
+    import math
+    from hopscape.batch import run_batch
+    reduced = math.fmod(1e20, 360.0)
+    frame = pd.DataFrame({"shape": ["capsule"] * 2, "length": [0.01] * 2, "radius": [0.003] * 2,
+                          "density": [1100.0] * 2, "height": [0.05] * 2, "angle": [1e20, reduced],
+                          "restitution": [0.8] * 2, "friction": [0.3] * 2})
+    table = run_batch(frame, impacts=4)
+    first, second = (table[table["drop"] == i].drop(columns="drop").reset_index(drop=True) for i in (0, 1))
+    pd.testing.assert_frame_equal(first, second)
+    # the Python API likewise, in radians
+    shape = sim.Capsule(length=0.01, radius=0.003, density=1100.0)
+    many = sim.simulate(shape, sim.Release(0.05, 1e6), sim.Contact(0.8, 0.3), impacts=3)
+    one = sim.simulate(shape, sim.Release(0.05, math.fmod(1e6, 2 * math.pi)), sim.Contact(0.8, 0.3), impacts=3)
+    assert np.array_equal(many.impacts["time"], one.impacts["time"])

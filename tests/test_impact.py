@@ -379,12 +379,21 @@ def test_energetic_zero_restitution_ends_at_compression():
 
 def test_energetic_zero_restitution_drops_come_to_rest():
     # With e = 0 no drop can leave the floor after its first impact: the
-    # engine documents status 'resting' for that (sim.drop, RESTING_SPEED
-    # 1e-9 m/s). Benchmark population with e = 0.
+    # engine documents status 'contact' (sustained contact began) or, where
+    # the centre still rises with energy to spare, 'could_vault' for that
+    # (sim.drop, CONTACT_SPEED 1e-9 m/s). Benchmark population with e = 0.
     shape, release, contact = sim.bench.population(3000, seed=3)
     result = sim.simulate(shape, release, sim.Contact(0.0, contact.friction, "energetic"), impacts=3)
     assert np.all(result.count == 1)
-    assert np.all(result.status == sim.STATUS.index("resting"))
+    assert np.all(np.isin(result.status, [sim.STATUS.index("contact"), sim.STATUS.index("could_vault")]))
+    # could_vault exactly where the centre leaves the floor with kinetic
+    # energy over a tenth of the release's energy above rest
+    # (sim.drop.VAULT_SHARE)
+    kinetic = sum(result.energy_after()[:2])[:, 0]
+    at_release = result.release_energy - result.mass * sim.GRAVITY * shape.radius
+    expected = (result.vy[:, 0] > 1e-9) & (kinetic > 0.1 * at_release)
+    assert 0 < expected.sum() < expected.size  # both answers occur in this population
+    assert np.array_equal(result.status == sim.STATUS.index("could_vault"), expected)
 
 
 # --------------------------------------------------------------------------

@@ -82,3 +82,45 @@ def test_later_over_first_is_zero_without_a_first_bounce():
     metric = Metric(kind="later_over_first")
     value = METRIC_KINDS["later_over_first"].value(Outcome(np.array([[0.0, 0.0]])), metric)
     assert value.tolist() == [0.0]
+
+
+# --- clears: a height limit in metres ------------------------------------------
+
+HEIGHTS = np.array([[0.004, 0.013, 0.002], [0.020, 0.009, 0.0]])  # [m] per bounce
+
+
+def test_clears_compares_the_bounce_height_with_the_limit():
+    outcome = Outcome(np.zeros_like(HEIGHTS), HEIGHTS)
+    later = Metric(kind="clears", limit=0.012, reference="bottom")
+    kind = METRIC_KINDS["clears"]
+    assert kind.value(outcome, later).tolist() == [0.013, 0.009]
+    assert kind.event(kind.value(outcome, later), later).tolist() == [True, False]
+    first = Metric(kind="clears", limit=0.012, bounce="first", reference="bottom")
+    assert kind.event(kind.value(outcome, first), first).tolist() == [False, True]
+    assert kind.words(later)[1] == "the lowest point clears 12 mm in the best later bounce"
+
+
+def test_clears_needs_a_limit_and_only_clears_takes_one():
+    with pytest.raises(Exception, match="kind clears needs limit"):
+        Metric(kind="clears")
+    with pytest.raises(Exception, match="limit is used only by kind clears"):
+        Metric(kind="ratio", limit=0.01)
+
+
+def test_clears_on_real_drops_of_a_bouncing_ball(tmp_path):
+    # A frictionless sphere dropped from rest falls h - R to the contact and
+    # rises e^2 (h - R), then e^4 (h - R) (textbook bouncing ball;
+    # docs/physics.md section 4: without friction all laws agree). Centre at
+    # 0.1 m, R = 5 mm, e = 0.8: the centre tops out at 0.005 + 0.64 x 0.095
+    # = 0.0658 m, then at 0.005 + 0.4096 x 0.095 = 0.043912 m.
+    from hopscape.metrics import simulate_frame
+    text = ("name: ball\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 0.8, friction: 0}\n"
+            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 2}}}\n"
+            "metric: {kind: clears, bounce: BOUNCE, reference: centre, limit: 0.05}\n"
+            "analyses: {robustness: false}\nrun: {impacts: 3}\n")
+    for bounce, expected_height, clears in (("first", 0.0658, True), ("2", 0.043912, False)):
+        study = parse_study(text.replace("BOUNCE", bounce))
+        from hopscape.plan import grid_frame
+        out = simulate_frame(study, grid_frame(study))
+        assert out["value"].to_numpy() == pytest.approx([expected_height] * 2, rel=1e-9)
+        assert out["event"].tolist() == [clears] * 2

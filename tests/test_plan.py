@@ -122,7 +122,7 @@ def test_robust_frame_moves_only_the_release_within_the_tolerance():
 def test_robust_heights_stay_above_the_allowed_minimum():
     # a tolerance wider than the release height would put bodies below the
     # smallest height a study allows (1e-5 m); they are held there
-    s = study(release={"height": 0.0005}, tolerance={"height": 0.001})
+    s = study(release={"height": 0.0005, "height_of": "bottom"}, tolerance={"height": 0.001})
     robust = robust_frame(s, grid_frame(s))
     low = QUANTITIES["height"].allowed.low
     assert (robust[COLUMN["height"]] >= low).all()

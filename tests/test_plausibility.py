@@ -83,7 +83,7 @@ def test_spin_in_rpm():
 
 def test_a_body_in_millimetres():
     text = PILL.replace("diameter: 0.007", "diameter: 0.7")
-    for key, value in PLAIN.items():
+    for key, value in {**PLAIN, "HEIGHT": "2.0"}.items():
         text = text.replace(key, value)
     warnings = parse_study(text, "pill.yaml").warnings
     assert warnings[0].startswith("pill.yaml:4:3: body.diameter: 0.7 m is outside the usual 0.0001 to 0.5 m")

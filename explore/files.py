@@ -1,0 +1,61 @@
+"""Files written whole or not at all.
+
+Every output hopscape writes (result parts, batch tables, maps and their
+CSV files, the sensitivity tables, picks, the report) goes through
+:func:`atomic_write`: the content goes to a temporary file in the same
+folder, is flushed to disk, and only then replaces the final name. A full
+disk, a crash or Ctrl-C at any point leaves the earlier file (if any)
+untouched and no half-written file or temporary behind.
+"""
+from __future__ import annotations
+
+import os
+from contextlib import contextmanager
+from pathlib import Path
+
+from .errors import InputError
+
+
+@contextmanager
+def atomic_write(path):
+    """Context manager giving a temporary path to write; on success it
+    replaces ``path``.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The final file; its folder must exist.
+
+    Yields
+    ------
+    pathlib.Path
+        Where to write (beside ``path``, same file ending, so that writers
+        that choose the format by ending still do).
+    """
+    path = Path(path)
+    tmp = path.with_name(f".{path.stem}.tmp{os.getpid()}{path.suffix}")
+    try:
+        yield tmp
+        with open(tmp, "rb+") as handle:
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    except BaseException:  # Ctrl-C and a full disk included: leave nothing half-written
+        tmp.unlink(missing_ok=True)
+        raise
+
+
+def write_text(path, text):
+    """Write ``text`` (UTF-8) to ``path`` atomically."""
+    with atomic_write(path) as tmp:
+        Path(tmp).write_text(text, encoding="utf-8")
+
+
+def refuse_overwriting_input(output, *inputs, option="--out"):
+    """InputError when ``output`` names one of the ``inputs`` (or is a folder)."""
+    output = Path(output)
+    for given in inputs:
+        if output.exists() and Path(given).exists() and os.path.samefile(output, given):
+            raise InputError(f"{option} {output} is the input file {given}; choose another output name "
+                             "(nothing was overwritten)")
+    if output.is_dir():
+        raise InputError(f"{option} {output} is a folder; give a file name ending in .csv or .parquet")

@@ -1,0 +1,79 @@
+"""hopscape.files and the outputs around it: written whole or not at all,
+never over their own input."""
+import os
+
+import pandas as pd
+import pytest
+
+from hopscape.batch import write_table
+from hopscape.cli import main
+from hopscape.files import atomic_write
+
+DROPS = "shape,length,radius,density,height,angle,restitution,friction\ncapsule,0.01,0.003,1100,0.05,30,0.8,0.3\n"
+
+
+def test_a_failed_write_leaves_the_earlier_file_and_no_temporary(tmp_path):
+    path = tmp_path / "out.csv"
+    path.write_text("earlier\n")
+    with pytest.raises(OSError):
+        with atomic_write(path) as tmp:
+            tmp.write_text("half a tab")
+            raise OSError(28, "No space left on device")   # what a full disk raises
+    assert path.read_text() == "earlier\n"
+    assert os.listdir(tmp_path) == ["out.csv"]
+
+
+def test_interrupting_a_write_leaves_nothing_behind(tmp_path):
+    with pytest.raises(KeyboardInterrupt):
+        with atomic_write(tmp_path / "out.parquet") as tmp:
+            pd.DataFrame({"a": [1]}).to_parquet(tmp)
+            raise KeyboardInterrupt
+    assert os.listdir(tmp_path) == []
+
+
+def test_a_table_is_written_by_its_ending(tmp_path):
+    frame = pd.DataFrame({"drop": [0, 1], "time": [0.1, 0.2]})
+    write_table(frame, tmp_path / "a.parquet")
+    write_table(frame, tmp_path / "sub" / "a.csv")
+    pd.testing.assert_frame_equal(pd.read_parquet(tmp_path / "a.parquet"), frame)
+    pd.testing.assert_frame_equal(pd.read_csv(tmp_path / "sub" / "a.csv"), frame)
+    assert sorted(os.listdir(tmp_path)) == ["a.parquet", "sub"]
+
+
+def test_batch_refuses_to_write_over_its_input(tmp_path, capsys):
+    source = tmp_path / "drops.csv"
+    source.write_text(DROPS)
+    assert main(["batch", str(source), "--out", str(source)]) == 2
+    assert "is the input file" in capsys.readouterr().err
+    assert source.read_text() == DROPS          # untouched
+    assert main(["batch", str(source), "--out", str(tmp_path)]) == 2
+    assert "is a folder" in capsys.readouterr().err
+
+
+def test_a_header_only_batch_is_bad_input(tmp_path, capsys):
+    source = tmp_path / "drops.csv"
+    source.write_text(DROPS.splitlines()[0] + "\n")
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.csv")]) == 2
+    assert "holds no drops" in capsys.readouterr().err
+    assert not (tmp_path / "out.csv").exists()
+
+
+@pytest.mark.parametrize("args, words", [
+    (["drop", "--impacts", "1000000", "--no-plots"], "--impacts: must be in [1, 50], got 1000000"),
+    (["batch", "x.csv", "--out", "y.csv", "--impacts", "0"], "--impacts: must be in [1, 50], got 0"),
+    (["bench", "--jobs", "100000"], "--jobs: must be in [1, 512], got 100000"),
+    (["bench", "--drops", "99999999"], "--drops: must be in [1, 2000000], got 99999999"),
+    (["run", "quick", "--jobs", "0"], "--jobs: must be in [1, 512], got 0"),
+])
+def test_command_line_bounds_are_the_study_file_bounds(capsys, args, words):
+    assert main(args) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and words in err[0]
+
+
+def test_a_run_folder_that_is_a_file_is_refused(tmp_path, capsys):
+    out = tmp_path / "not-a-folder"
+    out.write_text("x")
+    assert main(["run", "quick", "--out", str(out)]) == 2
+    assert "is a file; the run folder must be a folder" in capsys.readouterr().err
+    assert out.read_text() == "x"
