@@ -269,9 +269,11 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
         ax.fill_between(frame[col], frame["p10_value"], frame["p90_value"], color=OKABE_ITO["sky"], alpha=0.4,
                         label="10-90 % of drops (other quantities)")
         ax.plot(frame[col], frame["median_value"], color=OKABE_ITO["blue"], lw=2, label="median")
-        ax.axhline(study.metric.threshold, color=OKABE_ITO["red"], ls="--",
-                   label=f"ratio {study.metric.threshold:g}: the threshold (left axis)")
-        ax.set_ylabel("rebound ratio [-]")
+        kind = METRIC_KINDS[study.metric.kind]
+        level = study.metric.threshold if kind.uses_threshold else study.metric.limit if kind.uses_limit else None
+        if level is not None:
+            ax.axhline(level, color=OKABE_ITO["red"], ls="--", label=f"{level:g}: where the event begins (left axis)")
+        ax.set_ylabel(wrap(value_words, 45), fontsize=8)
         ax.set_ylim(bottom=0)
         ax2 = ax.twinx()
         ax2.set_ylabel("probability of the event [-]", color=OKABE_ITO["green"])
