@@ -29,32 +29,33 @@ class _Parser(argparse.ArgumentParser):
         raise InputError(message if self.prog == "hopscape" else f"{self.prog.split()[-1]}: {message}")
 
 
-def _finite(name):
+def _number(kind, allowed=None):
+    """An option's converter: a number (``kind`` float or int) in ``allowed``
+    (a :class:`hopscape.sim.limits.Interval`; any finite number if None)."""
+    from hopscape.sim.limits import FINITE, number_text
+    allowed = FINITE if allowed is None else allowed
+    words = "a whole number" if kind is int else "a number"
+
     def convert(text):
         try:
-            value = float(text)
+            value = kind(text)
         except ValueError:
-            raise argparse.ArgumentTypeError(f"must be a number, got {text!r}")
-        if not np.isfinite(value):
-            raise argparse.ArgumentTypeError(f"must be a finite number, got {text!r}")
+            raise argparse.ArgumentTypeError(f"must be {words}, got {shown(text)}")
+        if not allowed.contains(value):
+            raise argparse.ArgumentTypeError(f"must be {allowed.describe()}, got {number_text(value)}")
         return value
     return convert
+
+
+def _finite(name):
+    """An option's converter: any finite number."""
+    return _number(float)
 
 
 def _positive_int(name, low=1, high=None):
     """An option's converter: a whole number in [low, high]."""
     from hopscape.sim.limits import Interval
-    allowed = Interval(low, float("inf") if high is None else high)
-
-    def convert(text):
-        try:
-            value = int(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"must be a whole number, got {shown(text)}")
-        if not allowed.contains(value):
-            raise argparse.ArgumentTypeError(f"must be {allowed.describe()}, got {value}")
-        return value
-    return convert
+    return _number(int, Interval(low, float("inf") if high is None else high))
 
 
 def _declared_int(name, field):

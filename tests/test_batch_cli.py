@@ -196,8 +196,8 @@ def test_batch_missing_input_file_is_bad_input(tmp_path, capsys):
     (["--radius", "-0.001"], ["radius", "> 0", "-0.001"]),
     (["--length", "-0.01"], ["length", ">= 0", "-0.01"]),
     (["--restitution", "1.5"], ["restitution", "[0, 1]", "1.5"]),
-    (["--angle", "nan"], ["--angle", "finite", "'nan'"]),
-    (["--height", "inf"], ["--height", "finite", "'inf'"]),
+    (["--angle", "nan"], ["--angle", "finite", "got nan"]),
+    (["--height", "inf"], ["--height", "finite", "got inf"]),
     # default capsule (L = 14 mm, R = 3.5 mm) at 30 deg: lowest point 7 mm
     # below the centre, released at 1 mm -> -6 mm
     (["--height", "0.001"], ["inside the floor", "-0.006"]),
