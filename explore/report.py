@@ -124,6 +124,19 @@ def picks_table(picks: pd.DataFrame, study: Study) -> pd.DataFrame:
     return pd.DataFrame(out)
 
 
+def _picks_words(study):
+    """The paragraph above the picks table: how they are ranked and what the columns mean."""
+    words = "the event" if study.metric.goal == "seek" else "no event"
+    chaotic = (study.analyses.picks or Picks()).chaotic_flip_rate
+    return (f"<p>Cells where {words} happens in at least {picks_target(study):.0%} of toleranced drops come first, "
+            "ranked by their margin (grid steps, in every swept quantity, to the nearest cell that misses the "
+            "target or to the end of the swept range), then by how often the goal is met. Goal met: share of "
+            "toleranced drops that do what the study wants, with its 95 % Wilson interval; outcome flips: share "
+            f"whose outcome differs from the same drop released exactly (a cell is chaotic above {chaotic:.0%}); "
+            "value change: mean change of the metric's value against the exact release, for reference only. "
+            f"All columns are in <a href=\"{PICKS_FILE}\">{PICKS_FILE}</a>.</p>")
+
+
 def _regions_text(study, regions, folder):
     """The safe regions in sentences, or one sentence when there is none."""
     link = f'<a href="{SAFE_REGIONS_FILE}">{SAFE_REGIONS_FILE}</a>'
@@ -198,21 +211,13 @@ def write_report(outcome, art, seconds) -> Path:
         parts += [f"<h2>Which quantities matter ({html.escape(method.title)})</h2>", _table(art.ranking),
                   f"<p>{html.escape(method.words)}</p>"]
         for chart in art.ranking_charts:
-            parts.append(f'<figure><img src="{html.escape(os.path.relpath(chart, folder))}"></figure>')
+            parts.append(f'<figure><img src="{html.escape(os.path.relpath(chart, folder))}" '
+                         f'alt="{html.escape(Path(chart).stem)}"></figure>')
         for extra in method.tables:
             if extra.key in art.sensitivity_tables:
                 parts.append(f"<p>{html.escape(extra.words)}</p>")
     if art.picks is not None:
-        words = "the event" if study.metric.goal == "seek" else "no event"
-        parts += ["<h2>Recommended drop conditions</h2>",
-                  f"<p>Cells where {words} happens in at least {picks_target(study):.0%} of toleranced drops come first, "
-                  "ranked by their margin (grid steps, in every swept quantity, to the nearest cell that misses "
-                  "the target or to the end of the swept range), then by how often the goal is met. Goal met: share of toleranced drops that do what "
-                  "the study wants, with its 95 % Wilson interval; outcome flips: share whose outcome differs from "
-                  "the same drop released exactly (a cell is chaotic above "
-                  f"{(study.analyses.picks or Picks()).chaotic_flip_rate:.0%}); value change: mean change of the "
-                  "metric's value against the exact release, for reference only. All columns "
-                  f"are in <a href=\"{PICKS_FILE}\">{PICKS_FILE}</a>.</p>",
+        parts += ["<h2>Recommended drop conditions</h2>", _picks_words(study),
                   _table(picks_table(art.picks, study), css="picks", column_css={"note": "words"})]
         chaotic = art.picks[art.picks["chaotic"]]
         if len(chaotic):

@@ -98,7 +98,8 @@ def test_region_sentences():
         "within angle 10-40 deg and aspect ratio 2-4.",
         "1 other, smaller region(s) are listed in the CSV only.",
     ]
-    assert region_sentences(regions, smallest=1)[1] == "Region 2 (1 cell, 4% of the grid): angle 50 deg for aspect ratio 5."
+    assert region_sentences(regions, smallest=1)[1] == ("Region 2 (1 cell, 4% of the grid): "
+                                                        "angle 50 deg for aspect ratio 5.")
 
 
 def test_no_safe_region_and_one_quantity():

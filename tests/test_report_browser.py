@@ -25,7 +25,8 @@ WINDOW = (1200, 3000)         # [px] a laptop-sized window
 
 PROBE = """<script>
 window.addEventListener("load", () => {
-  const rows = [...document.querySelectorAll("table.picks tr:not(:first-child)")].map(r => r.getBoundingClientRect().height);
+  const rows = [...document.querySelectorAll("table.picks tr:not(:first-child)")]
+    .map(r => r.getBoundingClientRect().height);
   const found = {
     images: [...document.images].map(i => [i.getAttribute("src"), i.complete, i.naturalWidth, i.naturalHeight]),
     pageWidth: document.documentElement.scrollWidth,
