@@ -15,7 +15,9 @@ import numpy as np
 import pandas as pd
 
 from . import maps
-from .picks import picks as make_picks
+from .picks import judged_cells, picks as make_picks
+from .regions import safe_regions
+from .robust_map import robustness
 from .sensitivity import METHODS, RANKING_FILE, output_files
 
 #: Folder of every figure of a run (maps, curves, robustness, sensitivity
@@ -25,6 +27,10 @@ FIGURE_FOLDER = "maps"
 #: The recommended drop conditions, inside the run folder.
 PICKS_FILE = "picks.csv"
 
+#: The connected regions of the grid where the target holds under
+#: tolerance, as ranges, inside the run folder.
+SAFE_REGIONS_FILE = "safe-regions.csv"
+
 
 def output_names():
     """Every file and folder :func:`analyse` can write, relative to the run folder.
@@ -32,10 +38,10 @@ def output_names():
     Returns
     -------
     tuple of str
-        The figure folder, the picks file and every sensitivity method's
+        The figure folder, the picks and safe-region files and every sensitivity method's
         CSV files (whichever method a run used).
     """
-    return (FIGURE_FOLDER, PICKS_FILE, *output_files())
+    return (FIGURE_FOLDER, PICKS_FILE, SAFE_REGIONS_FILE, *output_files())
 
 
 @dataclass
@@ -50,6 +56,8 @@ class Artefacts:
     sensitivity_tables: dict = field(default_factory=dict)  # Table.key -> its further tables
     ranking_charts: list = field(default_factory=list)
     picks: pd.DataFrame | None = None
+    safe_regions: pd.DataFrame | None = None        # explore.regions.safe_regions over the judged cells
+    headline: str | None = None                     # the event never / always happened: one sentence
     notes: list = field(default_factory=list)
     seconds: dict = field(default_factory=dict)
 
@@ -98,7 +106,8 @@ def analyse(outcome) -> Artefacts:
         notes for the report and the time taken. [s for ``seconds``]
         Files go to the run folder: figures in :data:`FIGURE_FOLDER`, the
         ranking in ``sensitivity.csv``, each further table in its declared
-        file, the picks in :data:`PICKS_FILE`.
+        file, the picks in :data:`PICKS_FILE`, the safe regions in
+        :data:`SAFE_REGIONS_FILE`.
     """
     study, folder, tables = outcome.study, Path(outcome.folder), outcome.tables
     art = Artefacts()
@@ -113,20 +122,57 @@ def analyse(outcome) -> Artefacts:
         for c in study.analyses.curves:
             paths, csv = maps.curve(study, grid, c.x, map_dir, c.formats)
             art.curves.append((f"metric against {c.x}", paths, csv))
-    if robust is not None and len(robust) and study.analyses.robustness:
-        if study.analyses.maps:
-            x, y = study.analyses.maps[0].x, study.analyses.maps[0].y
-        else:
-            g = study.gridded()
-            x, y = g[0], (g[1] if len(g) > 1 else None)
-        paths, csv = maps.robustness(study, robust, grid, x, y, map_dir)
-        art.robustness.append((f"robustness over {x}" + (f" and {y}" if y else ""), paths, csv))
+    tolerated = robust is not None and len(robust) > 0
+    if tolerated:
+        cells = judged_cells(study, robust, grid)
+        if study.analyses.picks is not None:
+            art.picks = make_picks(study, robust, grid)
+            art.picks.to_csv(folder / PICKS_FILE, index=False)
+        x, y = _robustness_axes(study)
+        art.safe_regions = safe_regions(cells, study.gridded(), x=x)
+        art.safe_regions.to_csv(folder / SAFE_REGIONS_FILE, index=False)
+        if study.analyses.robustness:
+            paths, csv = robustness(study, cells, x, y, map_dir, art.picks)
+            art.robustness.append((f"robustness over {x}" + (f" and {y}" if y else ""), paths, csv))
     art.seconds["plotting"] = time.perf_counter() - t0
     t1 = time.perf_counter()
     if outcome.plan is not None:
         _sensitivity(outcome, art, folder, map_dir)
     art.seconds["analysis"] = time.perf_counter() - t1
-    if robust is not None and len(robust) and (study.analyses.picks is not None):
-        art.picks = make_picks(study, robust, grid)
-        art.picks.to_csv(folder / PICKS_FILE, index=False)
+    art.headline = headline(study, tables)
     return art
+
+
+def _robustness_axes(study):
+    """The robustness map's axes: the first regime map's, else the first two grid quantities."""
+    if study.analyses.maps:
+        return study.analyses.maps[0].x, study.analyses.maps[0].y
+    g = study.gridded()
+    return g[0], (g[1] if len(g) > 1 else None)
+
+
+def headline(study, tables):
+    """One sentence when the event never or always happened in the whole study, else None.
+
+    Parameters
+    ----------
+    study : Study
+        The validated study (its metric's words).
+    tables : dict of str to pandas.DataFrame
+        Every stage's result table (``event`` column); drops that would
+        start inside the floor are left out.
+
+    Returns
+    -------
+    str or None
+    """
+    events = [t.loc[t["status"].astype(str) != "inside floor", "event"].to_numpy(bool)
+              for t in tables.values() if len(t)]
+    events = np.concatenate(events) if events else np.zeros(0, bool)
+    if not events.size or 0 < events.sum() < events.size:
+        return None
+    _, event_words = maps.metric_words(study)
+    how = "never" if not events.any() else "always"
+    return (f"In all {events.size:,} drops of this study the event ({event_words}) {how} happened, so every map "
+            f"and pick below is flat: widen the ranges or change the threshold to find where it "
+            f"{'starts' if how == 'never' else 'stops'}.")

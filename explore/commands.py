@@ -107,9 +107,10 @@ def cmd_check(args):
 def cmd_run(args):
     """``hopscape run``: simulate a study, analyse it and write its report.
 
-    Prints the drop counts, the time of each step, the quantities that
-    matter most (by the ranking column of the sensitivity method that ran)
-    and the best pick, and records counts and times in :data:`RUN_RECORD`.
+    Prints one sentence first when the event never or always happened, then
+    the drop counts, the time of each step, the quantities that matter most
+    (by the ranking column of the sensitivity method that ran), the best
+    pick and the safe regions, and records counts and times in :data:`RUN_RECORD`.
 
     Parameters
     ----------
@@ -123,6 +124,7 @@ def cmd_run(args):
         The exit code, 0.
     """
     from .analysis import analyse
+    from .regions import region_sentences
     from .report import write_report
     from .runner import run_study
     from .sensitivity import METHODS
@@ -148,6 +150,8 @@ def cmd_run(args):
     (outcome.folder / RUN_RECORD).write_text(json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
                                                           "sensitivity_method": art.method, "seconds": seconds},
                                                          indent=1))
+    if art.headline:
+        print(art.headline)
     print(f"{study.name}: {outcome.total:,} drops ({outcome.simulated:,} simulated now) in {seconds['total']:.1f} s")
     print("  time: " + ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items() if k != "total"))
     if art.ranking is not None:
@@ -156,12 +160,19 @@ def cmd_run(args):
         print("  matters most: " + ", ".join(f"{p} ({col} {v:.2f})" for p, v in zip(top["parameter"], top[col])))
     if art.picks is not None and len(art.picks):
         best = art.picks.iloc[0]
-        text = f"  best pick: event probability {best['event_probability']:.0%} under tolerance"
+        text = (f"  best pick: goal met in {best['goal_probability']:.0%} of toleranced drops "
+                f"(95 % interval {best['goal_low']:.0%}-{best['goal_high']:.0%}), margin {best['margin_steps']} "
+                f"grid step(s), outcome flips in {best['flip_rate']:.0%}")
         if "angle_window_low_deg" in best and best["angle_window_low_deg"] == best["angle_window_low_deg"]:
             text += f", angle window {best['angle_window_low_deg']:g}-{best['angle_window_high_deg']:g} deg"
+        if not best["meets_target"]:
+            text += " - below the target: no cell meets it"
         if best["chaotic"]:
             text += " (chaotic region!)"
         print(text)
+    if art.safe_regions is not None:
+        lines = region_sentences(art.safe_regions) or ["none: no cell meets the target under the tolerance."]
+        print("  where the goal holds under tolerance: " + "\n    ".join(lines))
     print(f"  report: {report}")
     return 0
 

@@ -11,7 +11,7 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
-import sim  # noqa: E402
+from hopscape import sim  # noqa: E402
 
 from .figures import OKABE_ITO, save_figure  # noqa: E402
 

@@ -325,10 +325,12 @@ class Picks(Strict):
     """Recommended drop conditions."""
 
     count: int = Field(default=5, ge=1, le=100, description="how many conditions to recommend")
-    target: float = Field(default=0.8, gt=0, le=1, description="event probability a pick must reach [-]")
-    chaotic_spread: float = Field(default=0.1, gt=0, le=10,
-                                  description="mean change of the value under tolerance above which a cell is "
-                                              "chaotic [-]")
+    target: float = Field(default=0.8, gt=0, le=1,
+                          description="probability under tolerance of the goal (the event to seek it, its absence "
+                                      "to avoid it) a pick must reach [-]")
+    chaotic_flip_rate: float = Field(default=0.2, gt=0, le=1,
+                                     description="share of toleranced drops whose outcome differs from the same "
+                                                 "drop released exactly, above which a cell is chaotic [-]")
 
 
 class Analyses(Strict):

@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 
 from hopscape import sensitivity
-from hopscape.analysis import FIGURE_FOLDER, PICKS_FILE, analyse, output_names
+from hopscape.analysis import FIGURE_FOLDER, PICKS_FILE, SAFE_REGIONS_FILE, analyse, output_names
 from hopscape.cli import main
 from hopscape.runner import run_study
 from hopscape.study import parse_study
@@ -145,7 +145,7 @@ def test_morris_writes_the_ranking_alone(morris_run):
 
 
 def test_output_names_cover_every_method_and_the_figures():
-    assert output_names() == (FIGURE_FOLDER, PICKS_FILE, "sensitivity.csv", "sensitivity-second-order.csv",
+    assert output_names() == (FIGURE_FOLDER, PICKS_FILE, SAFE_REGIONS_FILE, "sensitivity.csv", "sensitivity-second-order.csv",
                               "sensitivity-convergence.csv")
 
 

@@ -1,16 +1,19 @@
-"""Regime maps, curves and the robustness map (explore/maps.py).
+"""Regime maps and curves (explore/maps.py).
 
 Every figure is written beside a CSV of the numbers behind it; the tests
 recompute those numbers by hand from the result table of a small real run
 (the shared ``small_run``: 80 cells x 12 draws) or from a table built here,
 so the expected values do not go through the code under test.
 """
+import matplotlib.axes
 import numpy as np
 import pandas as pd
 import pytest
+from scipy.stats import binomtest
 
-from conftest import PIN, PIN_ON_STEEL, changed, grid, read_parts, study_yaml, uniform
-from hopscape.maps import energy_note, metric_words, tolerance_effect
+from conftest import PIN, PIN_ON_STEEL, SMALL, changed, grid, read_parts, study_yaml, uniform
+from hopscape.maps import energy_note, flat, metric_words, regime_map
+from hopscape.sim.impact import LAW_TABLE
 from hopscape.study import COLUMN, parse_study
 
 
@@ -58,46 +61,43 @@ def test_curve_csv_holds_median_band_and_probability_per_angle(small_run):
         assert row["p10_value"] <= row["median_value"] <= row["p90_value"]
 
 
-def test_robustness_csv_is_the_mean_change_against_the_exact_partner(small_run):
-    cells = pd.read_csv(small_run / "maps" / "robustness-angle-aspect_ratio.csv")
-    tables = read_parts(small_run)
-    grid, robust = tables["grid"].sort_values(["cell", "draw"]), tables["robust"]
-    partner = grid.iloc[robust["pair"].to_numpy()]
-    keys = [COLUMN["angle"], COLUMN["aspect_ratio"]]
-    # a toleranced drop belongs to the cell of its partner (its own angle moved)
-    robust = pd.DataFrame({"change": np.abs(robust["value"].to_numpy() - partner["value"].to_numpy()),
-                           "event": robust["event"].to_numpy(),
-                           **{k: partner[k].to_numpy() for k in keys}})
-    expected = robust.groupby(keys).agg(drops=("change", "size"), mean_change=("change", "mean"),
-                                        event_probability=("event", "mean"))
-    got = cells.set_index(keys).sort_index()
-    assert len(got) == 80 and (got["drops"] == 8).all()
-    pd.testing.assert_frame_equal(got[["drops", "mean_change", "event_probability"]], expected.sort_index(),
-                                  check_dtype=False, rtol=1e-12)
-    assert (got["mean_change"] > 0).any()          # release errors do move the metric here
+def test_map_csv_has_wilson_intervals(small_run):
+    cells = pd.read_csv(small_run / "maps" / "map-angle-aspect_ratio.csv")
+    for _, row in cells.iloc[::9].iterrows():
+        ci = binomtest(round(row["event_probability"] * 12), 12).proportion_ci(method="wilson")
+        assert (row["event_low"], row["event_high"]) == pytest.approx((ci.low, ci.high), abs=1e-12)
 
 
-# --------------------------------------------------------------------------
-# tolerance_effect on a table built by hand
-# --------------------------------------------------------------------------
+def test_curve_probability_has_wilson_intervals(small_run):
+    curve = pd.read_csv(small_run / "maps" / "curve-angle.csv")
+    for _, row in curve.iterrows():
+        k = round(row["event_probability"] * row["drops"])
+        # an independent implementation of Wilson (1927, J. Am. Stat. Assoc. 22:209)
+        ci = binomtest(k, int(row["drops"])).proportion_ci(confidence_level=0.95, method="wilson")
+        assert (row["event_low"], row["event_high"]) == pytest.approx((ci.low, ci.high), abs=1e-12)
 
-def test_tolerance_effect_by_hand():
-    # two cells of two grid drops each; row i of grid is pair i
-    grid = pd.DataFrame({"cell": [0, 0, 1, 1], "value": [1.0, 2.0, 3.0, 4.0]})
-    robust = pd.DataFrame({
-        "cell": [0, 0, 0, 1, 1],
-        "pair": [0, 1, 0, 2, 3],
-        "value": [1.5, 1.0, 1.0, np.nan, 4.25],     # the nan: a body that would start inside the floor
-        "event": [True, False, False, False, True],
-    })
-    effect = tolerance_effect(robust, grid)
-    assert list(effect.index) == [0, 1]
-    assert list(effect["drops"]) == [3, 2]
-    # |1.5 - 1| + |1 - 2| + |1 - 1| over 3; cell 1: only |4.25 - 4| is defined
-    np.testing.assert_allclose(effect["mean_change"], [0.5, 0.25], rtol=1e-15)
-    np.testing.assert_allclose(effect["event_probability"], [1 / 3, 1 / 2], rtol=1e-15)
-    np.testing.assert_allclose(effect["mean_value"], [3.5 / 3, 4.25], rtol=1e-15)
-    np.testing.assert_allclose(effect["inside_floor_fraction"], [0.0, 0.5], rtol=1e-15)
+
+def contours_drawn(monkeypatch, study, table, folder):
+    """How many contour sets ``regime_map`` draws for ``table``."""
+    calls = []
+    original = matplotlib.axes.Axes.contour
+
+    def counting(self, *args, **kwargs):
+        calls.append(kwargs.get("levels"))
+        return original(self, *args, **kwargs)
+
+    monkeypatch.setattr(matplotlib.axes.Axes, "contour", counting)
+    regime_map(study, table, "angle", "aspect_ratio", folder)
+    return len(calls)
+
+
+def test_no_contours_over_a_flat_field(small_run, tmp_path, monkeypatch):
+    study = parse_study(SMALL)
+    table = read_parts(small_run)["grid"]
+    assert contours_drawn(monkeypatch, study, table, tmp_path) > 0       # the real map has lines
+    never = table.assign(event=False)
+    assert contours_drawn(monkeypatch, study, never, tmp_path / "never") == 0
+    assert flat([[0.0, 0.0], [0.0, np.nan]]) and not flat([[0.0, 0.1]])
 
 
 # --------------------------------------------------------------------------
@@ -127,6 +127,19 @@ def test_energy_note_follows_the_energy_bound():
     assert "the lowest point can still beat its own release height" in note(metric={"reference": "bottom"})
     assert "the top point can still beat its own release height" in note(metric={"reference": "top"})
     assert note().startswith("Energy bound: released from rest, the centre can never rise above its release height")
+
+
+@pytest.mark.parametrize("law", LAW_TABLE, ids=lambda law: law.name)
+def test_energy_note_follows_each_laws_energy_flag(law):
+    # the bound holds for laws that never create energy; Newton's law can
+    # create energy (Stronge, J. Appl. Mech. 58:1049, 1991)
+    text = note(contact={"law": law.name})
+    if law.creates_energy:
+        assert text.startswith(f"Energy bound: none here. The {law.name} law can create energy")
+        assert "never rise" not in text
+    else:
+        assert "the centre can never rise above its release height" in text
+        assert f"the {law.name} law never creates energy" in text
 
 
 @pytest.mark.parametrize("metric, value_words, event_words", [
