@@ -57,14 +57,18 @@ def energy_note(study: Study):
     Parameters
     ----------
     study : Study
-        The validated study; its impact law, metric reference and release
-        spin and velocity are read.
+        The validated study; its impact law, floor angle, metric reference
+        and release spin and velocity are read.
 
     Returns
     -------
     str
         One or two sentences for map captions and the report.
     """
+    floor = study.quantity("floor_angle")
+    if floor is not None and floor.span() != (0.0, 0.0):
+        return ("Energy bound: none here. On an inclined floor heights are measured normal to the floor, and a "
+                "body moving downhill gains energy, so it can rise above its release height even from rest.")
     if creates_energy(study):
         return (f"Energy bound: none here. The {study.contact.law} law can create energy at an impact (with stick "
                 "as well as with slip reversal), so even released from rest the centre may rise above its release "

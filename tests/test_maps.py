@@ -5,6 +5,8 @@ recompute those numbers by hand from the result table of a small real run
 (the shared ``small_run``: 80 cells x 12 draws) or from a table built here,
 so the expected values do not go through the code under test.
 """
+from pathlib import Path
+
 import matplotlib.axes
 import numpy as np
 import pandas as pd
@@ -15,6 +17,8 @@ from conftest import PIN, PIN_ON_STEEL, SMALL, changed, grid, read_parts, study_
 from hopscape.maps import energy_note, flat, metric_words, regime_map
 from hopscape.sim.impact import LAW_TABLE
 from hopscape.study import COLUMN, parse_study
+
+ROOT = Path(__file__).resolve().parents[1]
 
 
 def test_map_csv_holds_the_numbers_behind_the_map(small_run):
@@ -157,3 +161,15 @@ def test_energy_note_follows_each_laws_energy_flag(law):
 def test_metric_words(metric, value_words, event_words):
     study = parse_study(study_yaml(changed(NOTE_STUDY, metric=metric)))
     assert metric_words(study) == (value_words, event_words)
+
+
+def test_no_energy_bound_is_claimed_on_an_inclined_floor():
+    # on a slope the along-floor potential turns into motion normal to the
+    # floor after an impact (docs/physics.md sections 1 and 6): no bound
+    from hopscape.maps import energy_note
+    text = (ROOT / "studies" / "pill-lip.yaml").read_text(encoding="utf-8")
+    assert "Energy bound: none here. On an inclined floor" in energy_note(parse_study(text))
+    level = text.replace("floor_angle: {grid: {low: 0, high: 40, steps: 21}}", "floor_angle: 0") \
+                .replace("    - {x: angle, y: floor_angle}", "    - {x: angle, y: angle2}") \
+                .replace("  maps:\n    - {x: angle, y: angle2}\n", "").replace("  curves:\n    - {x: floor_angle}\n", "")
+    assert "On an inclined floor" not in energy_note(parse_study(level))
