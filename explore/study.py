@@ -249,10 +249,10 @@ class Release(_Section):
 class Metric(Strict):
     """What counts in each drop (:data:`explore.metric_kinds.METRIC_KINDS`)."""
 
-    kind: Literal[tuple(METRIC_KINDS)] = Field("ratio", description=f"metric kind: {' | '.join(METRIC_KINDS)}")
+    kind: Literal[tuple(METRIC_KINDS)] = Field(description=f"metric kind: {' | '.join(METRIC_KINDS)}")
     bounce: Union[int, str] = Field("later", description="'later' (best later bounce), 'first' or a bounce number")
-    reference: Literal[tuple(sim.REFERENCES)] = Field("centre", description=f"the point whose height counts: "
-                                                                        f"{' | '.join(sim.REFERENCES)}")
+    reference: Literal[tuple(sim.REFERENCES)] = Field(description=f"the point whose height counts: "
+                                                              f"{' | '.join(sim.REFERENCES)}")
     goal: Literal["seek", "avoid"] = Field("seek", description="whether the event is wanted or to be avoided")
     threshold: float = Field(default=1.0, gt=0, le=10, description="event: value above this [-]")
     limit: Optional[float] = Field(default=None, gt=0, le=100,
@@ -391,7 +391,7 @@ class Study(Strict):
                                    "or length")
     contact: Contact = Field(description="the floor contact: restitution and friction (law optional)")
     release: Release = Field(description="the release: height and angle (spin, vx, vy optional)")
-    metric: Metric = Field(Metric(), description=f"what counts in each drop: kind ({' | '.join(METRIC_KINDS)}) and "
+    metric: Metric = Field(description=f"what counts in each drop: kind ({' | '.join(METRIC_KINDS)}) and "
                                        f"reference ({' | '.join(sim.REFERENCES)})")
     tolerance: Tolerance = Tolerance()
     analyses: Analyses = Analyses()

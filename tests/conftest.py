@@ -100,7 +100,7 @@ SMALL_STUDY = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 5), "density": 1150},
     "contact": PIN_ON_STEEL,
     "release": {"height": uniform(0.003, 0.008), "height_of": "bottom", "angle": grid(0, 90, 16)},
-    "metric": {"reference": "bottom"},
+    "metric": {"kind": "ratio", "reference": "bottom"},
     "tolerance": {"angle": 2.0, "height": 0.001, "draws": 8},
     "analyses": {"draws": 12, "maps": [{"x": "angle", "y": "aspect_ratio"}], "curves": [{"x": "angle"}],
                  "sensitivity": {"method": "sobol", "samples": 128}, "picks": {"count": 3, "target": 0.5}},

@@ -281,7 +281,7 @@ def test_study_rows_carry_their_floor_angle():
         "name": "chute", "body": {**PIN, "aspect_ratio": 3.0, "density": 1150},
         "contact": {"restitution": 0.8, "friction": 0.2},
         "release": {"height": 0.05, "angle": 30, "floor_angle": {"grid": {"low": -30, "high": 30, "steps": 3}}},
-        "metric": {"reference": "centre"}, "run": {"impacts": 4}}))
+        "metric": {"kind": "ratio", "reference": "centre"}, "run": {"impacts": 4}}))
     frame = pd.DataFrame({COLUMN["aspect_ratio"]: 3.0, COLUMN["diameter"]: 0.006, COLUMN["density"]: 1150.0,
                           COLUMN["restitution"]: 0.8, COLUMN["friction"]: 0.2, COLUMN["height"]: 0.05,
                           COLUMN["angle"]: 30.0, COLUMN["spin"]: 0.0, COLUMN["vx"]: 0.0, COLUMN["vy"]: 0.0,

@@ -67,7 +67,8 @@ def test_command_line_words_the_bound(capsys):
 
 def test_study_file_words_the_bound():
     text = ("name: t\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 1.2, friction: 0.2}\n"
-            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n")
+            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n"
+            "metric: {kind: ratio, reference: centre}\n")
     with pytest.raises(InputError) as caught:
         parse_study(text, "t.yaml")
     assert caught.value.messages == ["t.yaml:3:11: contact.restitution: " + WORDING]

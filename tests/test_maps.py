@@ -113,7 +113,7 @@ NOTE_STUDY = {
     "body": {**PIN, "aspect_ratio": 3.0},
     "contact": PIN_ON_STEEL,
     "release": {"height": 0.01, "angle": grid(0, 90, 4)},
-    "metric": {"reference": "centre"},
+    "metric": {"kind": "ratio", "reference": "centre"},
 }
 
 

@@ -41,7 +41,7 @@ def test_one_bounce_has_no_later_bounce():
     ("later_over_first", {"threshold": 1.0}, [1.3 / 0.6, 0.4 / 0.9, 0.0], [True, False, False]),
 ])
 def test_each_kind_gives_its_value_and_event(kind, settings, value, event):
-    metric = Metric(kind=kind, **settings)
+    metric = Metric(kind=kind, reference="centre", **settings)
     declared = METRIC_KINDS[kind]
     got = declared.value(Outcome(RATIOS), metric)
     assert got.tolist() == value
@@ -49,13 +49,13 @@ def test_each_kind_gives_its_value_and_event(kind, settings, value, event):
 
 
 def test_flags_ignore_the_threshold():
-    metric = Metric(kind="beats_release", threshold=5.0)
+    metric = Metric(kind="beats_release", reference="centre", threshold=5.0)
     value = METRIC_KINDS["beats_release"].value(Outcome(RATIOS), metric)
     assert METRIC_KINDS["beats_release"].event(value, metric).tolist() == [True, False, True]
 
 
 def test_a_drop_inside_the_floor_is_never_an_event():
-    metric = Metric(kind="ratio", threshold=1.0)
+    metric = Metric(kind="ratio", reference="centre", threshold=1.0)
     assert METRIC_KINDS["ratio"].event(np.array([np.nan, 2.0]), metric).tolist() == [False, True]
 
 
@@ -68,7 +68,8 @@ def test_words_name_the_point_and_the_bounce():
 
 def test_the_study_schema_offers_exactly_the_declared_kinds():
     text = ("name: t\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 0.8, friction: 0.2}\n"
-            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\nmetric: {kind: highest}\n")
+            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n"
+            "metric: {kind: highest, reference: centre}\n")
     with pytest.raises(InputError) as caught:
         parse_study(text, "t.yaml")
     (message,) = caught.value.messages
@@ -79,7 +80,7 @@ def test_the_study_schema_offers_exactly_the_declared_kinds():
 
 def test_later_over_first_is_zero_without_a_first_bounce():
     # a drop that never rose again has no first bounce to compare with
-    metric = Metric(kind="later_over_first")
+    metric = Metric(kind="later_over_first", reference="centre")
     value = METRIC_KINDS["later_over_first"].value(Outcome(np.array([[0.0, 0.0]])), metric)
     assert value.tolist() == [0.0]
 
@@ -102,9 +103,9 @@ def test_clears_compares_the_bounce_height_with_the_limit():
 
 def test_clears_needs_a_limit_and_only_clears_takes_one():
     with pytest.raises(Exception, match="kind clears needs limit"):
-        Metric(kind="clears")
+        Metric(kind="clears", reference="centre")
     with pytest.raises(Exception, match="limit is used only by kind clears"):
-        Metric(kind="ratio", limit=0.01)
+        Metric(kind="ratio", reference="centre", limit=0.01)
 
 
 def test_clears_on_real_drops_of_a_bouncing_ball(tmp_path):

@@ -37,7 +37,7 @@ DENSITY = study_yaml({
     "body": {**PIN, "aspect_ratio": 3.0, "density": uniform(500, 3000)},
     "contact": {"restitution": uniform(0.5, 0.95), "friction": 0.2},
     "release": {"height": 0.02, "angle": uniform(0, 90)},
-    "metric": {"reference": "centre", "bounce": "later"},
+    "metric": {"kind": "ratio", "reference": "centre", "bounce": "later"},
     "analyses": {"robustness": False, "sensitivity": {"method": "sobol", "samples": 512}},
     "run": {"jobs": 1, "seed": 5, "impacts": 4},
 })
@@ -95,7 +95,7 @@ LOW_DROP = {
     "body": {**PIN, "aspect_ratio": grid(4.0, 8.0, 5)},
     "contact": {"restitution": 0.95, "friction": uniform(0.05, 0.3)},
     "release": {"height": 0.004, "height_of": "bottom", "angle": grid(0, 90, 31)},
-    "metric": {"reference": "centre", "bounce": "later"},
+    "metric": {"kind": "ratio", "reference": "centre", "bounce": "later"},
     "tolerance": {"angle": 1.0, "height": 0.0005, "draws": 8},
     "analyses": {"draws": 8},
     "run": {"jobs": 1, "seed": 11, "impacts": 4},
@@ -154,7 +154,7 @@ PAIRS = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 3)},
     "contact": {"restitution": uniform(0.6, 0.95), "friction": uniform(0.05, 0.5)},
     "release": {"height": 0.03, "angle": grid(5, 85, 7)},
-    "metric": {"reference": "bottom"},
+    "metric": {"kind": "ratio", "reference": "bottom"},
     "analyses": {"draws": 4, "maps": [{"x": "angle", "y": "aspect_ratio"}]},
     "run": {"jobs": 1, "seed": 2, "impacts": 4},
 }

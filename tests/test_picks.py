@@ -42,6 +42,7 @@ PICK_STUDY = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 4.0, 3)},
     "contact": PIN_ON_STEEL,
     "release": {"height": 0.01, "angle": grid(0, 60, 7)},
+    "metric": {"kind": "ratio", "reference": "centre"},
     "tolerance": {"draws": 4},
     "analyses": {"draws": 4, "picks": {"count": 6, "target": 0.75}},
 }

@@ -27,6 +27,7 @@ PLAN = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 3)},
     "contact": {"restitution": uniform(0.6, 0.9), "friction": {"normal": {"mean": 0.2, "sd": 0.5}}},
     "release": {"height": {"log_uniform": {"low": 0.01, "high": 0.1}}, "angle": grid(0, 90, 4)},
+    "metric": {"kind": "ratio", "reference": "centre"},
     "tolerance": {"angle": 2.0, "height": 0.001, "spin": 3.0, "draws": 5},
     "analyses": {"draws": 6, "sensitivity": {"method": "sobol", "samples": 64}},
     "run": {"seed": 7},
@@ -193,6 +194,7 @@ name: plan
 body: {shape: capsule, diameter: 0.006, density: 1150, aspect_ratio: {grid: {low: 2.0, high: 6.0, steps: 3}}}
 contact: {restitution: {uniform: {low: 0.8, high: 0.95}}, friction: 0.2}
 release: {height: {normal: {mean: 0.05, sd: 0.01}}, angle: {grid: {low: 0, high: 90, steps: 4}}}
+metric: {kind: ratio, reference: centre}
 analyses: {draws: 2, robustness: false, sensitivity: SETTINGS}
 run: {seed: 3}
 """

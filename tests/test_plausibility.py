@@ -32,6 +32,7 @@ release:
   spin: SPIN
 tolerance: {height: TOLERANCE}
 analyses: {robustness: false}
+metric: {kind: ratio, reference: centre}
 """
 PLAIN = {"HEIGHT": "0.1", "ANGLE": "{grid: {low: 0, high: 90, steps: 3}}", "SPIN": "0", "TOLERANCE": "0.002"}
 

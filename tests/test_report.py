@@ -75,6 +75,7 @@ def test_tiny_run_report_leaves_out_what_was_not_computed(tmp_path):
         "body": {**PIN, "aspect_ratio": 3.0},
         "contact": {"restitution": 0.9, "friction": 0.2},
         "release": {"height": 0.01, "angle": grid(0, 90, 3)},
+        "metric": {"kind": "ratio", "reference": "centre"},
         "analyses": {"robustness": False},
         "run": {"jobs": 1, "impacts": 3},
     })
@@ -128,7 +129,7 @@ NEVER = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 5.0, 3)},
     "contact": {"restitution": 0.9, "friction": 0.2},
     "release": {"height": 0.01, "height_of": "bottom", "angle": grid(0, 90, 4)},
-    "metric": {"reference": "centre", "threshold": 1.0},
+    "metric": {"kind": "ratio", "reference": "centre", "threshold": 1.0},
     "tolerance": {"draws": 2},
     "analyses": {"maps": [{"x": "angle", "y": "aspect_ratio"}], "picks": {"count": 2}},
     "run": {"jobs": 1, "impacts": 3},
@@ -158,6 +159,7 @@ def test_energy_creating_law_changes_the_bound_and_the_footnote(tmp_path):
         "body": {**PIN, "aspect_ratio": grid(2.0, 8.0, 4)},
         "contact": {"law": "newton", "restitution": 0.95, "friction": uniform(0.05, 1.0)},
         "release": {"height": 0.02, "angle": grid(5, 85, 9)},
+        "metric": {"kind": "ratio", "reference": "centre"},
         "analyses": {"draws": 2, "robustness": False},
         "run": {"jobs": 1, "impacts": 6},
     })

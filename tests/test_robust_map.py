@@ -67,7 +67,7 @@ def test_one_grid_quantity_draws_curves_and_a_csv(tmp_path):
         "body": {**PIN, "aspect_ratio": 4.0},
         "contact": PIN_ON_STEEL,
         "release": {"height": 0.005, "height_of": "bottom", "angle": grid(10, 80, 8)},
-        "metric": {"reference": "bottom"},
+        "metric": {"kind": "ratio", "reference": "bottom"},
         "tolerance": {"draws": 6},
         "analyses": {"draws": 3, "picks": {"count": 2, "target": 0.5}},
         "run": {"jobs": 1, "seed": 5, "impacts": 4},

@@ -26,6 +26,7 @@ GOOD_STUDY = {
     "body": {**PIN, "aspect_ratio": grid(2.0, 5.0, 4), "density": 1150},
     "contact": {"restitution": uniform(0.8, 0.95), "friction": 0.2},
     "release": {"height": 0.02, "angle": grid(0, 90, 5)},
+    "metric": {"kind": "ratio", "reference": "centre"},
     "analyses": {"draws": 4, "maps": [{"x": "angle", "y": "aspect_ratio"}]},
     "run": {"jobs": 1, "impacts": 3},
 }
@@ -190,6 +191,7 @@ contact:
 release:
   height: 0.01
   angle: {grid: {low: 0, high: 90, steps: many}}
+metric: {kind: ratio, reference: centre}
 analyses:
   draws: 4
   sensitivity: {method: sobol, samples: 1000}
@@ -271,7 +273,8 @@ def test_missing_required_field_points_at_its_section(tmp_path, capsys):
 
 
 def test_wrong_bounce_is_one_message_under_its_field_path(tmp_path, capsys):
-    msg = only_error(tmp_path, capsys, GOOD + "metric: {bounce: second}\n", "bounce: second", "bounce", "metric.bounce")
+    text = study_yaml(changed(GOOD_STUDY, metric={"bounce": "second"}))
+    msg = only_error(tmp_path, capsys, text, "bounce: second", "bounce", "metric.bounce")
     assert "'second'" in msg
 
 
@@ -293,6 +296,8 @@ release:
   angle: {grid: {low: 0, high: 90, steps: 5}}
   spin: {uniform: {low: 0, high: 10}}
 metric:
+  kind: ratio
+  reference: centre
   bounce: 5
 analyses:
   maps:
@@ -458,3 +463,18 @@ def test_floor_angle_is_a_study_quantity_that_can_be_gridded(tmp_path, capsys):
     study = parse_study(study_yaml(changed(GOOD_STUDY, release={"floor_angle": grid(0, 30, 4)})))
     assert "floor_angle" in study.gridded()
     assert parse_study(study_yaml(GOOD_STUDY)).quantity("floor_angle") is None  # absent: a level floor
+
+
+def test_a_study_without_a_metric_is_refused(tmp_path, capsys):
+    # no silent default of the centre's ratio: what counts must be said
+    text = study_yaml(changed(GOOD_STUDY, metric=None))
+    msg = only_error(tmp_path, capsys, text, "name: probe", None, "metric")
+    assert "the study has no metric section" in msg and "kind (ratio | " in msg
+    text = study_yaml(changed(GOOD_STUDY, metric={"kind": None}))
+    msg = only_error(tmp_path, capsys, text, "metric:", None, "metric.kind")
+    assert "required field is missing" in msg
+
+
+def test_a_study_without_a_body_is_one_clear_message(tmp_path, capsys):
+    msg = only_error(tmp_path, capsys, study_yaml(changed(GOOD_STUDY, body=None)), "name: probe", None, "body")
+    assert "the study has no body section" in msg and "shape (capsule | " in msg

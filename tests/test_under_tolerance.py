@@ -88,6 +88,7 @@ GOAL_STUDY = {
     "body": {**PIN, "aspect_ratio": 3.0},
     "contact": PIN_ON_STEEL,
     "release": {"height": 0.01, "angle": grid(0, 90, 2)},
+    "metric": {"kind": "ratio", "reference": "centre"},
     "analyses": {"picks": {"target": 0.5}},
 }
 
