@@ -19,6 +19,7 @@ from .picks import judged_cells, picks as make_picks
 from .regions import safe_regions
 from .robust_map import robustness
 from .sensitivity import METHODS, RANKING_FILE, output_files
+from .files import write_csv
 
 #: Folder of every figure of a run (maps, curves, robustness, sensitivity
 #: charts) and of the CSV file behind each map, inside the run folder.
@@ -76,12 +77,12 @@ def _sensitivity(outcome, art, folder, figures):
         y = np.nan_to_num(y, nan=0.0)
     found = method.analyse(plan, y)
     art.ranking = found["ranking"].sort_values("rank").reset_index(drop=True)
-    art.ranking.to_csv(folder / RANKING_FILE, index=False)
+    write_csv(art.ranking, folder / RANKING_FILE)
     for extra in method.tables:
         frame = found.get(extra.key)
         if frame is not None and len(frame):
             art.sensitivity_tables[extra.key] = frame
-            frame.to_csv(folder / extra.file, index=False)
+            write_csv(frame, folder / extra.file)
     shown = {"ranking": art.ranking, **art.sensitivity_tables}
     for picture in method.pictures:
         if picture.table in shown:
@@ -127,10 +128,10 @@ def analyse(outcome) -> Artefacts:
         cells = judged_cells(study, robust, grid)
         if study.analyses.picks is not None:
             art.picks = make_picks(study, robust, grid)
-            art.picks.to_csv(folder / PICKS_FILE, index=False)
+            write_csv(art.picks, folder / PICKS_FILE)
         x, y = _robustness_axes(study)
         art.safe_regions = safe_regions(cells, study.gridded(), x=x)
-        art.safe_regions.to_csv(folder / SAFE_REGIONS_FILE, index=False)
+        write_csv(art.safe_regions, folder / SAFE_REGIONS_FILE)
         if study.analyses.robustness:
             paths, csv = robustness(study, cells, x, y, map_dir, art.picks)
             art.robustness.append((f"robustness over {x}" + (f" and {y}" if y else ""), paths, csv))

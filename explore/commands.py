@@ -8,6 +8,7 @@ from pathlib import Path
 
 from .cli_text import STRICT_HELP, report_warnings
 from .errors import InputError
+from .files import write_text
 
 HANDLERS = {}
 
@@ -147,7 +148,7 @@ def cmd_run(args):
     report = write_report(outcome, art, seconds)
     seconds["report"] = time.perf_counter() - t
     seconds["total"] = time.perf_counter() - start
-    (outcome.folder / RUN_RECORD).write_text(json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
+    write_text(outcome.folder / RUN_RECORD, json.dumps({"drops": outcome.total, "simulated": outcome.simulated,
                                                           "sensitivity_method": art.method, "seconds": seconds},
                                                          indent=1))
     if art.headline:

@@ -13,6 +13,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from .files import atomic_write
+
 __all__ = ["OKABE_ITO", "DPI", "save_figure"]
 
 #: Okabe & Ito (2008) colour-blind-safe palette [1].
@@ -49,7 +51,8 @@ def save_figure(fig, path_or_base, formats=None, dpi=DPI):
     paths = [path_or_base] if formats is None else [path_or_base.with_suffix("." + fmt) for fmt in formats]
     path_or_base.parent.mkdir(parents=True, exist_ok=True)
     for path in paths:
-        fig.savefig(path, dpi=dpi)
+        with atomic_write(path) as tmp:   # the format follows tmp's ending, the same as path's
+            fig.savefig(tmp, dpi=dpi)
     if fig.canvas.manager is not None:  # only pyplot's figures have a manager, and then pyplot is loaded
         import matplotlib.pyplot as plt
 

@@ -50,6 +50,12 @@ def write_text(path, text):
         Path(tmp).write_text(text, encoding="utf-8")
 
 
+def write_csv(frame, path):
+    """Write a table as CSV (without its index) to ``path`` atomically."""
+    with atomic_write(path) as tmp:
+        frame.to_csv(tmp, index=False)
+
+
 def refuse_overwriting_input(output, *inputs, option="--out"):
     """InputError when ``output`` names one of the ``inputs`` (or is a folder)."""
     output = Path(output)

@@ -22,6 +22,7 @@ from .metric_kinds import METRIC_KINDS  # noqa: E402
 from .figures import OKABE_ITO, save_figure  # noqa: E402
 from .under_tolerance import wilson_interval  # noqa: E402
 from .study import COLUMN, Study, label  # noqa: E402
+from .files import write_csv  # noqa: E402
 
 
 def metric_words(study: Study):
@@ -176,7 +177,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     cells = _cells(study, table, [x, y])
     per_cell = int(cells["drops"].min())
     base = folder / f"map-{x}-{y}"
-    cells.to_csv(base.with_suffix(".csv"), index=False)
+    write_csv(cells, base.with_suffix(".csv"))
     value_words, event_words = metric_words(study)
     show_probability = per_cell > 1 or METRIC_KINDS[study.metric.kind].is_flag
     column = "event_probability" if show_probability else "mean_value"
@@ -193,7 +194,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     if len(xs) > 1 and len(ys) > 1 and not flat(z):
         _, _, ratio = grid_of(cells, x, y, "mean_best_later_ratio")
         if np.nanmin(ratio) < study.metric.threshold < np.nanmax(ratio):
-            cs = ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
+            ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="black", linewidths=1.0)
             legend.append(plt.Line2D([], [], color="black", lw=1.5,
                                      label=f"mean best later bounce = {study.metric.threshold:g} x release height"))
@@ -262,7 +263,7 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
                           "p90_value": g.quantile(0.9), "mean_value": g.mean(),
                           "event_probability": events.mean(), "event_low": low, "event_high": high}).reset_index()
     base = folder / f"curve-{x}"
-    frame.to_csv(base.with_suffix(".csv"), index=False)
+    write_csv(frame, base.with_suffix(".csv"))
     value_words, event_words = metric_words(study)
     is_flag = METRIC_KINDS[study.metric.kind].is_flag
     fig, ax = plt.subplots(figsize=(8, 4.8), constrained_layout=True)

@@ -189,7 +189,6 @@ def robust_frame(study: Study, grid: pd.DataFrame) -> pd.DataFrame:
         ``pair``; heights are kept at or above the smallest allowed height.
         [units of the columns' names]
     """
-    import pandas as pd
     tol = study.tolerance
     draws = tol.draws
     per_cell = int(grid["draw"].max()) + 1

@@ -17,6 +17,7 @@ from .robust_map import tolerance_text
 from .sensitivity import METHODS
 from .study import COLUMN, QUANTITIES, Picks, Study
 from .under_tolerance import picks_target
+from .files import write_text
 
 #: The page, inside the run folder.
 REPORT_FILE = "report.html"
@@ -240,5 +241,5 @@ def write_report(outcome, art, seconds) -> Path:
     parts.append(f"<p>Time: {html.escape(split)}. Drops simulated in this call: {outcome.simulated:,} of "
                  f"{outcome.total:,} (the rest were already on disk).</p></body></html>")
     path = folder / REPORT_FILE
-    path.write_text("\n".join(parts), encoding="utf-8")
+    write_text(path, "\n".join(parts))
     return path

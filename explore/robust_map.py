@@ -22,6 +22,7 @@ from .figures import OKABE_ITO, save_figure  # noqa: E402
 from .maps import flat, flat_words, grid_of, metric_words, wrap  # noqa: E402
 from .study import COLUMN, Picks, Study, label  # noqa: E402
 from .under_tolerance import goal_words, wilson_interval  # noqa: E402
+from .files import write_csv  # noqa: E402
 
 
 def tolerance_text(study: Study) -> str:
@@ -92,7 +93,7 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
     keys = [k for k in (x, y) if k is not None]
     points = _points(cells, keys)
     base = folder / ("robustness-" + "-".join(keys))
-    points.to_csv(base.with_suffix(".csv"), index=False)
+    write_csv(points, base.with_suffix(".csv"))
     _, event_words = metric_words(study)
     goal = goal_words(study, event_words)
     target, chaos = settings.target, settings.chaotic_flip_rate

@@ -21,7 +21,6 @@ from __future__ import annotations
 
 import contextlib
 import json
-import os
 import shutil
 import time
 from dataclasses import dataclass, field
@@ -35,6 +34,7 @@ from .errors import InputError
 from .metrics import simulate_frame
 from .plan import build_stages
 from .study import Study
+from .files import atomic_write, write_text
 
 
 @dataclass
@@ -93,20 +93,8 @@ def write_atomic(frame: pd.DataFrame, path: Path):
     path : pathlib.Path
         The final file name.
     """
-    tmp = path.with_name(path.name + f".tmp{os.getpid()}")
-    try:
+    with atomic_write(path) as tmp:
         frame.to_parquet(tmp, index=False)
-        with open(tmp, "rb+") as handle:
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    except BaseException:  # Ctrl-C included: leave no half-written file behind
-        with contextlib.suppress(OSError):
-            tmp.unlink()
-        raise
-    with contextlib.suppress(OSError):
-        fd = os.open(path.parent, os.O_RDONLY)
-        os.fsync(fd)
-        os.close(fd)
 
 
 def _earlier_outputs():
@@ -177,7 +165,7 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
         buffer = io.StringIO()
         YAML(typ="safe", pure=True).dump(study.model_dump(mode="json", exclude_none=True), buffer)
         source_text = "# written by hopscape from the validated study\n" + buffer.getvalue()
-    (folder / "study.yaml").write_text(source_text, encoding="utf-8")
+    write_text(folder / "study.yaml", source_text)
     stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint(),
                                  "numbers": study.numbers()}, indent=1))
     return folder

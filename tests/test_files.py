@@ -77,3 +77,35 @@ def test_a_run_folder_that_is_a_file_is_refused(tmp_path, capsys):
     assert main(["run", "quick", "--out", str(out)]) == 2
     assert "is a file; the run folder must be a folder" in capsys.readouterr().err
     assert out.read_text() == "x"
+
+
+@pytest.mark.slow
+def test_a_disk_that_fills_during_the_analysis_leaves_the_earlier_outputs(tmp_path, capsys, monkeypatch):
+    # a rerun whose pictures and tables cannot be written (the disk fills
+    # half way through a file) must leave the first run's outputs whole
+    import shutil
+
+    import matplotlib.figure
+    from conftest import SMALL, write_study
+    study = write_study(tmp_path, SMALL, "small.yaml")
+    folder = tmp_path / "run"
+    assert main(["run", str(study), "--out", str(folder), "--quiet", "--backend", "sequential"]) == 0
+    capsys.readouterr()
+    before = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts}
+    real_savefig, real_to_csv = matplotlib.figure.Figure.savefig, pd.DataFrame.to_csv
+
+    def fills_up(write):
+        def half_then_full(self, target, *args, **kwargs):
+            write(self, target, *args, **kwargs)
+            with open(target, "r+b") as handle:           # keep half of what was written
+                handle.truncate(max(1, os.path.getsize(target) // 2))
+            raise OSError(28, "No space left on device")
+        return half_then_full
+
+    monkeypatch.setattr(matplotlib.figure.Figure, "savefig", fills_up(real_savefig))
+    monkeypatch.setattr(pd.DataFrame, "to_csv", fills_up(real_to_csv))
+    assert main(["run", str(study), "--out", str(folder), "--quiet", "--backend", "sequential"]) == 1
+    after = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts}
+    assert after == before                                  # nothing truncated, nothing half-written added
+    assert not [p for p in folder.rglob("*tmp*")]
+    shutil.rmtree(folder)
