@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import json
 import re
+import sys
 import time
 from pathlib import Path
 
@@ -140,6 +141,8 @@ def cmd_run(args):
     start = time.perf_counter()
     outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,
                         backend=args.backend, scheduler=args.scheduler, progress=not args.quiet)
+    for note in outcome.notes:
+        print(f"hopscape: note: {note}", file=sys.stderr)
     art = analyse(outcome)
     seconds = {"sampling": outcome.seconds["sampling"], "simulation": outcome.seconds["simulation"],
                "loading": outcome.seconds["loading"], "analysis": art.seconds.get("analysis", 0.0),

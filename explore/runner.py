@@ -12,14 +12,20 @@ parts is refused (``fresh=True`` starts over).
 Every part carries a ``stage`` column (:data:`STAGE_COLUMN`), so that
 parts read together (``pandas.read_parquet`` on the ``results`` folder,
 which keeps the first part's columns) keep the stages apart.
-Parts written before parts carried it belong to the same study (the
-fingerprint does not change with the table's layout): a run over such a
-folder resumes, and each old part gets the column, rewritten atomically,
-when it is read.
+
+Parts prove what they are: each records in its Parquet metadata the
+study's fingerprint, its stage, its task number, its first row and row
+count, and a checksum of its content (:func:`part_proof`). Before a run
+resumes, every existing part is read and checked against what its task
+must hold; a part that is unreadable, short, from another task or study,
+altered, or without a proof (written by an earlier version) is moved to
+``results/rejected/`` with the reason in its name, reported, and computed
+again, so the final table is the one an uninterrupted run gives.
 """
 from __future__ import annotations
 
 import contextlib
+import hashlib
 import json
 import shutil
 import time
@@ -60,6 +66,8 @@ class RunOutcome:
         Drops simulated in this call (the rest were already on disk).
     total : int
         Drops in all stages.
+    notes : list of str
+        One line per result part that was rejected and computed again.
     """
     study: Study
     folder: Path
@@ -68,6 +76,7 @@ class RunOutcome:
     seconds: dict = field(default_factory=dict)
     simulated: int = 0      # drops simulated in this call (the rest were on disk)
     total: int = 0
+    notes: list = field(default_factory=list)   # parts rejected and computed again, one line each
 
 
 #: Column naming the stage of every row of a result part (and of the tables
@@ -95,6 +104,74 @@ def write_atomic(frame: pd.DataFrame, path: Path):
     """
     with atomic_write(path) as tmp:
         frame.to_parquet(tmp, index=False)
+
+
+#: Key of a part's proof in its Parquet metadata.
+PROOF_KEY = b"hopscape"
+
+
+def part_checksum(frame: pd.DataFrame):
+    """SHA-256 of a table's column names and content, row order included."""
+    digest = hashlib.sha256(json.dumps([str(c) for c in frame.columns]).encode())
+    digest.update(pd.util.hash_pandas_object(frame, index=False).to_numpy().tobytes())
+    return digest.hexdigest()
+
+
+def part_proof(study: Study, stage, task, first_row, frame):
+    """What a result part records about itself (see the module notes)."""
+    return {"fingerprint": study.fingerprint(), "stage": stage, "task": task, "first_row": first_row,
+            "rows": len(frame), "checksum": part_checksum(frame)}
+
+
+def write_part(frame: pd.DataFrame, path: Path, proof: dict):
+    """Write a result part with its proof in the Parquet metadata, atomically."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(frame, preserve_index=False)
+    metadata = {**(table.schema.metadata or {}), PROOF_KEY: json.dumps(proof).encode()}
+    with atomic_write(path) as tmp:
+        pq.write_table(table.replace_schema_metadata(metadata), tmp)
+
+
+def read_part(path: Path, expected: dict):
+    """A result part and why it cannot be used (None when it can).
+
+    ``expected`` is :func:`part_proof`'s dict without the checksum: what the
+    part's task must hold. Returns ``(frame, None)`` or ``(None, reason)``.
+    """
+    import pyarrow.parquet as pq
+
+    try:
+        table = pq.read_table(path)
+        frame = table.to_pandas()
+    except Exception as exc:  # noqa: BLE001 - any unreadable file is rejected the same way
+        return None, f"unreadable ({type(exc).__name__})"
+    raw = (table.schema.metadata or {}).get(PROOF_KEY)
+    if raw is None:
+        return None, "no proof of origin (written by an earlier version or another program)"
+    try:
+        proof = json.loads(raw)
+    except ValueError:
+        return None, "an unreadable proof"
+    for key, value in expected.items():
+        if proof.get(key) != value:
+            return None, f"from another task or study ({key} {proof.get(key)!r} instead of {value!r})"
+    if len(frame) != expected["rows"]:
+        return None, f"short ({len(frame)} of {expected['rows']} rows)"
+    if proof.get("checksum") != part_checksum(frame):
+        return None, "altered (its content does not match its checksum)"
+    return frame, None
+
+
+def _reject(path, reason):
+    """Move a part that cannot be used to ``results/rejected/``; the line to report."""
+    aside = path.parent / "rejected"
+    aside.mkdir(exist_ok=True)
+    target = aside / f"{path.name}.{time.strftime('%Y%m%d-%H%M%S')}"
+    path.replace(target)
+    return (f"{path.parent.name}/{path.name} was {reason}; moved to {aside.name}/{target.name} and computed "
+            "again")
 
 
 def _earlier_outputs():
@@ -182,15 +259,6 @@ def _work(study, stage, k, frame):
     return stage, k, _with_stage(simulate_frame(study, frame), stage)
 
 
-def _read_part(path, stage):
-    """A result part; one written before parts carried their stage gets the column and is rewritten."""
-    table = pd.read_parquet(path)
-    if STAGE_COLUMN not in table:
-        table = _with_stage(table, stage)
-        write_atomic(table, path)
-    return table
-
-
 @contextlib.contextmanager
 def _backend(study, jobs, backend, scheduler):
     if backend == "dask":
@@ -268,13 +336,21 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
     clock["sampling"] = time.perf_counter() - clock["start"]
     size = study.run.chunk_size
     results = folder / "results"
-    tasks, done_drops = [], 0
+    tasks, done, notes = [], {}, []
+    fingerprint = study.fingerprint()
     for stage, frame in stages.items():
         for k, start in enumerate(range(0, len(frame), size)):
-            if (results / _part_name(stage, k)).exists():
-                done_drops += min(size, len(frame) - start)
-            else:
-                tasks.append((stage, k, start))
+            path = results / _part_name(stage, k)
+            if path.exists():
+                expected = {"fingerprint": fingerprint, "stage": stage, "task": k, "first_row": start,
+                            "rows": min(size, len(frame) - start)}
+                part, reason = read_part(path, expected)
+                if reason is None:
+                    done[stage, k] = part
+                    continue
+                notes.append(_reject(path, reason))
+            tasks.append((stage, k, start))
+    done_drops = sum(len(part) for part in done.values())
     total = sum(len(f) for f in stages.values())
     t_sim = time.perf_counter()
     bar = tqdm(total=total, initial=done_drops, unit="drop", unit_scale=True, disable=not progress,
@@ -286,7 +362,7 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
         if backend == "sequential" or (jobs == 1 and backend != "dask"):
             outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size]) for stage, k, start in tasks)
             for stage, k, frame in outputs:
-                write_atomic(frame, results / _part_name(stage, k))
+                done[stage, k] = _keep(study, results, stage, k, size, frame)
                 bar.update(len(frame))
                 simulated += len(frame)
         else:
@@ -294,7 +370,7 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
                 kwargs = {} if backend == "dask" else {"backend": backend}
                 parallel = Parallel(n_jobs=jobs, return_as="generator_unordered", **kwargs)
                 for stage, k, frame in parallel(calls):
-                    write_atomic(frame, results / _part_name(stage, k))
+                    done[stage, k] = _keep(study, results, stage, k, size, frame)
                     bar.update(len(frame))
                     simulated += len(frame)
     finally:
@@ -304,9 +380,13 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
     t_load = time.perf_counter()
     tables = {}
     for stage, frame in stages.items():
-        parts = sorted(results.glob(f"part-{stage}-*.parquet"))
-        table = (pd.concat([_read_part(p, stage) for p in parts], ignore_index=True) if parts
-                 else _with_stage(frame.iloc[:0], stage))
-        tables[stage] = table
+        parts = [done[stage, k] for k in range(len(range(0, len(frame), size)))]
+        tables[stage] = (pd.concat(parts, ignore_index=True) if parts else _with_stage(frame.iloc[:0], stage))
     clock["loading"] = time.perf_counter() - t_load
-    return RunOutcome(study, folder, tables, plan, clock, simulated, total)
+    return RunOutcome(study, folder, tables, plan, clock, simulated, total, notes)
+
+
+def _keep(study, results, stage, k, size, frame):
+    """Write a finished chunk as its part, with its proof; return it."""
+    write_part(frame, results / _part_name(stage, k), part_proof(study, stage, k, k * size, frame))
+    return frame

@@ -314,19 +314,66 @@ def test_parts_carry_their_stage(small_reference):
         assert set(pd.read_parquet(path, columns=["stage"])["stage"]) == {path.name.split("-")[1]}, path.name
 
 
-def test_folder_from_before_parts_carried_their_stage_resumes(small_reference, tmp_path):
-    # a run folder written before parts had a stage column: same study, same
-    # fingerprint, so it resumes; each old part gains the column on reading
+def _truncate(path, _):
+    path.write_bytes(path.read_bytes()[: path.stat().st_size // 2])
+
+
+def _empty(path, _):
+    path.write_bytes(b"")
+
+
+def _garbage(path, _):
+    path.write_bytes(b"PAR1 this is not a table PAR1")
+
+
+def _swap(path, parts):
+    # another valid part of the same study in its place (cp part-1 part-0)
+    shutil.copyfile(parts[1], path)
+
+
+def _edit(path, _):
+    # a valid Parquet file with its proof, one value changed
+    import pyarrow.parquet as pq
+    table = pq.read_table(path)
+    frame = table.to_pandas()
+    frame.loc[3, "value"] = 99.0
+    import pyarrow as pa
+    pq.write_table(pa.Table.from_pandas(frame, preserve_index=False).replace_schema_metadata(table.schema.metadata),
+                   path)
+
+
+def _remove_rows(path, _):
+    import pyarrow.parquet as pq
+    table = pq.read_table(path)
+    pq.write_table(table.slice(0, table.num_rows - 100), path)
+
+
+def _no_proof(path, _):
+    # a part as an earlier version wrote it: no proof in its metadata
+    write_atomic(pd.read_parquet(path), path)
+
+
+@pytest.mark.parametrize("damage, reason", [
+    (_truncate, "unreadable"), (_empty, "unreadable"), (_garbage, "unreadable"),
+    (_swap, "from another task or study (task 1 instead of 0)"), (_edit, "altered"),
+    (_remove_rows, "short (400 of 500 rows)"), (_no_proof, "no proof of origin"),
+])
+def test_a_damaged_part_is_moved_aside_and_computed_again(small_reference, tmp_path, damage, reason):
+    # parts prove what they are (runner module notes): whatever was done to
+    # one, the resumed run reports it, sets it aside and ends with the table
+    # of the uninterrupted run
     shutil.copytree(small_reference.folder, tmp_path, dirs_exist_ok=True)
-    parts = sorted((tmp_path / "results").glob("part-*.parquet"))
-    for path in parts:
-        write_atomic(pd.read_parquet(path).drop(columns="stage"), path)
-    parts[0].unlink()                                   # and one chunk still to run
+    parts = sorted((tmp_path / "results").glob("part-grid-*.parquet"))
+    victim = parts[0]
+    damage(victim, parts)
     again = run_text(SMALL, tmp_path)
-    assert 0 < again.simulated < sum(SMALL_COUNTS.values())
+    (note,) = again.notes
+    assert note.startswith(f"results/{victim.name} was {reason}")
+    assert again.simulated == 500                      # that part alone (chunk size 500)
     assert_same_tables(again.tables, small_reference.tables)
-    for path in parts:
-        assert "stage" in pd.read_parquet(path).columns, path.name
+    (aside,) = (tmp_path / "results" / "rejected").iterdir()
+    assert aside.name.startswith(victim.name)
+    assert run_text(SMALL, tmp_path).simulated == 0     # and the new part is trusted next time
 
 
 def test_run_from_python_records_the_study(tmp_path):
