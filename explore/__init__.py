@@ -235,7 +235,7 @@ def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analy
         For a folder holding another study's results, or ``jobs`` < 1.
     """
     from .errors import InputError
-    from .runner import run_study as run_stages
+    from .files import folder_lock
 
     source_text = ""                # a validated study is recorded as such in the folder's study.yaml
     if not hasattr(study, "fingerprint"):
@@ -244,6 +244,14 @@ def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analy
     if jobs is not None and jobs < 1:
         raise InputError(f"jobs must be >= 1, got {jobs}")
     folder = Path("runs") / study.name if folder is None else Path(folder)
+    with folder_lock(folder):   # held through the analysis and the report too
+        return _run_and_report(study, folder, source_text, fresh, jobs, backend, analyse, progress)
+
+
+def _run_and_report(study, folder, source_text, fresh, jobs, backend, analyse, progress):
+    """The body of :func:`run_study`, with the run folder held."""
+    from .runner import run_study as run_stages
+
     outcome = run_stages(study, folder, source_text, fresh=fresh, jobs=jobs, backend=backend, progress=progress)
     if not analyse:
         return StudyRun(study, outcome.folder, outcome.tables)

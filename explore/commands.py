@@ -9,7 +9,7 @@ from pathlib import Path
 
 from .cli_text import STRICT_HELP, report_warnings
 from .errors import InputError
-from .files import write_text
+from .files import folder_lock, write_text
 
 HANDLERS = {}
 
@@ -125,11 +125,6 @@ def cmd_run(args):
     int
         The exit code, 0.
     """
-    from .analysis import analyse
-    from .regions import region_sentences
-    from .report import write_report
-    from .runner import run_study
-    from .sensitivity import METHODS
     from .study import load_study
 
     path = find_study(args.study)
@@ -138,6 +133,18 @@ def cmd_run(args):
     if args.out is not None and args.out.exists() and not args.out.is_dir():
         raise InputError(f"--out {args.out} is a file; the run folder must be a folder (nothing was written)")
     out = args.out or Path("runs") / study.name
+    with folder_lock(out):   # held through the analysis and the report too
+        return _run_and_report(args, study, path, out)
+
+
+def _run_and_report(args, study, path, out):
+    """The body of :func:`cmd_run`, with the run folder held."""
+    from .analysis import analyse
+    from .regions import region_sentences
+    from .report import write_report
+    from .runner import run_study
+    from .sensitivity import METHODS
+
     start = time.perf_counter()
     outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,
                         backend=args.backend, scheduler=args.scheduler, progress=not args.quiet)

@@ -65,3 +65,53 @@ def refuse_overwriting_input(output, *inputs, option="--out"):
                              "(nothing was overwritten)")
     if output.is_dir():
         raise InputError(f"{option} {output} is a folder; give a file name ending in .csv or .parquet")
+
+
+#: The file a run holds locked in its folder while it writes there.
+LOCK_FILE = ".hopscape-lock"
+_held = {}   # folder -> (open lock file, holds): a process may nest its own holds
+
+
+@contextmanager
+def folder_lock(folder):
+    """Hold the run folder for this process while it writes there.
+
+    A second run into a busy folder is refused at once, naming the first
+    (its process id and start time). The lock is an ``flock`` on
+    :data:`LOCK_FILE`: the operating system releases it when the holder
+    ends, however it ends (``kill -9`` included), so a dead run never
+    leaves the folder stuck.
+    """
+    import fcntl
+    import time
+
+    folder = Path(folder).resolve()
+    if folder in _held:                      # the same process, one level down: already held
+        handle, holds = _held[folder]
+        _held[folder] = (handle, holds + 1)
+        try:
+            yield folder
+        finally:
+            handle, holds = _held[folder]
+            _held[folder] = (handle, holds - 1)
+        return
+    folder.mkdir(parents=True, exist_ok=True)
+    handle = open(folder / LOCK_FILE, "a+")
+    try:
+        fcntl.flock(handle, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except BlockingIOError:
+        handle.seek(0)
+        holder = handle.read().strip() or "another process"
+        handle.close()
+        raise InputError(f"{folder} is busy: {holder} is writing into it; wait for it to finish or choose "
+                         "another --out") from None
+    handle.seek(0)
+    handle.truncate()
+    handle.write(f"hopscape run (process {os.getpid()}, started {time.strftime('%Y-%m-%d %H:%M:%S')})")
+    handle.flush()
+    _held[folder] = (handle, 1)
+    try:
+        yield folder
+    finally:
+        del _held[folder]
+        handle.close()                       # closing releases the flock

@@ -40,7 +40,7 @@ from .errors import InputError
 from .metrics import simulate_frame
 from .plan import build_stages
 from .study import Study
-from .files import atomic_write, write_text
+from .files import atomic_write, folder_lock, write_text
 
 
 @dataclass
@@ -325,8 +325,14 @@ def run_study(study: Study, folder, source_text="", *, fresh=False, jobs=None, b
         For a folder that holds another study's results, or a missing Dask
         installation.
     """
+    with folder_lock(folder):
+        return _run_locked(study, Path(folder), source_text, fresh, jobs, backend, scheduler, progress)
+
+
+def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, progress):
+    """:func:`run_study` with the folder held (:func:`hopscape.files.folder_lock`)."""
     clock = {"start": time.perf_counter()}
-    folder = prepare_folder(study, Path(folder), source_text, fresh=fresh)
+    folder = prepare_folder(study, folder, source_text, fresh=fresh)
     jobs = jobs or study.run.jobs
     backend = backend or study.run.backend
     scheduler = scheduler or study.run.scheduler

@@ -14,6 +14,7 @@ import pandas as pd
 import pytest
 
 from hopscape import sensitivity
+from hopscape.files import LOCK_FILE
 from hopscape.analysis import FIGURE_FOLDER, PICKS_FILE, SAFE_REGIONS_FILE, analyse, output_names
 from hopscape.cli import main
 from hopscape.runner import run_study
@@ -47,8 +48,9 @@ def analysed(text, folder):
 
 
 def files_in(folder):
+    """What a run wrote: its outputs, not its parts nor the folder's lock (hopscape.files.LOCK_FILE)."""
     return sorted(str(p.relative_to(folder)) for p in folder.rglob("*") if p.is_file()
-                  and p.parent.name != "results")
+                  and p.parent.name != "results" and p.name != LOCK_FILE)
 
 
 @pytest.fixture(scope="module")

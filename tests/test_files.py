@@ -91,7 +91,8 @@ def test_a_disk_that_fills_during_the_analysis_leaves_the_earlier_outputs(tmp_pa
     folder = tmp_path / "run"
     assert main(["run", str(study), "--out", str(folder), "--quiet", "--backend", "sequential"]) == 0
     capsys.readouterr()
-    before = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts}
+    before = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts
+              and p.name != ".hopscape-lock"}
     real_savefig, real_to_csv = matplotlib.figure.Figure.savefig, pd.DataFrame.to_csv
 
     def fills_up(write):
@@ -105,7 +106,34 @@ def test_a_disk_that_fills_during_the_analysis_leaves_the_earlier_outputs(tmp_pa
     monkeypatch.setattr(matplotlib.figure.Figure, "savefig", fills_up(real_savefig))
     monkeypatch.setattr(pd.DataFrame, "to_csv", fills_up(real_to_csv))
     assert main(["run", str(study), "--out", str(folder), "--quiet", "--backend", "sequential"]) == 1
-    after = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts}
+    after = {p: p.read_bytes() for p in folder.rglob("*") if p.is_file() and "results" not in p.parts
+             and p.name != ".hopscape-lock"}
     assert after == before                                  # nothing truncated, nothing half-written added
     assert not [p for p in folder.rglob("*tmp*")]
     shutil.rmtree(folder)
+
+
+@pytest.mark.slow
+def test_a_busy_folder_is_refused_and_a_killed_run_leaves_no_stuck_lock(tmp_path, capsys):
+    # a second run into a folder another run holds is refused at once,
+    # naming the first; flock is released by the operating system when its
+    # holder dies, even by kill -9, so the next run then takes the folder
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    from hopscape.files import folder_lock
+    code = ("import time; from hopscape.files import folder_lock\n"
+            f"with folder_lock({str(tmp_path / 'run')!r}):\n    print('held', flush=True); time.sleep(60)\n")
+    holder = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, text=True)
+    assert holder.stdout.readline().strip() == "held"
+    assert main(["run", "quick", "--out", str(tmp_path / "run")]) == 2
+    err = capsys.readouterr().err
+    assert "is busy: hopscape run (process " in err and f"{holder.pid}" in err
+    holder.send_signal(signal.SIGKILL)
+    holder.wait(timeout=10)
+    time.sleep(0.1)
+    with folder_lock(tmp_path / "run"):
+        with folder_lock(tmp_path / "run"):        # the same process may nest its holds
+            pass
