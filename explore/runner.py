@@ -27,7 +27,9 @@ from __future__ import annotations
 import contextlib
 import hashlib
 import json
+import os
 import shutil
+import sys
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -255,8 +257,34 @@ def _with_stage(table, stage):
     return table
 
 
-def _work(study, stage, k, frame):
+def _work(study, stage, k, frame, parent=None):
+    """One chunk in a worker: its metric table, with its stage."""
+    _end_with(parent)
     return stage, k, _with_stage(simulate_frame(study, frame), stage)
+
+
+_watching_parent = False
+
+
+def _end_with(parent):
+    """In a worker process started by the run's process ``parent`` (a pid):
+    ask Linux to kill this worker when that process ends, however it ends
+    (``kill -9`` included), so no worker outlives a dead run. Nothing in the
+    run's own process, under another parent (a Dask nanny), or elsewhere
+    than Linux."""
+    global _watching_parent
+    if _watching_parent or parent is None or os.getpid() == parent or not sys.platform.startswith("linux"):
+        return
+    _watching_parent = True
+    if os.getppid() != parent:
+        return
+    import ctypes
+    import signal
+
+    PR_SET_PDEATHSIG = 1
+    ctypes.CDLL(None, use_errno=True).prctl(PR_SET_PDEATHSIG, signal.SIGKILL)
+    if os.getppid() != parent:   # it ended before the request took hold
+        os._exit(1)
 
 
 @contextlib.contextmanager
@@ -363,7 +391,7 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                desc=f"{study.name}", dynamic_ncols=True, smoothing=0.1)
     simulated = 0
     try:
-        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size])
+        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size], os.getpid())
                  for stage, k, start in tasks)
         if backend == "sequential" or (jobs == 1 and backend != "dask"):
             outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size]) for stage, k, start in tasks)
