@@ -237,7 +237,7 @@ def cmd_drop(args):
     merge_window = _merge_window(args)
     radius = 0.0035 if args.radius is None else args.radius
 
-    def build():
+    def body():
         if args.aspect_ratio is not None and args.length is not None:
             raise ValueError("give --length or --aspect-ratio, not both")
         length = 0.014 if args.length is None else args.length
@@ -249,20 +249,25 @@ def cmd_drop(args):
             shape = sim.make_shape(args.shape, length=length, radius=radius, density=args.density, **further)
         if args.mass is not None:
             shape = shape.with_mass(MASS.check("--mass", args.mass))
+        return shape
+
+    def drop(shape):
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
-        result = sim.simulate(shape, release, contact, impacts=args.impacts)
-        return shape, result
+        return sim.simulate(shape, release, contact, impacts=args.impacts)
 
-    shape, result = _user_value_errors(build)
+    shape = _user_value_errors(body)
+    # the unit warnings come first: they often explain an error that follows
+    # (a radius in millimetres puts the body inside the floor)
     from .plausibility import drop_warnings
     given = {"height": args.height, "spin": args.spin, "vx": args.vx, "vy": args.vy, "density": args.density,
              "friction": args.friction, "length": args.length, "radius": args.radius,
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
+    result = _user_value_errors(lambda: drop(shape))
     bounces = sim.group_bounces(result, merge_window)
     print(drop_report(shape, result, bounces, args.reference))
     if args.csv is not None:

@@ -58,15 +58,18 @@ PLAUSIBLE = {
     "density": Plausible(Interval(100.0, 25000.0, unit="kg/m^3"), "is it in kg/m^3 (water is 1000)?",
                          "is it in g/cm^3? (water is 1000 kg/m^3)"),
     "friction": Plausible(Interval(0.0, 1.5, unit="-"), "Coulomb coefficients of hard parts are below about 1"),
-    "height": Plausible(Interval(1e-4, 10.0, unit="m"), "is it in millimetres?", "is it in metres?"),
+    "height": Plausible(Interval(1e-4, 2.0, unit="m"), "drops from above 2 m are rare on a drop rig or a line; "
+                        "is it in millimetres?", "is it in metres?"),
     "spin": Plausible(Interval(-1e4, 1e4, unit="rad/s"), "is it in rpm or deg/s? (1 rev/s = 6.28 rad/s)"),
     "vx": Plausible(Interval(-10.0, 10.0, unit="m/s"), "is it in mm/s?"),
     "vy": Plausible(Interval(-10.0, 10.0, unit="m/s"), "is it in mm/s?"),
 }
 
-#: A drop higher than this many body lengths is probably a height given in
-#: millimetres (a 20 mm pill from 20 m is 1,000 lengths).
-HEIGHT_PER_SIZE = 1000.0
+#: A drop higher than this many body sizes is probably a height given in
+#: millimetres: a 6 mm pin from 3 "m" (meant: 3 mm) is 500 sizes, while rigs
+#: and feeders drop parts from a few to some tens of sizes (judgement of the
+#: trade, not a published figure).
+HEIGHT_PER_SIZE = 200.0
 
 
 def angle_range_problem(low, high):

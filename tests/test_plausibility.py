@@ -54,9 +54,9 @@ def test_the_example_studies_have_no_warning(name):
 
 
 def test_heights_in_millimetres_typed_as_metres():
-    # 20-80 "m" for a 23 mm pill: both over 10 m and over 1,000 body lengths
+    # 20-80 "m" for a 23 mm pill: both over 2 m and over 200 body sizes
     (first, second) = warnings_of(HEIGHT="{uniform: {low: 20, high: 80}}")
-    assert first.startswith("pill.yaml:8:3: release.height: 20 m is outside the usual 0.0001 to 10 m")
+    assert first.startswith("pill.yaml:8:3: release.height: 20 m is outside the usual 0.0001 to 2 m")
     assert first.endswith("is it in millimetres?")
     assert second.startswith("pill.yaml:8:3: release.height: 80 m is 3,478 times the body's size (0.023 m)")
 
@@ -71,6 +71,13 @@ def test_angles_in_radians_typed_as_degrees():
     (warning,) = warnings_of(ANGLE="{grid: {low: 0, high: 1.5708, steps: 3}}")
     assert warning == ("pill.yaml:9:3: release.angle: the angle spans only 0 to 1.5708 deg; is it in radians? "
                        "(angles are in degrees)")
+
+
+def test_a_drop_of_millimetres_typed_as_metres_is_caught():
+    # 3-8 "m" for a 23 mm pill: the likeliest slip (3-8 mm meant)
+    (first, second) = warnings_of(HEIGHT="{uniform: {low: 3, high: 8}}")
+    assert "release.height: 3 m is outside the usual 0.0001 to 2 m" in first
+    assert "release.height: 8 m is 348 times the body's size (0.023 m)" in second
 
 
 def test_a_single_small_angle_is_not_a_unit_mistake():
@@ -114,7 +121,7 @@ def test_drop_names_the_option(capsys):
     assert main(["drop", "--height", "40", "--radius", "0.003", "--length", "0.01", "--impacts", "1",
                  "--no-plots"]) == 0
     err = capsys.readouterr().err.splitlines()
-    assert err[0].startswith("hopscape: warning: --height: 40 m is outside the usual 0.0001 to 10 m")
+    assert err[0].startswith("hopscape: warning: --height: 40 m is outside the usual 0.0001 to 2 m")
     assert main(["drop", "--height", "40", "--no-plots", "--strict"]) == 2
 
 
@@ -126,7 +133,17 @@ def test_batch_names_the_column_and_the_rows():
     table = run_batch(frame, warn=seen.extend)
     assert (table["error"] == "").all()     # warnings never stop a row
     heights = [line for line in seen if line.startswith("column height: ") and "outside the usual" in line]
-    assert heights == ["column height: 1 capsule row (first: drop 1): 25 m is outside the usual 0.0001 to 10 m; "
-                       "is it in millimetres?",
-                       "column height: 1 sphere row (first: drop 2): 30 m is outside the usual 0.0001 to 10 m; "
-                       "is it in millimetres?"]
+    rare = "drops from above 2 m are rare on a drop rig or a line; is it in millimetres?"
+    assert heights == [f"column height: 1 capsule row (first: drop 1): 25 m is outside the usual 0.0001 to 2 m; {rare}",
+                       f"column height: 1 sphere row (first: drop 2): 30 m is outside the usual 0.0001 to 2 m; {rare}"]
+
+
+def test_drop_warns_before_the_error_the_mistake_causes(capsys):
+    # a body in millimetres puts it inside the floor: the warnings that
+    # explain why come first, then the error
+    assert main(["drop", "--shape", "capsule", "--radius", "3", "--length", "24", "--height", "6",
+                 "--no-plots"]) == 2
+    err = capsys.readouterr().err.splitlines()
+    assert [line.split(":")[1].strip() for line in err] == ["warning"] * 3 + ["error"]
+    assert any("--radius: 3 m is outside" in line for line in err)
+    assert "inside the floor" in err[-1]
