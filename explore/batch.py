@@ -106,11 +106,15 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     missing = [c for c, (_, default) in INPUT_COLUMNS.items() if default is None and c not in frame
                and not (c == "law")]
     if missing:
-        raise InputError(f"the drop table lacks the column(s) {', '.join(missing)} "
-                         f"(needs {', '.join(INPUT_COLUMNS)})")
+        required = [c for c, (_, default) in INPUT_COLUMNS.items() if default is None and c != "law"]
+        raise InputError(f"the drop table lacks the column(s) {', '.join(missing)} (required: "
+                         f"{', '.join(required)}; optional: {', '.join(c for c in INPUT_COLUMNS if c not in required)})")
     for column, (_, default) in INPUT_COLUMNS.items():
         if column not in frame and default is not None:
             frame[column] = default
+        elif default is not None and column in NUMBERS:
+            # an empty cell of an optional column takes its default, like a missing column
+            frame[column] = frame[column].where(frame[column].notna(), default)
     if frame.empty:
         return pd.DataFrame(columns=list(OUTPUT_COLUMNS))
     errors, kinds, laws = _row_errors(frame, law)

@@ -309,7 +309,9 @@ def cmd_batch(args):
     print(f"{len(frame)} drops, {int(table['impact'].notna().sum())} impacts in {elapsed:.2f} s; "
           f"{failed} row(s) could not be simulated (see the error column); written to {args.out}")
     if len(frame) and failed == len(frame):
-        raise InputError(f"no row of {args.drops} could be simulated; the reasons are in the error column of {args.out}")
+        first = table.loc[table["error"] != "", "error"].iloc[0]
+        raise InputError(f"no row of {args.drops} could be simulated (row 0: {first}); every row's reason is in "
+                         f"the error column of {args.out}")
     return EXIT_OK
 
 

@@ -65,6 +65,9 @@ def refuse_overwriting_input(output, *inputs, option="--out"):
                              "(nothing was overwritten)")
     if output.is_dir():
         raise InputError(f"{option} {output} is a folder; give a file name ending in .csv or .parquet")
+    if output.suffix.lower() not in (".csv", ".parquet", ".pq"):
+        raise InputError(f"{option} {output}: a table is written as .csv or .parquet (by the file ending), got "
+                         f"{output.suffix or 'no ending'}")
 
 
 #: The file a run holds locked in its folder while it writes there.

@@ -338,3 +338,31 @@ def test_huge_angles_give_the_answer_of_their_reduced_form(tmp_path):
     many = sim.simulate(shape, sim.Release(0.05, 1e6), sim.Contact(0.8, 0.3), impacts=3)
     one = sim.simulate(shape, sim.Release(0.05, math.fmod(1e6, 2 * math.pi)), sim.Contact(0.8, 0.3), impacts=3)
     assert np.array_equal(many.impacts["time"], one.impacts["time"])
+
+
+def test_an_empty_optional_cell_takes_its_default(tmp_path):
+    # spin, vx, floor_angle are optional columns: an empty cell is the same
+    # as no column at all (0), so both rows below are the same drop
+    from hopscape.batch import run_batch
+    frame = pd.DataFrame({"shape": ["capsule"] * 2, "length": [0.01] * 2, "radius": [0.003] * 2,
+                          "density": [1100.0] * 2, "height": [0.05] * 2, "angle": [30.0] * 2,
+                          "spin": [np.nan, 0.0], "vx": [np.nan, 0.0], "floor_angle": [np.nan, 0.0],
+                          "restitution": [0.8] * 2, "friction": [0.3] * 2})
+    table = run_batch(frame, impacts=3)
+    assert (table["error"] == "").all()
+    first, second = (table[table["drop"] == i].drop(columns="drop").reset_index(drop=True) for i in (0, 1))
+    pd.testing.assert_frame_equal(first, second)
+
+
+def test_batch_messages_name_required_columns_and_the_first_reason(tmp_path, capsys):
+    source = tmp_path / "drops.csv"
+    source.write_text("shape,radius,density,height,angle,restitution\ncapsule,0.003,1100,0.05,30,0.8\n")
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.csv")]) == 2
+    err = capsys.readouterr().err
+    assert "lacks the column(s) friction (required: shape, radius, density, height, angle, restitution, " \
+           "friction; optional: length, spin" in err
+    source.write_text("shape,radius,density,height,angle,restitution,friction\ncone,0.003,1100,0.05,30,0.8,0.3\n")
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.csv")]) == 2
+    assert "(row 0: shape must be one of capsule" in capsys.readouterr().err
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.xlsx")]) == 2
+    assert "a table is written as .csv or .parquet" in capsys.readouterr().err
