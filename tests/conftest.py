@@ -159,3 +159,16 @@ def ishigami_run():
     y = ishigami_outputs(plan)
     indices, pairs = sens.sobol_analyze(plan, y)
     return plan, y, indices, pairs
+
+
+def example_studies():
+    """The example studies the repository ships (``studies/*.yaml`` as git
+    tracks them), not a user's own studies written there by ``hopscape new``."""
+    import subprocess
+    root = Path(__file__).resolve().parents[1]
+    try:
+        listed = subprocess.run(["git", "ls-files", "studies/*.yaml"], cwd=root, capture_output=True, text=True,
+                                check=True).stdout.split()
+    except (OSError, subprocess.CalledProcessError):   # not a git checkout: every file there
+        return sorted((root / "studies").glob("*.yaml"))
+    return sorted(root / name for name in listed)

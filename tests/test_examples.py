@@ -6,16 +6,16 @@ in all of it: a map where the event never happens (or always does) answers
 no question. A study without a map must show it in some drops and not all.
 The full-size studies are timed and counted in the README's table.
 """
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
 
 import hopscape
+from conftest import example_studies
 from hopscape.quantities import QUANTITIES
 
-STUDIES = sorted((Path(__file__).resolve().parents[1] / "studies").glob("*.yaml"))
+STUDIES = example_studies()
 
 #: Grid steps, draws per cell and tolerance draws of the small runs.
 STEPS, DRAWS, TOLERANCE_DRAWS, SOBOL_SAMPLES = 11, 8, 4, 256

@@ -12,6 +12,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from conftest import example_studies
 from hopscape.batch import run_batch
 from hopscape.cli import main
 from hopscape.study import load_study, parse_study
@@ -48,7 +49,7 @@ def test_a_plausible_study_has_no_warning():
     assert warnings_of() == ()
 
 
-@pytest.mark.parametrize("name", sorted(p.stem for p in (ROOT / "studies").glob("*.yaml")))
+@pytest.mark.parametrize("name", [p.stem for p in example_studies()])
 def test_the_example_studies_have_no_warning(name):
     assert load_study(ROOT / "studies" / f"{name}.yaml").warnings == ()
 
