@@ -179,19 +179,27 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     base = folder / f"map-{x}-{y}"
     write_csv(cells, base.with_suffix(".csv"))
     value_words, event_words = metric_words(study)
-    show_probability = per_cell > 1 or METRIC_KINDS[study.metric.kind].is_flag
+    kind = METRIC_KINDS[study.metric.kind]
+    show_probability = per_cell > 1 or kind.is_flag
+    avoid = study.metric.goal == "avoid"
     column = "event_probability" if show_probability else "mean_value"
     xs, ys, z = grid_of(cells, x, y, column)
+    if show_probability and avoid:
+        # colours say how often the goal is met, as on the robustness map:
+        # bright is good for seek and avoid alike
+        z = 1.0 - z
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
     cmap = plt.get_cmap("cividis" if show_probability else "viridis").with_extremes(bad="0.85")
     mesh = ax.pcolormesh(xs, ys, np.ma.masked_invalid(z), shading="nearest", cmap=cmap,
                          vmin=0 if show_probability else None, vmax=1 if show_probability else None)
     bar = fig.colorbar(mesh, ax=ax)
-    bar.set_label(f"probability: {event_words}" if show_probability else value_words, fontsize=9)
+    bar.set_label(wrap((f"probability it does not happen: {event_words}" if avoid else
+                        f"probability: {event_words}") if show_probability else value_words, 60), fontsize=9)
     legend = []
     # a flat field (the event never or always happens) gets no contours:
-    # lines drawn there would follow noise in the other columns
-    if len(xs) > 1 and len(ys) > 1 and not flat(z):
+    # lines drawn there would follow noise in the other columns; nor does a
+    # metric judged on a height limit, which the ratio lines say nothing about
+    if len(xs) > 1 and len(ys) > 1 and not flat(z) and not kind.uses_limit:
         _, _, ratio = grid_of(cells, x, y, "mean_best_later_ratio")
         if np.nanmin(ratio) < study.metric.threshold < np.nanmax(ratio):
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
@@ -211,8 +219,10 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
                   frameon=False)
     ax.set_xlabel(label(x))
     ax.set_ylabel(label(y))
-    ax.set_title(wrap(f"{study.name}: where {event_words} ({goal_clause(study)})"
-                       + (f" - {flat_words(z)}" if show_probability and flat(z) else ""), 80), fontsize=10)
+    where = f"where it is avoided that {event_words}" if avoid else f"where {event_words}"
+    ax.set_title(wrap(f"{study.name}: {where} ({goal_clause(study)})"
+                       + (f" - {flat_words(1.0 - z if avoid else z)}" if show_probability and flat(z) else ""), 80),
+                 fontsize=10)
     caption = (f"Reference point: {study.metric.reference}. {per_cell} drop(s) per cell"
                + (f" over {', '.join(n for n in study.varying() if n not in (x, y))}" if per_cell > 1 else "")
                + ". " + energy_note(study))
