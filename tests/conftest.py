@@ -172,3 +172,12 @@ def example_studies():
     except (OSError, subprocess.CalledProcessError):   # not a git checkout: every file there
         return sorted((root / "studies").glob("*.yaml"))
     return sorted(root / name for name in listed)
+
+
+def ball_text(restitution="0.8", kind="ratio"):
+    """A five-line study text of a 10 mm sphere over three angles, for
+    messages at a known place: line 3 is the contact, line 5 the metric."""
+    return ("name: t\nbody: {shape: sphere, diameter: 0.01}\n"
+            f"contact: {{restitution: {restitution}, friction: 0.2}}\n"
+            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n"
+            f"metric: {{kind: {kind}, reference: centre}}\n")

@@ -5,6 +5,7 @@ import numpy as np
 import pytest
 
 from hopscape import sim
+from conftest import ball_text
 from hopscape.batch import run_batch
 from hopscape.cli import main
 from hopscape.errors import InputError
@@ -66,9 +67,6 @@ def test_command_line_words_the_bound(capsys):
 
 
 def test_study_file_words_the_bound():
-    text = ("name: t\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 1.2, friction: 0.2}\n"
-            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n"
-            "metric: {kind: ratio, reference: centre}\n")
     with pytest.raises(InputError) as caught:
-        parse_study(text, "t.yaml")
+        parse_study(ball_text(restitution="1.2"), "t.yaml")
     assert caught.value.messages == ["t.yaml:3:11: contact.restitution: " + WORDING]

@@ -6,6 +6,7 @@ every expected value is read off the table by eye.
 import numpy as np
 import pytest
 
+from conftest import ball_text
 from hopscape.errors import InputError
 from hopscape.metric_kinds import METRIC_KINDS, Outcome
 from hopscape.study import Metric, parse_study
@@ -67,11 +68,8 @@ def test_words_name_the_point_and_the_bounce():
 
 
 def test_the_study_schema_offers_exactly_the_declared_kinds():
-    text = ("name: t\nbody: {shape: sphere, diameter: 0.01}\ncontact: {restitution: 0.8, friction: 0.2}\n"
-            "release: {height: 0.1, angle: {grid: {low: 0, high: 90, steps: 3}}}\n"
-            "metric: {kind: highest, reference: centre}\n")
     with pytest.raises(InputError) as caught:
-        parse_study(text, "t.yaml")
+        parse_study(ball_text(kind="highest"), "t.yaml")
     (message,) = caught.value.messages
     assert message.startswith("t.yaml:5:10: metric.kind: ")
     for name in METRIC_KINDS:
