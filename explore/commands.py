@@ -8,6 +8,7 @@ import time
 from pathlib import Path
 
 from .cli_text import STRICT_HELP, report_warnings
+from .defaults import execution
 from .errors import InputError
 from .files import folder_lock, write_text
 
@@ -96,13 +97,14 @@ def cmd_check(args):
     report_warnings(study.warnings, args.strict)
     counts = count_drops(study)
     total = sum(counts.values())
-    estimate = total / (ESTIMATE_RATE * study.run.jobs) + 5.0
+    in_process, _ = execution(total, study.run.jobs, study.run.backend)
+    estimate = total / (ESTIMATE_RATE * (1 if in_process else study.run.jobs)) + 5.0
     print(f"{path}: ok - study '{study.name}'")
     print(f"  gridded: {', '.join(study.gridded()) or 'none'}; distributed: {', '.join(study.random()) or 'none'}")
     for stage, n in counts.items():
         print(f"  {stage:>7}: {n:>10,} drops")
-    print(f"  total: {total:,} drops x up to {study.run.impacts} impacts; estimated {estimate:.0f} s "
-          f"with {study.run.jobs} job(s) ({study.run.backend})")
+    _, where = execution(total, study.run.jobs, study.run.backend)
+    print(f"  total: {total:,} drops x up to {study.run.impacts} impacts; estimated {estimate:.0f} s; runs {where}")
     return 0
 
 

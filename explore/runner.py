@@ -38,6 +38,7 @@ import pandas as pd
 from joblib import Parallel, delayed, parallel_config
 from tqdm.auto import tqdm
 
+from .defaults import execution
 from .errors import InputError
 from .metrics import simulate_frame
 from .plan import build_stages
@@ -257,9 +258,8 @@ def _with_stage(table, stage):
     return table
 
 
-def _work(study, stage, k, frame, parent=None):
+def _work(study, stage, k, frame):
     """One chunk in a worker: its metric table, with its stage."""
-    _end_with(parent)
     return stage, k, _with_stage(simulate_frame(study, frame), stage)
 
 
@@ -267,17 +267,18 @@ _watching_parent = False
 
 
 def _end_with(parent):
-    """In a worker process started by the run's process ``parent`` (a pid):
-    ask Linux to kill this worker when that process ends, however it ends
-    (``kill -9`` included), so no worker outlives a dead run. Nothing in the
-    run's own process, under another parent (a Dask nanny), or elsewhere
-    than Linux."""
+    """Started in each worker process of the run's process ``parent`` (a
+    pid; loky's initializer, so that a worker that never got a task is
+    covered too): ask Linux to kill this worker when that process ends,
+    however it ends (``kill -9`` included), so no worker and no resource
+    tracker waiting on it outlives a dead run. Nothing in the run's own
+    process, under another parent, or elsewhere than Linux."""
     global _watching_parent
     if _watching_parent or parent is None or os.getpid() == parent or not sys.platform.startswith("linux"):
         return
     _watching_parent = True
-    if os.getppid() != parent:
-        return
+    if os.getppid() != parent:   # the run ended while this worker was starting
+        os._exit(1)
     import ctypes
     import signal
 
@@ -361,6 +362,7 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
     """:func:`run_study` with the folder held (:func:`hopscape.files.folder_lock`)."""
     clock = {"start": time.perf_counter()}
     folder = prepare_folder(study, folder, source_text, fresh=fresh)
+    asked = jobs is not None
     jobs = jobs or study.run.jobs
     backend = backend or study.run.backend
     scheduler = scheduler or study.run.scheduler
@@ -391,9 +393,11 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                desc=f"{study.name}", dynamic_ncols=True, smoothing=0.1)
     simulated = 0
     try:
-        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size], os.getpid())
+        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size])
                  for stage, k, start in tasks)
-        if backend == "sequential" or (jobs == 1 and backend != "dask"):
+        in_process, _ = execution(sum(min(size, len(stages[stage]) - start) for stage, _, start in tasks), jobs,
+                                  backend, asked)
+        if in_process:
             outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size]) for stage, k, start in tasks)
             for stage, k, frame in outputs:
                 done[stage, k] = _keep(study, results, stage, k, size, frame)
@@ -401,12 +405,17 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                 simulated += len(frame)
         else:
             with _backend(study, jobs, backend, scheduler):
-                kwargs = {} if backend == "dask" else {"backend": backend}
-                parallel = Parallel(n_jobs=jobs, return_as="generator_unordered", **kwargs)
-                for stage, k, frame in parallel(calls):
-                    done[stage, k] = _keep(study, results, stage, k, size, frame)
-                    bar.update(len(frame))
-                    simulated += len(frame)
+                # the backend comes from parallel_config for dask and loky (an
+                # explicit Parallel(backend=...) would drop the initializer)
+                kwargs = {} if backend in ("dask", "loky") else {"backend": backend}
+                watch = (parallel_config(backend="loky", initializer=_end_with, initargs=(os.getpid(),))
+                         if backend == "loky" else contextlib.nullcontext())
+                with watch:
+                    parallel = Parallel(n_jobs=jobs, return_as="generator_unordered", **kwargs)
+                    for stage, k, frame in parallel(calls):
+                        done[stage, k] = _keep(study, results, stage, k, size, frame)
+                        bar.update(len(frame))
+                        simulated += len(frame)
     finally:
         bar.refresh()
         bar.close()

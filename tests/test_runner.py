@@ -204,10 +204,12 @@ def test_kill_9_mid_run_then_resume_gives_the_uninterrupted_table(mid_reference,
 
 @pytest.mark.slow
 def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
-    # the default backend of the study: two loky worker processes
+    # the default backend of the study: two loky worker processes (asked for
+    # outright: the study alone is small enough to run in one process)
     study_path = write_study(tmp_path, MID, "mid.yaml")
     folder = tmp_path / "run"
-    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet"],
+    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
+                                                  "--jobs", "2"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     try:
         _wait_for_first_part(proc, folder)
@@ -225,9 +227,9 @@ def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
     parts, rows_on_disk = _valid_parts(folder)
     assert 1 <= len(parts) < MID_PARTS
     # nothing torn is dressed as a part: whatever else is in results/ is a
-    # temporary file that no glob for parts picks up
+    # hidden temporary file that no glob for parts picks up
     others = [p.name for p in (folder / "results").iterdir() if not PART.match(p.name)]
-    assert all(".tmp" in name and not name.endswith(".parquet") for name in others), others
+    assert all(name.startswith(".") and ".tmp" in name for name in others), others
     # the workers went away with the run
     _, alive = psutil.wait_procs(workers, timeout=15)
     assert not [p for p in alive if p.status() != psutil.STATUS_ZOMBIE]
@@ -424,7 +426,8 @@ def test_workers_end_within_seconds_when_the_run_is_killed(tmp_path):
     # trackers alive for over a minute (7 of 10 trials); now each worker
     # asks Linux to end it with its parent
     study = write_study(tmp_path, MID.replace("chunk_size: 2000", "chunk_size: 500"), "mid.yaml")
-    run = subprocess.Popen(hopscape_command() + ["run", str(study), "--out", str(tmp_path / "run"), "--quiet"],
+    run = subprocess.Popen(hopscape_command() + ["run", str(study), "--out", str(tmp_path / "run"), "--quiet",
+                                                 "--jobs", "2"],
                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     deadline = time.monotonic() + 60
     while not list((tmp_path / "run" / "results").glob("part-*.parquet")):   # workers are busy
@@ -436,3 +439,15 @@ def test_workers_end_within_seconds_when_the_run_is_killed(tmp_path):
     run.wait(timeout=10)
     gone, alive = psutil.wait_procs(children, timeout=5)
     assert alive == [], f"still alive 5 s after the run was killed: {alive}"
+
+
+def test_a_small_study_runs_in_its_own_process_unless_workers_are_asked_for():
+    # starting workers costs ~2 s; below WORKERS_PAY_FROM drops they never pay
+    # (the measurement is beside the constant in hopscape/defaults.py)
+    from hopscape.defaults import WORKERS_PAY_FROM, execution
+    assert execution(184_224, 2, "loky")[0] is True
+    assert "below the 500,000" in execution(184_224, 2, "loky")[1]
+    assert execution(WORKERS_PAY_FROM, 2, "loky") == (False, "on 2 worker processes (loky)")
+    assert execution(1000, 2, "loky", asked=True)[0] is False
+    assert execution(1000, 1, "loky")[0] is True and execution(10 ** 9, 4, "sequential")[0] is True
+    assert execution(1000, 2, "dask")[0] is False
