@@ -142,10 +142,9 @@ def cmd_run(args):
 def _run_and_report(args, study, path, out):
     """The body of :func:`cmd_run`, with the run folder held."""
     from .analysis import analyse
-    from .regions import region_sentences
+    from .answer import answer_lines
     from .report import write_report
     from .runner import run_study
-    from .sensitivity import METHODS
 
     start = time.perf_counter()
     outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,
@@ -167,25 +166,8 @@ def _run_and_report(args, study, path, out):
         print(art.headline)
     print(f"{study.name}: {outcome.total:,} drops ({outcome.simulated:,} simulated now) in {seconds['total']:.1f} s")
     print("  time: " + ", ".join(f"{k} {v:.2f} s" for k, v in seconds.items() if k != "total"))
-    if art.ranking is not None:
-        col = METHODS[art.method].ranking_column
-        top = art.ranking.sort_values(col, ascending=False).head(3)
-        print("  matters most: " + ", ".join(f"{p} ({col} {v:.2f})" for p, v in zip(top["parameter"], top[col])))
-    if art.picks is not None and len(art.picks):
-        best = art.picks.iloc[0]
-        text = (f"  best pick: goal met in {best['goal_probability']:.0%} of toleranced drops "
-                f"(95 % interval {best['goal_low']:.0%}-{best['goal_high']:.0%}), margin {best['margin_steps']} "
-                f"grid step(s), outcome flips in {best['flip_rate']:.0%}")
-        if "angle_window_low_deg" in best and best["angle_window_low_deg"] == best["angle_window_low_deg"]:
-            text += f", angle window {best['angle_window_low_deg']:g}-{best['angle_window_high_deg']:g} deg"
-        if not best["meets_target"]:
-            text += " - below the target: no cell meets it"
-        if best["chaotic"]:
-            text += " (chaotic region!)"
-        print(text)
-    if art.safe_regions is not None:
-        lines = region_sentences(art.safe_regions) or ["none: no cell meets the target under the tolerance."]
-        print("  where the goal holds under tolerance: " + "\n    ".join(lines))
+    for label, text in answer_lines(study, art):
+        print(f"  {label}: {text}")
     print(f"  report: {report}")
     return 0
 

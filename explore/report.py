@@ -12,6 +12,7 @@ import pandas as pd
 from .analysis import PICKS_FILE, SAFE_REGIONS_FILE
 from .figures import OKABE_ITO
 from .maps import creates_energy, energy_note, metric_words
+from .answer import answer_lines
 from .regions import region_sentences
 from .robust_map import tolerance_text
 from .sensitivity import METHODS
@@ -177,6 +178,11 @@ def write_report(outcome, art, seconds) -> Path:
              f"<p class=sub>hopscape study report, {_dt.datetime.now():%Y-%m-%d %H:%M}</p>"]
     if art.headline:
         parts.append(f"<div class=box><b>{html.escape(art.headline)}</b></div>")
+    answer = answer_lines(study, art)
+    if answer:   # the answer first; the evidence follows
+        items = "".join(f"<li><b>{html.escape(label)}:</b> {html.escape(text)}</li>" for label, text in answer)
+        parts.append(f"<div class=box id=answer><b>In short</b> (details in "
+                     f'<a href="#picks">Recommended drop conditions</a>)<ul>{items}</ul></div>')
     parts.append(f"<div class=box><b>Safety.</b> {html.escape(SAFETY)}</div>")
     # summary
     rows = [("body shape", "", study.body.shape), ("impact law", "", study.contact.law),
@@ -218,7 +224,7 @@ def write_report(outcome, art, seconds) -> Path:
             if extra.key in art.sensitivity_tables:
                 parts.append(f"<p>{html.escape(extra.words)}</p>")
     if art.picks is not None:
-        parts += ["<h2>Recommended drop conditions</h2>", _picks_words(study),
+        parts += ["<h2 id=picks>Recommended drop conditions</h2>", _picks_words(study),
                   _table(picks_table(art.picks, study), css="picks", column_css={"note": "words"})]
         chaotic = art.picks[art.picks["chaotic"]]
         if len(chaotic):

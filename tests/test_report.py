@@ -49,11 +49,11 @@ def test_report_names_the_study_and_shows_every_figure_and_file(small_run):
     assert sorted(images) == sorted(["maps/map-angle-aspect_ratio.png", "maps/curve-angle.png",
                                      "maps/robustness-angle-aspect_ratio.png", "maps/ranking.png",
                                      "maps/ranking-convergence.png"])
-    for link in re.findall(r'<a href="([^"]+)"', page):
+    for link in (link for link in re.findall(r'<a href="([^"]+)"', page) if not link.startswith("#")):
         assert (small_run / html.unescape(link)).is_file(), link
     for heading in ("Regime maps", "Curves", "Robustness to release errors",
                     "Which quantities matter (Sobol indices)", "Recommended drop conditions"):
-        assert f"<h2>{heading}</h2>" in page, heading
+        assert re.search(rf"<h2( id=\w+)?>{re.escape(heading)}</h2>", page), heading
 
 
 def test_report_describes_each_quantity_and_counts_the_drops(small_run):
@@ -96,7 +96,7 @@ def test_tiny_run_report_leaves_out_what_was_not_computed(tmp_path):
 
 def test_picks_table_has_plain_headings_with_units(small_run):
     page = page_of(small_run)
-    table = page[page.index("<h2>Recommended drop conditions</h2>"):]
+    table = page[page.index("<h2 id=picks>Recommended drop conditions</h2>"):]
     table = table[:table.index("</table>")]
     headings = re.findall(r"<th>([^<]*)</th>", table)
     assert headings == ["rank", "aspect ratio [-]", "angle [deg]", "goal met [%]", "95 % interval [%]",
@@ -183,3 +183,16 @@ def test_headline_when_the_event_always_happens():
         "always happened, so every map and pick below is flat: widen the ranges or change the threshold to find "
         "where it stops.")
     assert headline(study, {"grid": table.assign(event=[True, False, False])}) is None
+
+
+def test_the_answer_comes_first(small_run):
+    # the best pick (with its coordinates), where the goal holds and what
+    # matters most stand above the evidence, as the terminal says them
+    import pandas as pd
+    page = page_of(small_run)
+    box = page[page.index("<b>In short</b>"):page.index("<h2>")]
+    best = pd.read_csv(small_run / "picks.csv").iloc[0]
+    assert f"<b>best pick:</b> aspect ratio {best['aspect_ratio']:.6g}, release angle {best['angle_deg']:.6g} deg" in box
+    assert f"goal met in {best['goal_probability']:.0%}" in box
+    assert "<b>where the goal holds under tolerance:</b>" in box and "<b>matters most:</b>" in box
+    assert 'href="#picks"' in box and "<h2 id=picks>" in page
