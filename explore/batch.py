@@ -203,7 +203,7 @@ def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):
         "end": result.end[pick],
         "slip": np.asarray(SLIP_HISTORY, dtype=object)[result.slip[pick]],
         "energy_gain": result.energy_gain[pick],
-        "bounce": bounces.index[pick],
+        "bounce": np.where(bounces.index[pick] > 0, bounces.index[pick], np.nan),  # none: sustained contact
         "status": np.asarray(sim.STATUS, dtype=object)[result.status[rows]],
         "error": "",
     })

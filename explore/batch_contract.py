@@ -65,7 +65,7 @@ OUTPUT_COLUMNS = {
     "end": "+1 axis end, -1 other end, 0 middle",
     "slip": "slip | stick | reversed",
     "energy_gain": "True where the impact created energy (Newton law)",
-    "bounce": "1-based visible bounce this impact belongs to",
+    "bounce": "1-based visible bounce this impact belongs to (empty: none, the body stayed in contact)",
     "status": "why the drop stopped: impacts | settled | contact | could_vault | failed (README, 'Batch tables')",
     "error": "why the row could not be simulated (empty when it ran)",
 }

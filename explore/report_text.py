@@ -46,6 +46,11 @@ def table(headers, rows):
     return "\n".join(lines)
 
 
+def _ratio_words(ratio):
+    """``1.234 x release height``, or what it means when there is no such bounce."""
+    return "none (fewer than two visible bounces)" if not np.isfinite(ratio) else f"{ratio:.3f} x release height"
+
+
 def _energy_bound_text(result):
     """The energy bound of drop 0, and whether its impact law keeps to it."""
     from hopscape.sim.impact import LAW_TABLE
@@ -131,7 +136,7 @@ def drop_report(shape, result, bounces, reference="centre"):
             f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "
             f"top {rel['top'] * 1e3:.2f} mm",
             _energy_bound_text(result),
-            f"best later bounce ({reference}): {bounces.best_later(reference)[0]:.3f} x release height; "
+            f"best later bounce ({reference}): {_ratio_words(bounces.best_later(reference)[0])}; "
             f"a later bounce beats the first: {'yes' if bounces.later_beats_first(reference)[0] else 'no'}; "
             f"beats the release height: {'yes' if bounces.beats_release(reference)[0] else 'no'}",
             f"the drop ended after {n} impact(s): " + {"impacts": "the impact limit (--impacts) was reached",

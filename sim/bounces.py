@@ -14,6 +14,11 @@ drop has ended (otherwise a further impact could still join it).
 
 The rebound ratio of a bounce is its height over the release height of the
 same reference point (centre, lowest point ``bottom`` or ``top`` point).
+
+An impact after which the body never leaves the floor (sustained contact:
+a flight of length 0) ends no visible bounce; the impacts of such a last
+group belong to no bounce (index 0), since nothing rose that a camera would
+see.
 """
 from __future__ import annotations
 
@@ -81,10 +86,14 @@ def group_bounces(result: DropResult, merge_within: float = MERGE_WITHIN) -> Bou
     # impact j closes a bounce when the flight after it is long, or it is the
     # last impact of a drop that has ended
     last = exists & ((flight >= merge_within) | ((np.arange(k)[None, :] == result.count[:, None] - 1) & ended[:, None]))
-    closes = last & ~np.isnan(flight)
+    grounded = exists & (flight == 0)          # sustained contact: no flight after this impact
+    closes = last & ~np.isnan(flight) & ~grounded
     opens = np.concatenate([exists[:, :1], exists[:, 1:] & closes[:, :-1]], axis=1)
     index = np.where(exists, np.cumsum(opens, axis=1), 0)
     count = closes.sum(axis=1)
+    # the last group of a drop that ended in sustained contact is no bounce
+    ends_grounded = grounded[np.arange(n), np.maximum(result.count - 1, 0)] & (result.count > 0)
+    index = np.where(ends_grounded[:, None] & (index > count[:, None]), 0, index)
     # scatter the peaks of closing impacts into bounce slots
     slot = np.where(closes, np.cumsum(closes, axis=1) - 1, k)
     rows = np.broadcast_to(np.arange(n)[:, None], (n, k))

@@ -366,3 +366,19 @@ def test_batch_messages_name_required_columns_and_the_first_reason(tmp_path, cap
     assert "(row 0: shape must be one of capsule" in capsys.readouterr().err
     assert main(["batch", str(source), "--out", str(tmp_path / "out.xlsx")]) == 2
     assert "a table is written as .csv or .parquet" in capsys.readouterr().err
+
+
+def test_a_body_that_stays_in_contact_makes_no_bounce(capsys, tmp_path):
+    # restitution 0: the first impact starts sustained contact, the body
+    # never leaves the floor, so no visible bounce exists (docs/physics.md
+    # section 5; sim/bounces.py notes) and the report says so in words
+    path = tmp_path / "impacts.csv"
+    assert main(["drop", "--restitution", "0", "--impacts", "3", "--no-plots", "--csv", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "best later bounce (centre): none (fewer than two visible bounces)" in out and "nan" not in out
+    table = pd.read_csv(path)
+    assert table["status"].tolist() == ["contact"] and table["bounce"].isna().all()
+    result = sim.simulate(sim.Capsule(length=0.014, radius=0.0035, density=1200.0),
+                          sim.Release(0.3, math.radians(30)), sim.Contact(0.0, 0.3), impacts=3)
+    bounces = sim.group_bounces(result)
+    assert bounces.count.tolist() == [0] and bounces.index[0, 0] == 0
