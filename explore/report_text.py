@@ -131,6 +131,10 @@ def drop_report(shape, result, bounces, reference="centre"):
                       f"{bounces.ratio[reference][0, b]:.3f}"])
     out += ["", f"Bounces (impacts less than {bounces.merge_within * 1e3:g} ms apart merged)",
             table(["bounce", "impacts", "centre [mm]", "bottom [mm]", "top [mm]", f"ratio ({reference})"], brows)]
+    unfinished = np.flatnonzero(bounces.index[0, :n] > bounces.count[0]) + 1
+    if unfinished.size and sim.STATUS[int(result.status[0])] == "impacts":
+        out.append(f"impact(s) {', '.join(map(str, unfinished))} begin a bounce that the impact limit ({n}) cut "
+                   "short before its height was known; raise --impacts to see it")
     status = sim.STATUS[int(result.status[0])]
     out += ["",
             f"release height: centre {rel['centre'] * 1e3:.2f} mm, bottom {rel['bottom'] * 1e3:.2f} mm, "

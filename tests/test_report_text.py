@@ -158,3 +158,15 @@ def test_the_energy_bound_is_qualified_for_a_law_that_can_create_energy():
         texts[law] = drop_report(shape, result, sim.group_bounces(result))
     assert "bound does not hold" in texts["newton"] and "newton law can create energy" in texts["newton"]
     assert "bound does not hold" not in texts["energetic"]
+
+
+def test_a_bounce_cut_short_by_the_impact_limit_is_said():
+    # the README's pin: impacts 7 and 8 come 4.8 ms apart (one bounce at
+    # 10 ms), and the impact limit of 8 ends the drop before that bounce's
+    # flight: the report says so instead of dropping it silently
+    from hopscape.report_text import drop_report
+    shape = sim.Capsule(length=0.024, radius=0.003, density=1200.0)
+    release = sim.Release(0.006, math.radians(50), reference="bottom")
+    result = sim.simulate(shape, release, sim.Contact(0.9, 0.1), impacts=8)
+    text = drop_report(shape, result, sim.group_bounces(result), "bottom")
+    assert "impact(s) 7, 8 begin a bounce that the impact limit (8) cut short" in text
