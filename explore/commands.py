@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import json
+import os
 import re
 import sys
 import time
@@ -76,6 +77,36 @@ def find_study(text):
     raise InputError(f"{text}: no such study file (looked for {looked})")
 
 
+def machine_room(folder):
+    """(memory of this machine, disk free where ``folder`` would be) [bytes]."""
+    import shutil
+    memory = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
+    where = Path(folder).resolve()
+    while not where.exists():
+        where = where.parent
+    return memory, shutil.disk_usage(where).free
+
+
+def resource_problems(study, counts, folder):
+    """What this machine cannot hold of the run (memory over 80 %, disk over
+    what is free), with the numbers and how to shrink the study; and the
+    sentence that states the need."""
+    from .plan import resource_estimate
+    need = resource_estimate(study, counts)
+    memory, free = machine_room(folder)
+    said = (f"needs about {need['memory'] / 1e9:.2g} GB of memory (this machine: {memory / 1e9:.3g} GB) and "
+            f"{need['disk'] / 1e6:,.0f} MB of disk ({free / 1e9:.3g} GB free there)")
+    biggest = max(counts, key=counts.get)
+    shrink = (f"use fewer grid steps, draws or samples (the {biggest} stage is the largest, "
+              f"{counts[biggest]:,} drops)")
+    problems = []
+    if need["memory"] > 0.8 * memory:
+        problems.append(f"the run {said}: more than this machine's memory allows; {shrink}")
+    elif need["disk"] > free:
+        problems.append(f"the run {said}: more disk than is free; {shrink}, or choose another --out")
+    return problems, said
+
+
 def cmd_check(args):
     """``hopscape check``: validate a study file and say what it will run.
 
@@ -99,12 +130,16 @@ def cmd_check(args):
     total = sum(counts.values())
     in_process, _ = execution(total, study.run.jobs, study.run.backend)
     estimate = total / (ESTIMATE_RATE * (1 if in_process else study.run.jobs)) + 5.0
+    problems, said = resource_problems(study, counts, Path("runs") / study.name)
+    if problems:
+        raise InputError([f"{path}: {line}" for line in problems])
     print(f"{path}: ok - study '{study.name}'")
     print(f"  gridded: {', '.join(study.gridded()) or 'none'}; distributed: {', '.join(study.random()) or 'none'}")
     for stage, n in counts.items():
         print(f"  {stage:>7}: {n:>10,} drops")
     _, where = execution(total, study.run.jobs, study.run.backend)
     print(f"  total: {total:,} drops x up to {study.run.impacts} impacts; estimated {estimate:.0f} s; runs {where}")
+    print(f"  {said}")
     return 0
 
 
@@ -135,6 +170,10 @@ def cmd_run(args):
     if args.out is not None and args.out.exists() and not args.out.is_dir():
         raise InputError(f"--out {args.out} is a file; the run folder must be a folder (nothing was written)")
     out = args.out or Path("runs") / study.name
+    from .plan import count_drops
+    problems, _ = resource_problems(study, count_drops(study), out)
+    if problems:
+        raise InputError([f"{path}: {line}" for line in problems])
     with folder_lock(out):   # held through the analysis and the report too
         return _run_and_report(args, study, path, out)
 

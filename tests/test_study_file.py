@@ -155,3 +155,19 @@ def test_a_normal_draw_is_kept_inside_the_shape_range():
     assert study.allowed("aspect_ratio").describe() == "in [1, 50]"
     draws = grid_frame(study)["aspect_ratio"].to_numpy()
     assert draws.min() >= 1.0 and (draws < 1.2).mean() > 0.1
+
+
+def test_check_and_run_refuse_a_study_this_machine_cannot_hold(tmp_path, capsys, monkeypatch):
+    # the estimate (hopscape.plan.resource_estimate) against a machine of
+    # 1 GB: quick's 184,224 drops need about 0.43 GB, a 2001 x 2001 grid 12 GB
+    import hopscape.commands
+    monkeypatch.setattr(hopscape.commands, "machine_room", lambda folder: (1e9, 1e12))
+    code, err, path, _ = check_file(tmp_path, capsys, text=QUICK)
+    assert code == 0
+    big = QUICK.replace("steps: 61", "steps: 2001").replace("steps: 26", "steps: 2001")
+    line, _ = one_error(tmp_path, capsys, text=big.replace("draws: 48", "draws: 2").replace("draws: 32", "draws: 2"))
+    assert "needs about 12 GB of memory (this machine: 1 GB)" in line and "use fewer grid steps" in line
+    path = tmp_path / "study.yaml"
+    assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 2
+    assert "more than this machine's memory allows" in capsys.readouterr().err
+    assert not (tmp_path / "run").exists()                      # nothing was allocated or written
