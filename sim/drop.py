@@ -331,7 +331,7 @@ CHUNK_SIZE = 65536
 
 
 def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
-             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE) -> DropResult:
+             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE, peaks=REFERENCES) -> DropResult:
     """Drop every body and follow it through up to ``impacts`` impacts.
 
     Parameters
@@ -347,6 +347,11 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     chunk_size : int
         Drops simulated together; bounds the working memory (at most about
         600 bytes per drop in flight, :data:`CHUNK_SIZE`), not the result.
+    peaks : sequence of {"centre", "bottom", "top"}
+        The reference points whose flight peaks are worked out; the others'
+        ``peak_*`` fields are NaN. The centre's costs nothing; the lowest and
+        top points' searches are most of the flight peaks' cost, so a study
+        that reads one point asks for that one only.
 
     Raises
     ------
@@ -358,6 +363,10 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         raise ValueError(f"impacts must be >= 1, got {impacts}")
     if chunk_size < 1:
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
+    unknown = set(peaks) - set(REFERENCES)
+    if unknown:
+        raise ValueError(f"peaks must name points among {', '.join(REFERENCES)}, got {sorted(unknown)[0]!r}")
+    points = tuple(point for point in ("bottom", "top") if point in peaks)
     keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
     mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch = arrays
@@ -386,7 +395,7 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         _run_chunk(sl, k, settle_fraction, mass[sl], inertia[sl], (hl[sl], hw[sl], rl[sl], rw[sl]),
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
-                   count[sl])
+                   count[sl], points)
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
                      "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle}
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
@@ -474,7 +483,7 @@ def _strike(live, along, across):
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
-               e, mu, laws, gravity, out, status, count):
+               e, mu, laws, gravity, out, status, count, points=("bottom", "top")):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
@@ -535,7 +544,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             level_vy, level_spin = flown.level(tilted)
             c, b, tp = flight_peaks(flown.y, level_vy, flown.theta, level_spin,
                                     tau_level[~failed] if any_failed else tau_level, flown.profile,
-                                    flown.d_low, flown.d_high)
+                                    flown.d_low, flown.d_high, points=points)
             del level_vy, level_spin
             put("peak_centre", j - 1, flown, c)
             put("peak_bottom", j - 1, flown, b)

@@ -33,7 +33,8 @@ def _best_on(t_lo, t_hi, y, vy, slope, t0, d0):
 NO_PIECE = -1e30
 
 
-def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps=((6, 10), (4, 6))):
+def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps=((6, 10), (4, 6)),
+                 points=("bottom", "top")):
     """Highest centre, lowest-point and top-point heights over a flight.
 
     The heights are those actually reached in ``[0, duration]``, not the
@@ -80,6 +81,9 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     Peaks are within :data:`PEAK_SLACK` (1e-10 m) of the true peak, up to
     rounding; checked against dense sampling in ``tests/test_peaks.py``.
 
+    ``points`` names which of ``"bottom"`` and ``"top"`` are worked out (the
+    centre's peak is exact and free); the others are NaN.
+
     Returns
     -------
     centre, bottom, top : numpy.ndarray
@@ -88,9 +92,9 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
     hl, hw, rl, rw = profile
     capsule = (hw == 0) & (rl == rw)
     if capsule.all():
-        return _capsule_peaks(y, vy, theta, omega, duration, hl, rl)
+        return _capsule_peaks(y, vy, theta, omega, duration, hl, rl, points)
     if not capsule.any():
-        return _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps)
+        return _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps, points)
     # a mixed batch: each body takes its own path (so that no result
     # depends on its neighbours)
     out = tuple(np.empty(y.size) for _ in range(3))
@@ -98,10 +102,10 @@ def flight_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_s
         sel = np.flatnonzero(capsule if is_capsule else ~capsule)
         state = [a[sel] for a in (y, vy, theta, omega, duration)]
         if is_capsule:
-            found = _capsule_peaks(*state, hl[sel], rl[sel])
+            found = _capsule_peaks(*state, hl[sel], rl[sel], points)
         else:
             found = _general_peaks(*state, tuple(p[sel] for p in profile), d_low[sel], d_high[sel],
-                                   polish_steps)
+                                   polish_steps, points)
         for whole, part in zip(out, found):
             whole[sel] = part
     return out
@@ -134,7 +138,7 @@ def _apex_turn(theta, omega, t_apex, t_lo):
     return spinning, inv_omega, t_from, np.floor((theta + omega * t_apex) * (1.0 / np.pi))
 
 
-def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps):
+def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish_steps, points=("bottom", "top")):
     """:func:`flight_peaks` for any body (three half turns, every kind of
     piece)."""
     hl, hw, rl, rw = profile
@@ -185,6 +189,9 @@ def _general_peaks(y, vy, theta, omega, duration, profile, d_low, d_high, polish
     missing = [NO_PIECE * (hi <= lo) for lo, hi, *_ in pieces]
     peaks = []
     for sign in (-1.0, 1.0):
+        if ("bottom" if sign < 0 else "top") not in points:
+            peaks.append(np.full(n, np.nan))
+            continue
         best = np.maximum.reduce([yc + sign * d for yc, d in zip(y_ends, d_ends)])
         for yc, d in zip(y_marks, marks):
             best = np.maximum(best, yc + sign * d)
@@ -254,7 +261,7 @@ def _settle(bounds, best, slack, polish):
     return best
 
 
-def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
+def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius, points=("bottom", "top")):
     """:func:`flight_peaks` for capsules and spheres (``half_wide`` 0 and a
     circular round part), whose depth ``d = A |sin(phi)| + r`` (``phi =
     theta + omega t``) is least, ``r``, where the axis lies flat (``phi =
@@ -296,9 +303,15 @@ def _capsule_peaks(y, vy, theta, omega, duration, half_long, radius):
     sign0 = 2.0 * (apex_turn - 2.0 * np.floor(0.5 * apex_turn)) - 1.0
     # working memory: what the polishes below no longer need goes first
     del t_lo, spinning, apex_turn, first, sc_ends, y_ends, d_ends
-    bottom = _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, quarters, t_from, t_hi, bottom)
-    top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
-                        t_hi, cos_lo, cos_hi, top)
+    if "bottom" in points:
+        bottom = _capsule_bottoms(y, vy, theta, omega, half_long, radius, sign0, quarters, t_from, t_hi, bottom)
+    else:
+        bottom = np.full(y.size, np.nan)
+    if "top" in points:
+        top = _capsule_tops(y, vy, theta, omega, inv_omega, half_long, radius, sign0, quarters, t_apex, t_from,
+                            t_hi, cos_lo, cos_hi, top)
+    else:
+        top = np.full(y.size, np.nan)
     return centre, bottom, top
 
 

@@ -444,3 +444,23 @@ def test_freed_memory_is_kept_on_glibc():
     from hopscape.sim import _memory
     expected = platform.libc_ver()[0] == "glibc"
     assert _memory.keep_freed_memory() is expected
+
+
+@pytest.mark.parametrize("peaks", [("centre",), ("bottom",), ("top",), ("centre", "top")])
+def test_only_the_peaks_asked_for_are_worked_out_and_they_are_the_same(peaks):
+    # a study reads one reference point: the others' searches are skipped,
+    # and what is computed is bit for bit what a full run gives
+    shape, release, contact = sim.bench.population(3000, seed=5)
+    full = sim.simulate(shape, release, contact, impacts=3)
+    part = sim.simulate(shape, release, contact, impacts=3, peaks=peaks)
+    for point in ("centre", "bottom", "top"):
+        got, want = part.impacts[f"peak_{point}"], full.impacts[f"peak_{point}"]
+        if point in peaks or point == "centre":
+            assert np.array_equal(got, want, equal_nan=True), point
+        else:
+            flown = ~np.isnan(full.impacts["flight"]) & (full.impacts["flight"] > 0)
+            assert np.isnan(got[flown]).all(), point
+    for name in ("time", "vx", "vy", "spin", "flight"):
+        assert np.array_equal(part.impacts[name], full.impacts[name], equal_nan=True), name
+    with pytest.raises(ValueError, match="peaks must name points among centre, bottom, top"):
+        sim.simulate(shape, release, contact, peaks=("middle",))
