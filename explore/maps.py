@@ -66,8 +66,7 @@ def energy_note(study: Study):
     str
         One or two sentences for map captions and the report.
     """
-    floor = study.quantity("floor_angle")
-    if floor is not None and floor.span() != (0.0, 0.0):
+    if inclined(study):
         return ("Energy bound: none here. On an inclined floor heights are measured normal to the floor, and a "
                 "body moving downhill gains energy, so it can rise above its release height even from rest.")
     if creates_energy(study):
@@ -87,6 +86,18 @@ def energy_note(study: Study):
         text += (f"the {'lowest' if ref == 'bottom' else 'top'} point can still beat its own release height "
                  "because its height relative to the centre changes with orientation.")
     return text
+
+
+def inclined(study: Study) -> bool:
+    """Whether any drop of the study lands on an inclined floor (no energy bound there)."""
+    floor = study.quantity("floor_angle")
+    return floor is not None and floor.span() != (0.0, 0.0)
+
+
+def energy_bound_holds(study: Study) -> bool:
+    """Whether released from rest the centre can never rise above its release
+    height: a level floor and a law that never creates energy."""
+    return not inclined(study) and not creates_energy(study)
 
 
 def creates_energy(study: Study) -> bool:
@@ -287,7 +298,8 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
         kind = METRIC_KINDS[study.metric.kind]
         level = study.metric.threshold if kind.uses_threshold else study.metric.limit if kind.uses_limit else None
         if level is not None:
-            ax.axhline(level, color=OKABE_ITO["red"], ls="--", label=f"{level:g}: where the event begins (left axis)")
+            said = f"{level:g} m ({level * 1e3:g} mm)" if kind.uses_limit else f"{level:g}"
+            ax.axhline(level, color=OKABE_ITO["red"], ls="--", label=f"{said}: where the event begins (left axis)")
         ax.set_ylabel(wrap(value_words, 45), fontsize=8)
         ax.set_ylim(bottom=0)
         ax2 = ax.twinx()

@@ -11,7 +11,7 @@ import pandas as pd
 
 from .analysis import PICKS_FILE, SAFE_REGIONS_FILE
 from .figures import OKABE_ITO
-from .maps import creates_energy, energy_note, metric_words
+from .maps import energy_bound_holds, energy_note, metric_words
 from .answer import answer_lines
 from .regions import region_sentences
 from .robust_map import tolerance_text
@@ -192,7 +192,7 @@ def write_report(outcome, art, seconds) -> Path:
         rows.append((QUANTITIES[name].text, kind, text))
     summary = pd.DataFrame(rows, columns=["quantity", "how", "values"])
     tolerated = "robust" in outcome.tables and len(outcome.tables["robust"]) > 0
-    bound = ("" if creates_energy(study) else
+    bound = ("" if not energy_bound_holds(study) else
              " Impacts only take energy away, so without spin or a throw the centre's rebound ratio is at most 1;")
     parts += ["<h2>Study</h2>", _table(summary),
               f"<p>Metric: <b>{html.escape(value_words)}</b>; event: {html.escape(event_words)}; goal: "

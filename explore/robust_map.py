@@ -104,7 +104,7 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
         _, _, flips = grid_of(points, x, y, "flip_rate")
         mesh = left.pcolormesh(xs, ys, np.ma.masked_invalid(p), shading="nearest", vmin=0, vmax=1,
                                cmap=plt.get_cmap("cividis").with_extremes(bad="0.85"))
-        fig.colorbar(mesh, ax=left).set_label(wrap(f"probability under tolerance, {goal}", 60), fontsize=8)
+        fig.colorbar(mesh, ax=left).set_label(wrap(f"probability under tolerance that {goal}", 60), fontsize=8)
         top = max(0.5, float(np.nanmax(flips)) if np.isfinite(flips).any() else 0.5)
         mesh = right.pcolormesh(xs, ys, np.ma.masked_invalid(flips), shading="nearest", vmin=0, vmax=top,
                                 cmap=plt.get_cmap("magma").with_extremes(bad="0.85"))

@@ -136,5 +136,7 @@ def chaotic_flip_rate(study: Study) -> float:
 
 
 def goal_words(study: Study, event_words: str) -> str:
-    """The goal in plain words, e.g. ``avoid: a later bounce rises above the first (centre)``."""
-    return f"{'get' if study.metric.goal == 'seek' else 'avoid'}: {event_words}"
+    """What the goal's probability counts, in plain words, e.g. ``it happens:
+    a later bounce rises above the first`` or, for avoid, ``it does not
+    happen: ...`` (so a bright "goal met" colour never reads as the event)."""
+    return f"{'it happens' if study.metric.goal == 'seek' else 'it does not happen'}: {event_words}"

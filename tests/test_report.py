@@ -196,3 +196,23 @@ def test_the_answer_comes_first(small_run):
     assert f"goal met in {best['goal_probability']:.0%}" in box
     assert "<b>where the goal holds under tolerance:</b>" in box and "<b>matters most:</b>" in box
     assert 'href="#picks"' in box and "<h2 id=picks>" in page
+
+
+def test_no_energy_bound_is_claimed_for_a_study_on_a_slope(tmp_path):
+    # on an inclined floor a body gains energy moving downhill
+    # (docs/physics.md section 6): neither the note nor the report's own
+    # sentence may say the centre's ratio is at most 1
+    text = study_yaml({
+        "name": "slope",
+        "body": {**PIN, "aspect_ratio": 3.0},
+        "contact": {"restitution": 0.9, "friction": 0.2},
+        "release": {"height": 0.02, "angle": grid(0, 90, 3), "floor_angle": 30},
+        "metric": {"kind": "ratio", "reference": "centre"},
+        "analyses": {"robustness": False},
+        "run": {"jobs": 1, "impacts": 3},
+    })
+    outcome = run_text(text, tmp_path)
+    write_report(outcome, analyse(outcome), {})
+    page = page_of(tmp_path)
+    assert "Energy bound: none here. On an inclined floor" in page
+    assert "rebound ratio is at most 1" not in page
