@@ -127,7 +127,7 @@ def analyse(outcome) -> Artefacts:
     if tolerated:
         cells = judged_cells(study, robust, grid)
         if study.analyses.picks is not None:
-            art.picks = make_picks(study, robust, grid)
+            art.picks = make_picks(study, robust, grid, cells)
             write_csv(art.picks, folder / PICKS_FILE)
         x, y = _robustness_axes(study)
         art.safe_regions = safe_regions(cells, study.gridded(), x=x)

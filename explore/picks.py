@@ -19,7 +19,7 @@ import pandas as pd
 
 from .plan import cell_coordinates
 from .regions import as_array, margins
-from .study import COLUMN, Picks, Study
+from .study import COLUMN, Study
 from .under_tolerance import goal_view, tolerance_effect
 
 
@@ -51,7 +51,7 @@ def judged_cells(study: Study, robust: pd.DataFrame, grid: pd.DataFrame) -> pd.D
     cells["nearest_fail_steps"] = 0.0
     cells.iloc[position.ravel(), cells.columns.get_loc("margin_steps")] = steps.ravel()
     cells.iloc[position.ravel(), cells.columns.get_loc("nearest_fail_steps")] = nearest.ravel()
-    cells["chaotic"] = cells["flip_rate"] > (study.analyses.picks or Picks()).chaotic_flip_rate
+    cells["chaotic"] = cells["flip_rate"] > study.picks_settings.chaotic_flip_rate
     return cells
 
 
@@ -67,7 +67,7 @@ def _note(row, target, seek):
     return "; ".join(words)
 
 
-def picks(study: Study, robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFrame:
+def picks(study: Study, robust: pd.DataFrame, grid: pd.DataFrame, cells=None) -> pd.DataFrame:
     """The grid cells to recommend, best first, under the release tolerance.
 
     Cells where half the drops or more would start inside the floor are
@@ -85,6 +85,8 @@ def picks(study: Study, robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFram
         ``event``).
     grid : pandas.DataFrame
         The ``grid`` stage's result table, in stage order.
+    cells : pandas.DataFrame, optional
+        :func:`judged_cells` of the same tables, when already at hand.
 
     Returns
     -------
@@ -102,12 +104,12 @@ def picks(study: Study, robust: pd.DataFrame, grid: pd.DataFrame) -> pd.DataFram
         pick itself does not), ``meets_target``, ``chaotic``, ``note``
         (plain words) and ``cell``.
     """
-    settings = study.analyses.picks or Picks()
+    settings = study.picks_settings
     seek = study.metric.goal == "seek"
     keys = study.gridded()
     cols = [COLUMN[k] for k in keys]
-    cells = judged_cells(study, robust, grid)
-    cells["nominal_value"] = grid.groupby("cell", sort=True)["value"].mean()
+    cells = judged_cells(study, robust, grid) if cells is None else cells   # the analysis has judged them already
+    cells = cells.assign(nominal_value=grid.groupby("cell", sort=True)["value"].mean())
     cells = cells.rename(columns={"mean_value": "mean_value_under_tolerance",
                                   "mean_change": "mean_change_under_tolerance"}).reset_index()
     order = cells.sort_values(["meets_target", "margin_steps", "goal_probability", "flip_rate",

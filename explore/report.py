@@ -16,8 +16,7 @@ from .answer import answer_lines
 from .regions import region_sentences
 from .robust_map import tolerance_text
 from .sensitivity import METHODS
-from .study import COLUMN, QUANTITIES, Picks, Study
-from .under_tolerance import picks_target
+from .study import COLUMN, QUANTITIES, Study
 from .files import write_text
 
 #: The page, inside the run folder.
@@ -129,8 +128,8 @@ def picks_table(picks: pd.DataFrame, study: Study) -> pd.DataFrame:
 def _picks_words(study):
     """The paragraph above the picks table: how they are ranked and what the columns mean."""
     words = "the event" if study.metric.goal == "seek" else "no event"
-    chaotic = (study.analyses.picks or Picks()).chaotic_flip_rate
-    return (f"<p>Cells where {words} happens in at least {picks_target(study):.0%} of toleranced drops come first, "
+    chaotic = study.picks_settings.chaotic_flip_rate
+    return (f"<p>Cells where {words} happens in at least {study.picks_settings.target:.0%} of toleranced drops come first, "
             "ranked by their margin (grid steps, in every swept quantity, to the nearest cell that misses the "
             "target or to the end of the swept range), then by how often the goal is met. Goal met: share of "
             "toleranced drops that do what the study wants, with its 95 % Wilson interval; outcome flips: share "
@@ -143,10 +142,10 @@ def _regions_text(study, regions, folder):
     """The safe regions in sentences, or one sentence when there is none."""
     link = f'<a href="{SAFE_REGIONS_FILE}">{SAFE_REGIONS_FILE}</a>'
     if not len(regions):
-        return (f"<p>No cell meets the target {picks_target(study):.0%} under the release tolerance; there is no safe "
+        return (f"<p>No cell meets the target {study.picks_settings.target:.0%} under the release tolerance; there is no safe "
                 "region to recommend.</p>")
     items = "".join(f"<li>{html.escape(line)}</li>" for line in region_sentences(regions))
-    return (f"<p>Connected regions of the grid where the goal is met in at least {picks_target(study):.0%} of "
+    return (f"<p>Connected regions of the grid where the goal is met in at least {study.picks_settings.target:.0%} of "
             f"toleranced drops (every strip of each region: {link}):</p><ul>{items}</ul>")
 
 

@@ -20,7 +20,7 @@ import pandas as pd  # noqa: E402
 
 from .figures import OKABE_ITO, save_figure  # noqa: E402
 from .maps import flat, flat_words, grid_of, metric_words, wrap  # noqa: E402
-from .study import COLUMN, Picks, Study, label  # noqa: E402
+from .study import COLUMN, Study, label  # noqa: E402
 from .under_tolerance import goal_words, wilson_interval  # noqa: E402
 from .files import write_csv  # noqa: E402
 
@@ -89,7 +89,7 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
         ``margin_steps`` [grid steps] and ``chaotic``.
     """
     folder.mkdir(parents=True, exist_ok=True)
-    settings = study.analyses.picks or Picks()
+    settings = study.picks_settings
     keys = [k for k in (x, y) if k is not None]
     points = _points(cells, keys)
     base = folder / ("robustness-" + "-".join(keys))

@@ -405,6 +405,12 @@ class Study(Strict):
         return self
 
     @property
+    def picks_settings(self):
+        """``analyses.picks``, or the defaults when the study asks for no picks
+        (the robustness map and safe regions judge cells by them too)."""
+        return self.analyses.picks or Picks()
+
+    @property
     def warnings(self):
         """Legal but suspicious values (:mod:`explore.plausibility`), one
         ``file:line:col: field: message`` line each, as found by

@@ -117,22 +117,8 @@ def goal_view(study: Study, effect: pd.DataFrame) -> pd.DataFrame:
                                else 1.0 - effect["inside_floor_fraction"] - effect["event_probability"])
     successes = np.rint(out["goal_probability"].to_numpy() * effect["drops"].to_numpy())
     out["goal_low"], out["goal_high"] = wilson_interval(successes, effect["drops"].to_numpy())
-    out["meets_target"] = (out["goal_probability"] >= picks_target(study)) & (effect["inside_floor_fraction"] < 0.5)
+    out["meets_target"] = (out["goal_probability"] >= study.picks_settings.target) & (effect["inside_floor_fraction"] < 0.5)
     return out
-
-
-def picks_target(study: Study) -> float:
-    """``analyses.picks.target``, or its default when the study has no picks section. [-]"""
-    from .study import Picks
-
-    return (study.analyses.picks or Picks()).target
-
-
-def chaotic_flip_rate(study: Study) -> float:
-    """``analyses.picks.chaotic_flip_rate``, or its default. [-]"""
-    from .study import Picks
-
-    return (study.analyses.picks or Picks()).chaotic_flip_rate
 
 
 def goal_words(study: Study, event_words: str) -> str:
