@@ -100,9 +100,10 @@ def _study_text(source):
     if isinstance(source, str) and "\n" in source:
         return source, "<study>"
     from .commands import find_study
+    from .study_file import read_study_text
 
     path = find_study(str(source))
-    return path.read_text(encoding="utf-8"), str(path)
+    return read_study_text(path), str(path)
 
 
 def _changed_text(text, changes):
@@ -113,8 +114,18 @@ def _changed_text(text, changes):
 
     from .errors import InputError
 
+    from ruamel.yaml.error import MarkedYAMLError
+
     yaml = YAML(typ="rt")
-    data = yaml.load(text)
+    try:
+        data = yaml.load(text)
+    except MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        where = f"{mark.line + 1}:{mark.column + 1}: " if mark else ""
+        raise InputError(f"{where}YAML syntax error: {exc.problem or exc.context}; fix it before applying "
+                         "changes") from None
+    if not isinstance(data, dict):
+        raise InputError("changes: the study text is not a mapping of sections")
     for path, value in changes.items():
         *sections, key = path.split(".")
         node = data
@@ -483,7 +494,7 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
     import numpy as np
 
     from . import sim
-    from .quantities import QUANTITIES
+    from .quantities import QUANTITIES, radians_within_one_turn
 
     window = _bounce_window(merge_ms, camera_fps)
     floor_angle = QUANTITIES["floor_angle"].allowed.check("floor_angle", floor_angle)
@@ -495,7 +506,8 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
             shape = sim.SHAPES[shape].from_aspect_ratio(aspect_ratio, 2 * radius, density)
         else:
             shape = sim.make_shape(shape, length=length, radius=radius, density=density, **dimensions)
-    release = sim.Release(height=height, angle=np.radians(angle), spin=spin, vx=vx, vy=vy, reference=height_of,
+    release = sim.Release(height=height, angle=radians_within_one_turn(angle), spin=spin, vx=vx, vy=vy,
+                          reference=height_of,
                           floor_angle=np.radians(floor_angle))
     result = sim.simulate(shape, release, sim.Contact(restitution, friction, law), impacts=impacts)
     return Drop(shape, result, window)

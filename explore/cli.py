@@ -235,6 +235,11 @@ def cmd_drop(args):
     from .report_text import drop_report
 
     merge_window = _merge_window(args)
+    # where the outputs go is checked before anything is simulated
+    if args.csv is not None:
+        refuse_overwriting_input(args.csv, option="--csv")
+    if not args.no_plots and args.out.exists() and not args.out.is_dir():
+        raise InputError(f"--out {args.out} is a file; the pictures go into a folder (nothing was written)")
     radius = 0.0035 if args.radius is None else args.radius
 
     def body():

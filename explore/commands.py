@@ -10,7 +10,7 @@ from pathlib import Path
 
 from .cli_text import STRICT_HELP, report_warnings
 from .defaults import execution
-from .errors import InputError
+from .errors import InputError, shown
 from .files import folder_lock, write_text
 
 HANDLERS = {}
@@ -225,14 +225,18 @@ def cmd_new(args):
     int
         The exit code, 0.
     """
-    if not re.fullmatch(r"[A-Za-z0-9][A-Za-z0-9_.-]*", args.name):
-        raise InputError(f"name must be letters, digits, '.', '_' or '-', starting with a letter or digit; "
-                         f"got {args.name!r}")
+    from .study import Study
+    field = Study.model_fields["name"]   # the rule the study file will be checked by
+    pattern = next(m.pattern for m in field.metadata if getattr(m, "pattern", None))
+    longest = next(m.max_length for m in field.metadata if getattr(m, "max_length", None))
+    if not re.fullmatch(pattern, args.name) or len(args.name) > longest:
+        raise InputError(f"name must be letters, digits, '.', '_' or '-', starting with a letter or digit, at most "
+                         f"{longest} characters; got {shown(args.name)}")
     out = args.out or Path("studies") / f"{args.name}.yaml"
     if out.exists():
         raise InputError(f"{out} exists; choose another name or --out (nothing was overwritten)")
     from .study import template_text
     out.parent.mkdir(parents=True, exist_ok=True)
-    out.write_text(template_text(args.name), encoding="utf-8")
+    write_text(out, template_text(args.name))
     print(f"wrote {out}; edit it, then: hopscape check {out} && hopscape run {out}")
     return 0

@@ -14,6 +14,7 @@ import numpy as np  # noqa: E402
 from hopscape import sim  # noqa: E402
 
 from .figures import OKABE_ITO, save_figure  # noqa: E402
+from .metric_kinds import POINT_WORDS  # noqa: E402
 
 MM = 1e3
 MS = 1e3
@@ -99,7 +100,7 @@ def energy(result, drop=0, path=None, samples=2000):
     return _finish(fig, path)
 
 
-POINT = {"centre": "centre", "bottom": "lowest point", "top": "top point"}
+POINT = POINT_WORDS
 
 
 def bounce_heights(result, bounces, drop=0, reference="centre", path=None):

@@ -227,7 +227,11 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
                 with contextlib.suppress(FileNotFoundError):
                     path.unlink()
     if stamp.exists():
-        old = json.loads(stamp.read_text())
+        try:
+            old = json.loads(stamp.read_text())
+        except (OSError, ValueError):
+            raise InputError(f"{stamp} is unreadable, so the folder's results cannot be trusted; rerun with "
+                             "--fresh to start over, or choose another --out") from None
         if old.get("fingerprint") != study.fingerprint():
             from .study import changed_fields
             changed = changed_fields(old.get("numbers", {}), study.numbers()) if "numbers" in old else []
@@ -246,7 +250,7 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
         YAML(typ="safe", pure=True).dump(study.model_dump(mode="json", exclude_none=True), buffer)
         source_text = "# written by hopscape from the validated study\n" + buffer.getvalue()
     write_text(folder / "study.yaml", source_text)
-    stamp.write_text(json.dumps({"name": study.name, "fingerprint": study.fingerprint(),
+    write_text(stamp, json.dumps({"name": study.name, "fingerprint": study.fingerprint(),
                                  "numbers": study.numbers()}, indent=1))
     return folder
 

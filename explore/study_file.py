@@ -92,11 +92,11 @@ def _duplicates(yaml, text):
         if node.id == "mapping":
             seen = {}
             for key, value in node.value:
-                k = getattr(key, "value", None)
-                if k in seen:
+                k = key.value if key.id == "scalar" else None   # a list or mapping as a key is refused later
+                if k is not None and k in seen:
                     found.append((key.start_mark.line + 1, key.start_mark.column + 1,
                                   f"{_loc_text(path + (k,))}: duplicate key (first given on line {seen[k]})"))
-                else:
+                elif k is not None:
                     seen[k] = key.start_mark.line + 1
                 stack.append((value, path + (k,)))
         elif node.id == "sequence":
@@ -129,6 +129,12 @@ MAX_TOKENS = 5000
 def load_study(path) -> Study:
     """Read and validate a study file; raise :class:`InputError` with every
     problem as ``file:line:col: field: message``."""
+    return parse_study(read_study_text(path), str(path))
+
+
+def read_study_text(path):
+    """The text of a study file: a one-line :class:`InputError` for a missing,
+    oversized, unreadable or non-UTF-8 file."""
     path = Path(path)
     if not path.is_file():
         raise InputError(f"{path}: no such study file")
@@ -137,12 +143,11 @@ def load_study(path) -> Study:
         if size > MAX_BYTES:
             raise InputError(f"{path}:1:1: the study file is {size:,} bytes; a study file may hold at most "
                              f"{MAX_BYTES:,} (is this the right file?)")
-        text = path.read_text(encoding="utf-8")
+        return path.read_text(encoding="utf-8")
     except UnicodeDecodeError as exc:
         raise InputError(f"{path}: the study file is not UTF-8 text (byte {exc.start})")
     except OSError as exc:
         raise InputError(f"{path}: cannot read the study file ({exc.strerror or exc})")
-    return parse_study(text, str(path))
 
 
 def _hostile(text, filename):

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .drop import RAN_ALL, REFERENCES, DropResult
+from .drop import CONTACT, COULD_VAULT, RAN_ALL, REFERENCES, DropResult
 
 MERGE_WITHIN = 0.010  # [s]
 
@@ -86,14 +86,16 @@ def group_bounces(result: DropResult, merge_within: float = MERGE_WITHIN) -> Bou
     # impact j closes a bounce when the flight after it is long, or it is the
     # last impact of a drop that has ended
     last = exists & ((flight >= merge_within) | ((np.arange(k)[None, :] == result.count[:, None] - 1) & ended[:, None]))
-    grounded = exists & (flight == 0)          # sustained contact: no flight after this impact
+    # sustained contact (the kernel's status) can only begin at a drop's last
+    # impact, and no flight follows it
+    in_contact = np.isin(result.status, (CONTACT, COULD_VAULT))
+    grounded = in_contact[:, None] & (np.arange(k)[None, :] == result.count[:, None] - 1)
     closes = last & ~np.isnan(flight) & ~grounded
     opens = np.concatenate([exists[:, :1], exists[:, 1:] & closes[:, :-1]], axis=1)
     index = np.where(exists, np.cumsum(opens, axis=1), 0)
     count = closes.sum(axis=1)
     # the last group of a drop that ended in sustained contact is no bounce
-    ends_grounded = grounded[np.arange(n), np.maximum(result.count - 1, 0)] & (result.count > 0)
-    index = np.where(ends_grounded[:, None] & (index > count[:, None]), 0, index)
+    index = np.where(in_contact[:, None] & (index > count[:, None]), 0, index)
     # scatter the peaks of closing impacts into bounce slots
     slot = np.where(closes, np.cumsum(closes, axis=1) - 1, k)
     rows = np.broadcast_to(np.arange(n)[:, None], (n, k))

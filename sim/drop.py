@@ -57,7 +57,7 @@ from ._memory import keep_freed_memory
 from .flight import GRAVITY, floor_gravity
 from .geometry import contact_offset_at, curvature_bound, depth, depth_range
 from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact
-from .limits import FLOOR_ANGLE, FRICTION, RESTITUTION
+from .limits import FINITE, FLOOR_ANGLE, FRICTION, RESTITUTION
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -76,13 +76,6 @@ CONTACT_SPEED = 1e-9
 VAULT_SHARE = 0.1
 
 REFERENCES = ("centre", "bottom", "top")
-
-
-def _array(name, value, n=None):
-    value = np.asarray(value, dtype=float)
-    if np.any(~np.isfinite(value)):
-        raise ValueError(f"{name} must be a finite number, got {value[~np.isfinite(value)].flat[0]}")
-    return value
 
 
 @dataclass(frozen=True)
@@ -122,7 +115,7 @@ class Release:
         if self.reference not in ("centre", "bottom"):
             raise ValueError(f"release reference must be 'centre' or 'bottom', got {self.reference!r}")
         for name in ("height", "angle", "spin", "vx", "vy"):
-            _array(f"release {name}", getattr(self, name))
+            FINITE.check(f"release {name}", getattr(self, name))
         FLOOR_ANGLE.check("release floor_angle", self.floor_angle)
 
     def centre_height(self, shape: Shape):
@@ -348,10 +341,12 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         Drops simulated together; bounds the working memory (at most about
         600 bytes per drop in flight, :data:`CHUNK_SIZE`), not the result.
     peaks : sequence of {"centre", "bottom", "top"}
-        The reference points whose flight peaks are worked out; the others'
-        ``peak_*`` fields are NaN. The centre's costs nothing; the lowest and
-        top points' searches are most of the flight peaks' cost, so a study
-        that reads one point asks for that one only.
+        The lowest and top points whose flight-peak searches are run; for a
+        point not named its ``peak_*`` is NaN after every flight. The
+        centre's peak is exact and free, so it is always given, and a drop
+        that ends in sustained contact gets the heights where it lies. The
+        searches are most of the flight peaks' cost, so a study that reads
+        one point asks for that one only.
 
     Raises
     ------

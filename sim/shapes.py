@@ -187,10 +187,7 @@ def _checked(shape):
 
 
 def _check_aspect_ratio(cls, aspect_ratio):
-    message = cls.aspect_ratio_allowed.problem(f"aspect_ratio of a {cls.kind}", aspect_ratio)
-    if message is not None:
-        raise ValueError(message)
-    return np.asarray(aspect_ratio, dtype=float)
+    return cls.aspect_ratio_allowed.check(f"aspect_ratio of a {cls.kind}", aspect_ratio)
 
 
 @dataclass(frozen=True)

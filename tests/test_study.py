@@ -229,7 +229,7 @@ def test_all_field_mistakes_reported_at_once_with_exit_2(many):
     pytest.param("restitution: 1.5", None, "contact.restitution", ["[0, 1]", "1.5"], id="value_out_of_range"),
     pytest.param("high: 2.0", "grid", "body.aspect_ratio.grid", ["low must be below high", "5.0", "2.0"],
                  id="low_above_high"),
-    pytest.param("samples: 1000", "sensitivity", "analyses.sensitivity", ["power of two", "1000", "nearest: 1024"],
+    pytest.param("samples: 1000", "sensitivity", "analyses.sensitivity", ["power of two", "1000", "use 512 or 1024"],
                  id="sobol_samples_not_a_power_of_two"),
 ])
 def test_field_mistake_is_reported_at_its_place(many, snippet, key, field, words):

@@ -111,7 +111,7 @@ def morris_plan(names, trajectories=64, levels=4, seed=DEFAULT_SEED):
         Parameter names, unique.
     trajectories : int, optional
         Number of trajectories r, >= 2; the plan has ``r (D + 1)`` rows.
-        Ten to fifty is the usual range for screening [4]; the default
+        Ten to fifty is the usual range for screening [2]; the default
         gives steadier confidence intervals. [-]
     levels : int, optional
         Grid levels p per parameter, even and >= 2. The step is

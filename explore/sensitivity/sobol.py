@@ -19,7 +19,6 @@ References
 """
 from __future__ import annotations
 
-import math
 
 from dataclasses import dataclass, field
 from typing import ClassVar
@@ -345,10 +344,12 @@ def _draw_convergence(table, path, study_name):
 
 
 def _settings_problem(settings):
-    """Sobol sampling needs a power-of-two number of base samples."""
-    if settings.samples & (settings.samples - 1):
-        return (f"samples must be a power of two for Sobol sampling, got {settings.samples} "
-                f"(nearest: {2 ** round(math.log2(settings.samples))})")
+    """Sobol sampling needs a power-of-two number of base samples (the
+    plan's own check, :func:`_power_of_two`, worded for the study file)."""
+    try:
+        _power_of_two("samples", settings.samples)
+    except SensitivityError as exc:
+        return str(exc)
     return None
 
 
