@@ -16,7 +16,7 @@ import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 import pandas as pd  # noqa: E402
 
-from hopscape.sim.impact import LAW_TABLE  # noqa: E402
+from hopscape.sim.impact import LAW_CODE, LAW_TABLE  # noqa: E402
 
 from .metric_kinds import METRIC_KINDS  # noqa: E402
 from .figures import OKABE_ITO, save_figure  # noqa: E402
@@ -102,7 +102,7 @@ def energy_bound_holds(study: Study) -> bool:
 
 def creates_energy(study: Study) -> bool:
     """Whether the study's impact law can create energy (:data:`hopscape.sim.impact.LAW_TABLE`)."""
-    return {law.name: law.creates_energy for law in LAW_TABLE}[study.contact.law]
+    return LAW_TABLE[LAW_CODE[study.contact.law]].creates_energy
 
 
 def flat(z) -> bool:
@@ -130,13 +130,13 @@ def _cells(study: Study, table: pd.DataFrame, keys):
         "drops": g.size(),
         "mean_value": g["value"].mean(),
         "event_probability": g["event"].mean(),
+        "events": g["event"].sum(),
         "mean_best_later_ratio": g["best_later_ratio"].mean(),
         "beats_first_probability": g["beats_first"].mean(),
         "beats_release_probability": g["beats_release"].mean(),
         "inside_floor_fraction": g["value"].apply(lambda v: float(np.isnan(v).mean())),
     }).reset_index()
-    out["event_low"], out["event_high"] = wilson_interval(np.rint(out["event_probability"] * out["drops"]),
-                                                          out["drops"])
+    out["event_low"], out["event_high"] = wilson_interval(out.pop("events"), out["drops"])
     return out
 
 

@@ -43,7 +43,7 @@ def _points(cells: pd.DataFrame, keys):
                         "flip_rate": g["flips"].sum() / g["drops"].sum(),
                         "mean_change": g["mean_change"].mean(), "meets_target": g["meets_target"].all(),
                         "margin_steps": g["margin_steps"].min(), "chaotic": g["chaotic"].any()}).reset_index()
-    low, high = wilson_interval(np.rint(out["goal_probability"] * out["drops"]), out["drops"])
+    low, high = wilson_interval(np.rint(g["goal_drops"].sum()).to_numpy(), out["drops"])
     out.insert(out.columns.get_loc("goal_probability") + 1, "goal_low", low)
     out.insert(out.columns.get_loc("goal_low") + 1, "goal_high", high)
     return out

@@ -131,8 +131,10 @@ def test_drop_gives_the_commands_impact_table(tmp_path, capsys, options, keyword
 def test_history_before_the_first_impact_is_free_flight():
     # Before the first impact the body flies freely: the centre falls as
     # h0 - g t^2 / 2, the angle turns at the release spin, and the total
-    # energy stays m g h0 + I omega^2 / 2 (Newtonian free fall; any
-    # mechanics textbook). Degrees at the edge: the release angle is 30.
+    # energy stays m g h0 + I omega^2 / 2 (free fall under constant gravity:
+    # Halliday, Resnick & Walker, Fundamentals of Physics, the chapter on
+    # motion in one dimension; from memory). Degrees at the edge: the release
+    # angle is 30.
     height, angle, spin = 0.3, 30.0, 5.0
     one = hopscape.drop(height=height, angle=angle, spin=spin)
     first = one.impacts["time"].iloc[0]
@@ -148,7 +150,8 @@ def test_history_before_the_first_impact_is_free_flight():
 def test_bounces_of_a_sphere_rise_to_e_squared_of_the_fall():
     # A sphere dropped without spin onto a frictionless floor rebounds at e
     # times its impact speed and climbs e^2 times the height it fell
-    # (Newton's restitution for a central impact; any mechanics textbook):
+    # (Newton's restitution for a central impact: W. J. Stronge, Impact
+    # Mechanics, CUP 2000, ch. 1; docs/physics.md section 4):
     # the centre peaks at r + e^2 (h0 - r).
     radius, height, e = 0.01, 0.2, 0.7
     ball = hopscape.drop("sphere", radius=radius, height=height, angle=0.0, restitution=e, friction=0.0,

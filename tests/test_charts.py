@@ -74,7 +74,8 @@ def test_convergence_chart_writes_png_on_a_log2_axis(tmp_path, ishigami_run):
 def test_palette_is_okabe_ito_and_every_module_uses_it():
     from hopscape import figures, maps, plots
 
-    # the eight colours of Okabe & Ito (2008), as published
+    # the eight colours of Okabe & Ito (2008), Color Universal Design, as the
+    # hex codes are commonly quoted from it (from memory, not re-read)
     assert set(figures.OKABE_ITO.values()) == {"#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00",
                                                "#CC79A7", "#000000"}
     assert plots.OKABE_ITO is figures.OKABE_ITO

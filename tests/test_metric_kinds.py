@@ -108,8 +108,9 @@ def test_clears_needs_a_limit_and_only_clears_takes_one():
 
 def test_clears_on_real_drops_of_a_bouncing_ball(tmp_path):
     # A frictionless sphere dropped from rest falls h - R to the contact and
-    # rises e^2 (h - R), then e^4 (h - R) (textbook bouncing ball;
-    # docs/physics.md section 4: without friction all laws agree). Centre at
+    # rises e^2 (h - R), then e^4 (h - R) (the bouncing ball of Halliday,
+    # Resnick & Walker, Fundamentals of Physics, from memory; docs/physics.md
+    # section 4: without friction all laws agree). Centre at
     # 0.1 m, R = 5 mm, e = 0.8: the centre tops out at 0.005 + 0.64 x 0.095
     # = 0.0658 m, then at 0.005 + 0.4096 x 0.095 = 0.043912 m.
     from hopscape.metrics import simulate_frame

@@ -1,9 +1,11 @@
 """Morris screening (explore.sensitivity.morris) on Ishigami through hopscape's own pipeline.
 
 Reference values: with 4 levels the elementary effects of Ishigami
-(a = 7, b = 0.1, inputs uniform on [-pi, pi]; Ishigami & Homma 1990) are
-worked out by hand in ``test_morris_ishigami`` (SALib's regression test for
-vanilla Morris has mu_star(x2) = 7.875 too).
+(a = 7, b = 0.1, inputs uniform on [-pi, pi]; Ishigami & Homma, "An
+importance quantification technique in uncertainty analysis for computer
+models", Proc. ISUMA '90, 1990) are worked out by hand in
+``test_morris_ishigami``; SALib's own Morris regression tests agree
+(mu_star(x2) = 7.875; from memory of SALib's test suite, not re-read).
 """
 import re
 

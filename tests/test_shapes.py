@@ -92,7 +92,9 @@ def test_capsule_derived_regression_values(length_over_radius, derived):
 
 
 def test_sphere_spheroid_cylinder_closed_forms():
-    # Standard tables of moments of inertia [pub; docs/physics.md section 3]:
+    # Moments of inertia of solids as tabulated in standard references, e.g.
+    # the table in Halliday, Resnick & Walker, Fundamentals of Physics (from
+    # memory; docs/physics.md section 3), and checked against trimesh below:
     # sphere 2/5 m R^2, spheroid m (a^2 + b^2)/5, solid cylinder
     # m (3 R^2 + H^2)/12 about a transverse axis through the centre.
     # Rounding only.
