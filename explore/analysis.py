@@ -16,7 +16,8 @@ import pandas as pd
 
 from . import maps
 from .picks import judged_cells, picks as make_picks
-from .regions import safe_regions
+from .regions import quantity_range_words, safe_regions
+from .study import COLUMN
 from .robust_map import robustness
 from .sensitivity import METHODS, RANKING_FILE, output_files
 from .files import write_csv
@@ -141,7 +142,49 @@ def analyse(outcome) -> Artefacts:
         _sensitivity(outcome, art, folder, map_dir)
     art.seconds["analysis"] = time.perf_counter() - t1
     art.headline = headline(study, tables)
+    if grid is not None and len(grid):
+        note = inside_floor_note(study, grid)
+        if note:
+            art.notes.insert(0, note)
     return art
+
+
+def inside_floor_note(study, grid):
+    """Where on the grid drops would start inside the floor, in one sentence (None if nowhere).
+
+    The place is the smallest box of grid values holding every such drop,
+    named by the swept quantities it narrows; the share counts the drops
+    inside that box, so it reads as "at these settings, this many".
+
+    Parameters
+    ----------
+    study : Study
+        The validated study (its swept quantities).
+    grid : pandas.DataFrame
+        The grid stage's result table (``status`` column, grid values).
+
+    Returns
+    -------
+    str or None
+        E.g. ``12% of the drops at aspect ratio 5-8 and height 0.002-0.006 m
+        (1,234 of 10,240) start inside the floor and were not simulated; ...``
+    """
+    inside = (grid["status"].astype(str) == "inside floor").to_numpy()
+    if not inside.any():
+        return None
+    box = np.ones(len(grid), bool)
+    words = []
+    for name in study.gridded():
+        values = grid[COLUMN[name]].to_numpy(dtype=float)
+        low, high = values[inside].min(), values[inside].max()
+        if low > values.min() or high < values.max():
+            box &= (values >= low) & (values <= high)
+            words.append(quantity_range_words(name, low, high))
+    where = " and ".join(words) if words else "every grid setting"
+    count, total = int(inside.sum()), int(box.sum())
+    return (f"{count / total:.0%} of the drops at {where} ({count:,} of {total:,}) start inside the floor and "
+            f"were not simulated; map cells where more than half do are drawn grey, and probabilities count "
+            f"the simulated drops only.")
 
 
 def _robustness_axes(study):

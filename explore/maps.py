@@ -125,19 +125,35 @@ def flat_words(z) -> str:
 
 def _cells(study: Study, table: pd.DataFrame, keys):
     cols = [COLUMN[k] for k in keys]
-    g = table.groupby(cols, sort=True)
+    # probabilities count the drops that were simulated: a drop that would
+    # start inside the floor has no outcome, neither event nor its absence
+    simulated = (table["status"].astype(str) != "inside floor").rename("simulated")
+    frame = table[cols].assign(simulated=simulated,
+                               event=table["event"] & simulated,
+                               beats_first=table["beats_first"] & simulated,
+                               beats_release=table["beats_release"] & simulated,
+                               value=table["value"], best_later_ratio=table["best_later_ratio"])
+    g = frame.groupby(cols, sort=True)
+    count = g["simulated"].sum()
+    shown = count.where(count > 0)
     out = pd.DataFrame({
         "drops": g.size(),
+        "simulated": count,
         "mean_value": g["value"].mean(),
-        "event_probability": g["event"].mean(),
+        "event_probability": g["event"].sum() / shown,
         "events": g["event"].sum(),
         "mean_best_later_ratio": g["best_later_ratio"].mean(),
-        "beats_first_probability": g["beats_first"].mean(),
-        "beats_release_probability": g["beats_release"].mean(),
-        "inside_floor_fraction": g["value"].apply(lambda v: float(np.isnan(v).mean())),
+        "beats_first_probability": g["beats_first"].sum() / shown,
+        "beats_release_probability": g["beats_release"].sum() / shown,
+        "inside_floor_fraction": 1.0 - count / g.size(),
     }).reset_index()
-    out["event_low"], out["event_high"] = wilson_interval(out.pop("events"), out["drops"])
+    out["event_low"], out["event_high"] = wilson_interval(out.pop("events"), out["simulated"].where(out["simulated"] > 0))
     return out
+
+
+#: A map cell where more than this share of the drops would start inside the
+#: floor is drawn as such, not as a result: the few drops left say little.
+MOSTLY_INSIDE = 0.5
 
 
 def grid_of(cells, x, y, column):
@@ -178,8 +194,9 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     paths : list of pathlib.Path
         One picture per format.
     csv : pathlib.Path
-        Per cell: the two grid values, ``drops``, ``mean_value``,
-        ``event_probability`` [-], ``mean_best_later_ratio`` [-],
+        Per cell: the two grid values, ``drops``, ``simulated`` (the
+        drops that did not start inside the floor), ``mean_value``,
+        ``event_probability`` [-] (over the simulated drops), ``mean_best_later_ratio`` [-],
         ``beats_first_probability`` [-], ``beats_release_probability`` [-],
         ``inside_floor_fraction`` [-] and the event probability's 95 %
         Wilson interval ``event_low``, ``event_high`` [-].
@@ -195,6 +212,8 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     avoid = study.metric.goal == "avoid"
     column = "event_probability" if show_probability else "mean_value"
     xs, ys, z = grid_of(cells, x, y, column)
+    _, _, inside = grid_of(cells, x, y, "inside_floor_fraction")
+    z = np.where(inside > MOSTLY_INSIDE, np.nan, z)
     if show_probability and avoid:
         # colours say how often the goal is met, as on the robustness map:
         # bright is good for seek and avoid alike
@@ -224,7 +243,8 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
             legend.append(plt.Line2D([], [], color="black", lw=1.2, ls="--",
                                      label="a later bounce beats the first (half the drops)"))
     if np.isnan(z).any():
-        legend.append(matplotlib.patches.Patch(color="0.85", label="body would start inside the floor"))
+        legend.append(matplotlib.patches.Patch(color="0.85", label="more than half the drops would start "
+                                                                  "inside the floor (not simulated)"))
     if legend:
         ax.legend(handles=legend, loc="upper center", bbox_to_anchor=(0.5, -0.13), fontsize=8, ncol=1,
                   frameon=False)
@@ -278,11 +298,13 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     folder.mkdir(parents=True, exist_ok=True)
     col = COLUMN[x]
     g = table.groupby(col, sort=True)["value"]
-    events = table.groupby(col, sort=True)["event"]
-    low, high = wilson_interval(events.sum().to_numpy(), events.size().to_numpy())
-    frame = pd.DataFrame({"drops": g.size(), "median_value": g.median(), "p10_value": g.quantile(0.1),
-                          "p90_value": g.quantile(0.9), "mean_value": g.mean(),
-                          "event_probability": events.mean(), "event_low": low, "event_high": high}).reset_index()
+    simulated = (table["status"].astype(str) != "inside floor").groupby(table[col], sort=True).sum()
+    events = table.groupby(col, sort=True)["event"].sum()
+    shown = simulated.where(simulated > 0)   # probabilities over the drops that were simulated
+    low, high = wilson_interval(events.to_numpy(), shown.to_numpy())
+    frame = pd.DataFrame({"drops": g.size(), "simulated": simulated, "median_value": g.median(),
+                          "p10_value": g.quantile(0.1), "p90_value": g.quantile(0.9), "mean_value": g.mean(),
+                          "event_probability": events / shown, "event_low": low, "event_high": high}).reset_index()
     base = folder / f"curve-{x}"
     write_csv(frame, base.with_suffix(".csv"))
     value_words, event_words = metric_words(study)

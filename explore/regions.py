@@ -77,7 +77,8 @@ def _value(v):
     return f"{v:.4g}"
 
 
-def _words(name, low, high):
+def quantity_range_words(name, low, high):
+    """``angle 15-85 deg``: a quantity's range in words, with its unit."""
     unit = QUANTITIES[name].unit
     span = _value(low) if low == high else f"{_value(low)}-{_value(high)}"
     return f"{name.replace('_', ' ')} {span}" + ("" if unit == "-" else f" {unit}")
@@ -172,7 +173,7 @@ def safe_regions(cells: pd.DataFrame, keys, ok_column="meets_target", x=None):
                    "kind": kind}
             for k, axis in zip(order, axes):
                 row[f"{COLUMN[k]}_low"], row[f"{COLUMN[k]}_high"] = axis[span[k][0]], axis[span[k][1]]
-            first, *rest = [_words(k, axis[span[k][0]], axis[span[k][1]]) for k, axis in zip(order, axes)]
+            first, *rest = [quantity_range_words(k, axis[span[k][0]], axis[span[k][1]]) for k, axis in zip(order, axes)]
             joiner = " and " if kind == "extent" else " for "
             row["text"] = first + (joiner + ", ".join(rest) if rest else "")
             rows.append(row)

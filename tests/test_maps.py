@@ -173,3 +173,101 @@ def test_no_energy_bound_is_claimed_on_an_inclined_floor():
                 .replace("    - {x: angle, y: floor_angle}", "    - {x: angle, y: angle2}") \
                 .replace("  maps:\n    - {x: angle, y: angle2}\n", "").replace("  curves:\n    - {x: floor_angle}\n", "")
     assert "On an inclined floor" not in energy_note(parse_study(level))
+
+
+# --------------------------------------------------------------------------
+# drops that would start inside the floor (released by the centre, low)
+# --------------------------------------------------------------------------
+
+#: Released by the centre from 4, 17 and 30 mm: a 6 mm pin of aspect ratio 6
+#: standing upright reaches 18 mm below its centre, so two of its three
+#: heights start inside the floor; lying flat (3 mm) none does.
+LOW_STUDY = {
+    "name": "low",
+    "body": {**PIN, "aspect_ratio": grid(2.0, 6.0, 3)},
+    "contact": PIN_ON_STEEL,
+    "release": {"height": grid(0.004, 0.03, 3), "height_of": "centre", "angle": grid(0, 90, 4)},
+    "metric": {"kind": "ratio", "reference": "centre", "goal": "avoid"},
+    "analyses": {"draws": 2, "maps": [{"x": "angle", "y": "aspect_ratio"}], "curves": [{"x": "angle"}]},
+    "run": {"jobs": 1, "seed": 5, "impacts": 3},
+}
+
+
+@pytest.fixture(scope="module")
+def low_run(tmp_path_factory):
+    from conftest import write_study
+    from hopscape.cli import main
+    base = tmp_path_factory.mktemp("low")
+    path = write_study(base, study_yaml(LOW_STUDY), "low.yaml")
+    assert main(["run", str(path), "--out", str(base / "run"), "--quiet", "--backend", "sequential"]) == 0
+    return base / "run", parse_study(study_yaml(LOW_STUDY))
+
+
+def _starts_inside(grid):
+    """By hand (docs/physics.md section 2): a capsule's lowest point lies
+    (L/2 - r)|sin angle| + r below its centre."""
+    r = 0.003
+    half = grid[COLUMN["aspect_ratio"]] * 0.006 / 2
+    depth = (half - r) * np.abs(np.sin(np.radians(grid[COLUMN["angle"]]))) + r
+    return (grid[COLUMN["height"]] <= depth).to_numpy()
+
+
+def test_map_probabilities_count_only_the_drops_that_were_simulated(low_run):
+    folder, _ = low_run
+    grid = read_parts(folder)["grid"]
+    inside = _starts_inside(grid)
+    assert 0 < inside.mean() < 1
+    np.testing.assert_array_equal(grid["status"].astype(str) == "inside floor", inside)
+    cells = pd.read_csv(folder / "maps" / "map-angle-aspect_ratio.csv")
+    keys = [COLUMN["angle"], COLUMN["aspect_ratio"]]
+    for key, row in cells.set_index(keys).iterrows():
+        mine = (grid[keys[0]] == key[0]).to_numpy() & (grid[keys[1]] == key[1]).to_numpy()
+        simulated = mine & ~inside
+        assert row["drops"] == mine.sum() == 6
+        assert row["simulated"] == simulated.sum()
+        assert row["inside_floor_fraction"] == pytest.approx(1 - simulated.sum() / 6, abs=1e-15)
+        if simulated.any():
+            assert row["event_probability"] == pytest.approx(grid.loc[simulated, "event"].mean(), abs=1e-15)
+        else:
+            assert np.isnan(row["event_probability"])
+
+
+def test_cells_mostly_inside_the_floor_are_drawn_as_such(low_run, tmp_path, monkeypatch):
+    import hopscape.maps as maps
+    folder, study = low_run
+    grid = read_parts(folder)["grid"]
+    drawn = {}
+
+    def keep(fig, base, formats):
+        drawn["z"] = fig.axes[0].collections[0].get_array()
+        drawn["legend"] = [t.get_text() for t in fig.axes[0].get_legend().get_texts()]
+        return []
+
+    monkeypatch.setattr(maps, "save_figure", keep)
+    maps.regime_map(study, grid, "angle", "aspect_ratio", tmp_path)
+    cells = pd.read_csv(tmp_path / "map-angle-aspect_ratio.csv").sort_values(
+        [COLUMN["aspect_ratio"], COLUMN["angle"]])          # rows of the picture: aspect ratio
+    mostly = (cells["inside_floor_fraction"] > 0.5).to_numpy()
+    assert mostly.any() and (~mostly & (cells["inside_floor_fraction"] > 0)).any()
+    z = np.ma.getmaskarray(drawn["z"]).ravel()
+    np.testing.assert_array_equal(z, mostly | cells["event_probability"].isna().to_numpy())
+    assert any("more than half the drops would start inside the floor" in t for t in drawn["legend"])
+
+
+def test_report_says_where_drops_start_inside_the_floor(low_run):
+    from hopscape.analysis import inside_floor_note
+    folder, study = low_run
+    grid = read_parts(folder)["grid"]
+    inside = _starts_inside(grid)
+    # inside: only at 4 and 17 mm, and never lying flat (3 mm < 4 mm)
+    heights = grid[COLUMN["height"]].to_numpy()
+    angles = grid[COLUMN["angle"]].to_numpy()
+    assert set(heights[inside]) == {0.004, 0.017} and 0 not in set(angles[inside])
+    box = (heights <= 0.017) & (angles >= 30)
+    share = inside.sum() / box.sum()
+    text = inside_floor_note(study, grid)
+    assert text.startswith(f"{share:.0%} of the drops at ")
+    assert "height 0.004-0.017 m" in text and "angle 30-90 deg" in text and "aspect ratio" not in text
+    assert f"({inside.sum():,} of {box.sum():,})" in text
+    report = (folder / "report.html").read_text(encoding="utf-8")
+    assert f"({inside.sum():,} of {box.sum():,}) start inside the floor" in report
