@@ -21,6 +21,7 @@ from .study import COLUMN
 from .robust_map import robustness
 from .sensitivity import METHODS, RANKING_FILE, output_files
 from .files import write_csv
+from .stage_tables import stage_columns
 
 #: Folder of every figure of a run (maps, curves, robustness, sensitivity
 #: charts) and of the CSV file behind each map, inside the run folder.
@@ -69,7 +70,7 @@ def _sensitivity(outcome, art, folder, figures):
     plan = outcome.plan
     method = METHODS[plan.method]
     art.method = method.name
-    table = outcome.tables[method.name].sort_values("sample")
+    table = stage_columns(outcome.tables, method.name, ["sample", "value"]).sort_values("sample")
     y = table["value"].to_numpy(dtype=float)
     missing = int(np.isnan(y).sum())
     if missing:
@@ -210,8 +211,11 @@ def headline(study, tables):
     -------
     str or None
     """
-    events = [t.loc[t["status"].astype(str) != "inside floor", "event"].to_numpy(bool)
-              for t in tables.values() if len(t)]
+    events = []
+    for stage in tables:
+        t = stage_columns(tables, stage, ["status", "event"])
+        if len(t):
+            events.append(t.loc[t["status"].astype(str) != "inside floor", "event"].to_numpy(bool))
     events = np.concatenate(events) if events else np.zeros(0, bool)
     if not events.size or 0 < events.sum() < events.size:
         return None

@@ -14,6 +14,7 @@ from .figures import OKABE_ITO
 from .maps import energy_bound_holds, energy_note, metric_words
 from .answer import answer_lines
 from .regions import region_sentences
+from .stage_tables import stage_columns
 from .robust_map import tolerance_text
 from .sensitivity import METHODS
 from .study import COLUMN, QUANTITIES, Study
@@ -231,12 +232,13 @@ def write_report(outcome, art, seconds) -> Path:
                          "release errors often change the outcome. Prefer a calmer pick or a tighter rig.</div>")
     # counts
     counts = []
-    for stage, table in outcome.tables.items():
+    for stage in outcome.tables:
+        table = stage_columns(outcome.tables, stage, ["status", "energy_gain"])
         status = table["status"].astype(str).value_counts()
         counts.append({"stage": stage, "drops": len(table), **{f"ended: {k}": int(v) for k, v in status.items()},
                        "energy-gaining impacts": int(table["energy_gain"].sum())})
     parts += ["<h2>Counts and run time</h2>", _table(pd.DataFrame(counts).fillna(0))]
-    if any(t["energy_gain"].any() for t in outcome.tables.values()):
+    if any(row["energy-gaining impacts"] for row in counts):
         parts.append(f"<div class=box>Some drops had an impact that created energy: the {study.contact.law} law "
                      "can, with stick as well as with slip reversal (Stronge, J. Appl. Mech. 58:1049, 1991). Their "
                      "results are not physical; use a law that never creates energy.</div>")

@@ -31,6 +31,7 @@ import os
 import shutil
 import sys
 import time
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -38,11 +39,14 @@ import pandas as pd
 from joblib import Parallel, delayed, parallel_config
 from tqdm.auto import tqdm
 
+from hopscape.sim._memory import allocator_environment
+
 from .defaults import execution
 from .errors import InputError
 from .metrics import simulate_frame
 from .plan import build_stages
 from .study import Study
+from .stage_tables import StageTables
 from .files import atomic_write, folder_lock, write_text
 
 
@@ -56,10 +60,10 @@ class RunOutcome:
         The validated study that was run.
     folder : pathlib.Path
         The run folder (``study.yaml``, ``results/part-*.parquet``, ...).
-    tables : dict of str to pandas.DataFrame
+    tables : explore.stage_tables.StageTables
         Per stage (``grid``, ``robust``, ``sobol``, ``morris``): the
         :data:`STAGE_COLUMN`, the input columns and the metric columns, in
-        stage order.
+        stage order; read from the parts when first asked for.
     plan : object or None
         The sensitivity plan the ``sobol`` or ``morris`` stage was drawn
         from, or None.
@@ -74,7 +78,7 @@ class RunOutcome:
     """
     study: Study
     folder: Path
-    tables: dict            # stage -> DataFrame (inputs + metrics), in input order
+    tables: Mapping         # stage -> DataFrame (inputs + metrics), in input order, read from the parts on demand
     plan: object            # the SALib plan, or None
     seconds: dict = field(default_factory=dict)
     simulated: int = 0      # drops simulated in this call (the rest were on disk)
@@ -262,9 +266,14 @@ def _with_stage(table, stage):
     return table
 
 
-def _work(study, stage, k, frame):
-    """One chunk in a worker: its metric table, with its stage."""
-    return stage, k, _with_stage(simulate_frame(study, frame), stage)
+def _work(study, stage, k, frame, results, first_row):
+    """One chunk where it runs (a worker, or the run's own process):
+    simulate it and write its part with its proof. Only the row count goes
+    back, so no table travels through a pipe or a Dask scheduler; the run
+    folder must be one the workers can write (on a cluster, a shared disk)."""
+    table = _with_stage(simulate_frame(study, frame), stage)
+    write_part(table, Path(results) / _part_name(stage, k), part_proof(study, stage, k, first_row, table))
+    return stage, k, len(table)
 
 
 _watching_parent = False
@@ -303,8 +312,17 @@ def _backend(study, jobs, backend, scheduler):
             client = Client(scheduler)
             cluster = None
         else:
-            cluster = LocalCluster(n_workers=jobs, threads_per_worker=1, processes=True,
-                                   dashboard_address=None)
+            import dask
+
+            # Dask's nanny starts every worker with a 64 kB malloc trim
+            # threshold, which hands the kernel's freed arrays back to the
+            # system after every step (about 3.4x slower per task, measured
+            # with benchmarks/study_scale.py); the workers get the
+            # allocator setting of hopscape.sim._memory in their environment
+            environ = {**dask.config.get("distributed.nanny.pre-spawn-environ", {}), **allocator_environment()}
+            with dask.config.set({"distributed.nanny.pre-spawn-environ": environ}):
+                cluster = LocalCluster(n_workers=jobs, threads_per_worker=1, processes=True,
+                                       dashboard_address=None)
             client = Client(cluster)
         try:
             with parallel_config(backend="dask"):
@@ -384,29 +402,30 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
             if path.exists():
                 expected = {"fingerprint": fingerprint, "stage": stage, "task": k, "first_row": start,
                             "rows": min(size, len(frame) - start)}
-                part, reason = read_part(path, expected)
+                _, reason = read_part(path, expected)
                 if reason is None:
-                    done[stage, k] = part
+                    done[stage, k] = expected["rows"]
                     continue
                 notes.append(_reject(path, reason))
             tasks.append((stage, k, start))
-    done_drops = sum(len(part) for part in done.values())
+    done_drops = sum(done.values())
     total = sum(len(f) for f in stages.values())
     t_sim = time.perf_counter()
     bar = tqdm(total=total, initial=done_drops, unit="drop", unit_scale=True, disable=not progress,
                desc=f"{study.name}", dynamic_ncols=True, smoothing=0.1)
     simulated = 0
     try:
-        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size])
+        calls = (delayed(_work)(study, stage, k, stages[stage].iloc[start:start + size], results, start)
                  for stage, k, start in tasks)
         in_process, _ = execution(sum(min(size, len(stages[stage]) - start) for stage, _, start in tasks), jobs,
                                   backend, asked)
         if in_process:
-            outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size]) for stage, k, start in tasks)
-            for stage, k, frame in outputs:
-                done[stage, k] = _keep(study, results, stage, k, size, frame)
-                bar.update(len(frame))
-                simulated += len(frame)
+            outputs = (_work(study, stage, k, stages[stage].iloc[start:start + size], results, start)
+                       for stage, k, start in tasks)
+            for stage, k, rows in outputs:
+                done[stage, k] = rows
+                bar.update(rows)
+                simulated += rows
         else:
             with _backend(study, jobs, backend, scheduler):
                 # the backend comes from parallel_config for dask and loky (an
@@ -416,24 +435,18 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                          if backend == "loky" else contextlib.nullcontext())
                 with watch:
                     parallel = Parallel(n_jobs=jobs, return_as="generator_unordered", **kwargs)
-                    for stage, k, frame in parallel(calls):
-                        done[stage, k] = _keep(study, results, stage, k, size, frame)
-                        bar.update(len(frame))
-                        simulated += len(frame)
+                    for stage, k, rows in parallel(calls):
+                        done[stage, k] = rows
+                        bar.update(rows)
+                        simulated += rows
     finally:
         bar.refresh()
         bar.close()
     clock["simulation"] = time.perf_counter() - t_sim
     t_load = time.perf_counter()
-    tables = {}
-    for stage, frame in stages.items():
-        parts = [done[stage, k] for k in range(len(range(0, len(frame), size)))]
-        tables[stage] = (pd.concat(parts, ignore_index=True) if parts else _with_stage(frame.iloc[:0], stage))
+    parts = {stage: [results / _part_name(stage, k) for k in range(len(range(0, len(frame), size)))]
+             for stage, frame in stages.items()}
+    tables = StageTables(parts, {stage: _with_stage(frame.iloc[:0], stage) for stage, frame in stages.items()})
+    del stages                                  # the inputs are in the parts now
     clock["loading"] = time.perf_counter() - t_load
     return RunOutcome(study, folder, tables, plan, clock, simulated, total, notes)
-
-
-def _keep(study, results, stage, k, size, frame):
-    """Write a finished chunk as its part, with its proof; return it."""
-    write_part(frame, results / _part_name(stage, k), part_proof(study, stage, k, k * size, frame))
-    return frame

@@ -13,8 +13,14 @@ Effects outside the kernels: the process keeps up to
 :data:`TRIM_THRESHOLD` of freed heap for reuse instead of returning it at
 once; blocks up to :data:`MMAP_THRESHOLD` come from the heap. Elsewhere
 than glibc (macOS, musl, Windows) nothing is changed. An explicit
-``MALLOC_MMAP_THRESHOLD_`` or ``MALLOC_TRIM_THRESHOLD_`` in the environment
-is respected.
+``MALLOC_MMAP_THRESHOLD_`` in the environment is respected (both
+thresholds are then left as the environment says). A
+``MALLOC_TRIM_THRESHOLD_`` alone is not: Dask's nanny puts a 64 kB one into
+every worker it starts (``distributed.nanny.pre-spawn-environ``), made for
+long-lived servers, which makes the kernel about 3.4x slower per task; on
+workers of a cluster this package does not start, the kernel sets both
+thresholds itself. A cluster it starts gets both in its workers'
+environment (:func:`allocator_environment`).
 """
 from __future__ import annotations
 
@@ -45,7 +51,7 @@ def keep_freed_memory() -> bool:
     _done = True
     if not sys.platform.startswith("linux"):
         return False
-    if "MALLOC_MMAP_THRESHOLD_" in os.environ or "MALLOC_TRIM_THRESHOLD_" in os.environ:
+    if "MALLOC_MMAP_THRESHOLD_" in os.environ:
         return True
     try:
         libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6")
@@ -55,3 +61,9 @@ def keep_freed_memory() -> bool:
     mallopt.argtypes = (ctypes.c_int, ctypes.c_int)
     mallopt.restype = ctypes.c_int
     return bool(mallopt(_M_MMAP_THRESHOLD, MMAP_THRESHOLD)) and bool(mallopt(_M_TRIM_THRESHOLD, TRIM_THRESHOLD))
+
+
+def allocator_environment() -> dict:
+    """The same setting as environment variables, for worker processes
+    started by others (glibc reads them when a process starts)."""
+    return {"MALLOC_MMAP_THRESHOLD_": str(MMAP_THRESHOLD), "MALLOC_TRIM_THRESHOLD_": str(TRIM_THRESHOLD)}

@@ -464,3 +464,45 @@ def test_only_the_peaks_asked_for_are_worked_out_and_they_are_the_same(peaks):
         assert np.array_equal(part.impacts[name], full.impacts[name], equal_nan=True), name
     with pytest.raises(ValueError, match="peaks must name points among centre, bottom, top"):
         sim.simulate(shape, release, contact, peaks=("middle",))
+
+
+#: A check that the thresholds hold, read from glibc itself: mallinfo2()'s
+#: ``hblks`` counts the blocks malloc currently serves with mmap. With the
+#: default threshold (128 kB) a fresh 4 MB array is such a block; with the
+#: threshold at 32 MB it comes from the heap.
+_MMAP_BLOCKS = """
+import ctypes, sys
+import numpy as np
+class Info(ctypes.Structure):
+    _fields_ = [(name, ctypes.c_size_t) for name in
+                ("arena", "ordblks", "smblks", "hblks", "hblkhd", "usmblks", "fsmblks", "uordblks",
+                 "fordblks", "keepcost")]
+libc = ctypes.CDLL("libc.so.6")
+libc.mallinfo2.restype = Info
+if sys.argv[1] == "set":
+    from hopscape.sim import _memory
+    assert _memory.keep_freed_memory()
+before = libc.mallinfo2().hblks
+block = np.ones(4 * 1024 * 1024 // 8)
+print(libc.mallinfo2().hblks - before)
+"""
+
+
+@pytest.mark.parametrize("environment, call, mmapped", [
+    ({}, "leave", 1),                                   # glibc's defaults: the block is mmapped
+    ({}, "set", 0),                                     # the kernel's own setting
+    ({"MALLOC_TRIM_THRESHOLD_": "65536"}, "set", 0),    # as in a Dask nanny's worker: still set
+    ({"MALLOC_MMAP_THRESHOLD_": "131072"}, "set", 1),   # the user's explicit choice is respected
+])
+def test_allocator_setting_holds_where_the_kernel_runs(environment, call, mmapped):
+    import os
+    import platform
+    import subprocess
+    import sys
+
+    if platform.libc_ver()[0] != "glibc":
+        pytest.skip("glibc's mallinfo2 reads the setting")
+    env = {k: v for k, v in os.environ.items() if not k.startswith("MALLOC_")}
+    out = subprocess.run([sys.executable, "-c", _MMAP_BLOCKS, call], env={**env, **environment},
+                         capture_output=True, text=True, check=True)
+    assert int(out.stdout) == mmapped

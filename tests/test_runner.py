@@ -126,6 +126,24 @@ def test_dask_backend_same_table(small_reference, tmp_path):
     assert_same_tables(outcome.tables, small_reference.tables)
 
 
+@pytest.mark.slow
+def test_dask_workers_started_here_get_the_allocator_setting():
+    # Dask's nanny gives every worker MALLOC_TRIM_THRESHOLD_=65536; the
+    # cluster a run starts gives them the kernel's setting instead
+    # (hopscape/sim/_memory.py), and each worker also finds its kernel set
+    pytest.importorskip("distributed")
+    from dask.distributed import get_client
+
+    from hopscape.runner import _backend
+    from hopscape.sim._memory import MMAP_THRESHOLD, TRIM_THRESHOLD
+
+    with _backend(parse_study(SMALL), 2, "dask", None):
+        seen = get_client().run(lambda: (os.environ.get("MALLOC_MMAP_THRESHOLD_"),
+                                         os.environ.get("MALLOC_TRIM_THRESHOLD_")))
+    assert len(seen) == 2
+    assert set(seen.values()) == {(str(MMAP_THRESHOLD), str(TRIM_THRESHOLD))}
+
+
 # --------------------------------------------------------------------------
 # resume
 # --------------------------------------------------------------------------

@@ -161,15 +161,15 @@ def sobol_plan(names, base_samples, second_order=False, seed=DEFAULT_SEED):
 
     Notes
     -----
-    Uses ``SALib.sample.sobol.sample`` with ``scramble=True`` (Owen-type
-    scrambling, so no points need skipping) and the given seed.
+    The plan of ``SALib.sample.sobol.sample`` with ``scramble=True``
+    (Owen-type scrambling, so no points need skipping) and the given seed,
+    bit for bit, laid out with whole-array copies
+    (:func:`explore.sensitivity._saltelli.cross_sample`).
     """
     names = _checks.names(names)
     base_samples = _power_of_two("base_samples", base_samples)
     seed = _checks.seed("seed", seed)
-    from SALib.sample import sobol as _sobol_sample   # imported on use: validating a study needs no SALib
-    unit = _sobol_sample.sample(_checks.unit_problem(names), base_samples, calc_second_order=bool(second_order),
-                                scramble=True, seed=seed)
+    unit = _saltelli.cross_sample(len(names), base_samples, bool(second_order), seed)
     return SobolPlan(names, base_samples, bool(second_order), seed, unit)
 
 
