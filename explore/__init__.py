@@ -208,7 +208,8 @@ class StudyRun:
         return self.tables[stage]
 
 
-def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analyse=True, progress=False):
+def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, scheduler=None, analyse=True,
+              progress=False):
     """Run a study as ``hopscape run`` does: simulate, analyse, report.
 
     Finished chunks in ``folder`` are kept and not simulated again; a folder
@@ -229,6 +230,11 @@ def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analy
         Worker processes; default the study's ``run.jobs``.
     backend : {"loky", "threading", "sequential", "dask"}, optional
         Default the study's ``run.backend``.
+    scheduler : str, optional
+        Address of a running Dask scheduler (``tcp://HOST:8786``, or a
+        ``dask_jobqueue`` cluster's ``scheduler_address``); implies the
+        ``dask`` backend. The run folder must be on a disk its workers can
+        write.
     analyse : bool, optional
         Also draw the maps, rank the quantities, pick conditions and write
         ``report.html`` (False: the tables only).
@@ -256,14 +262,15 @@ def run_study(study, folder=None, *, fresh=False, jobs=None, backend=None, analy
         raise InputError(f"jobs must be >= 1, got {jobs}")
     folder = Path("runs") / study.name if folder is None else Path(folder)
     with folder_lock(folder):   # held through the analysis and the report too
-        return _run_and_report(study, folder, source_text, fresh, jobs, backend, analyse, progress)
+        return _run_and_report(study, folder, source_text, fresh, jobs, backend, scheduler, analyse, progress)
 
 
-def _run_and_report(study, folder, source_text, fresh, jobs, backend, analyse, progress):
+def _run_and_report(study, folder, source_text, fresh, jobs, backend, scheduler, analyse, progress):
     """The body of :func:`run_study`, with the run folder held."""
     from .runner import run_study as run_stages
 
-    outcome = run_stages(study, folder, source_text, fresh=fresh, jobs=jobs, backend=backend, progress=progress)
+    outcome = run_stages(study, folder, source_text, fresh=fresh, jobs=jobs, backend=backend, scheduler=scheduler,
+                         progress=progress)
     if not analyse:
         return StudyRun(study, outcome.folder, outcome.tables)
     from .analysis import analyse as analyse_run

@@ -139,6 +139,12 @@ def cmd_check(args):
         print(f"  {stage:>7}: {n:>10,} drops")
     _, where = execution(total, study.run.jobs, study.run.backend)
     print(f"  total: {total:,} drops x up to {study.run.impacts} impacts; estimated {estimate:.0f} s; runs {where}")
+    if study.run.backend == "dask" or study.run.scheduler:
+        size = study.run.chunk_size
+        tasks = sum(-(-n // size) for n in counts.values())
+        # a worker kept busy wants a few tasks, so that one slow task does not leave the others idle
+        print(f"  {tasks:,} tasks of up to {size:,} drops: enough for about {max(1, tasks // 4):,} Dask worker(s) "
+              f"(lower run.chunk_size for a bigger cluster; each task costs ~25 ms beyond its drops)")
     print(f"  {said}")
     return 0
 

@@ -127,6 +127,21 @@ def test_dask_backend_same_table(small_reference, tmp_path):
 
 
 @pytest.mark.slow
+def test_an_existing_dask_scheduler_gives_the_same_table(small_reference, tmp_path):
+    # a cluster the run did not start (as a batch system's would be), given
+    # by its address through the Python API; its workers write the parts
+    pytest.importorskip("distributed")
+    import hopscape
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
+        run = hopscape.run_study(parse_study(SMALL), tmp_path, scheduler=cluster.scheduler_address, analyse=False)
+    assert_same_tables(run.tables, small_reference.tables)
+    assert len(list((tmp_path / "results").glob("part-*.parquet"))) == sum(
+        -(-n // 500) for n in SMALL_COUNTS.values())
+
+
+@pytest.mark.slow
 def test_dask_workers_started_here_get_the_allocator_setting():
     # Dask's nanny gives every worker MALLOC_TRIM_THRESHOLD_=65536; the
     # cluster a run starts gives them the kernel's setting instead
@@ -469,3 +484,13 @@ def test_a_small_study_runs_in_its_own_process_unless_workers_are_asked_for():
     assert execution(1000, 2, "loky", asked=True)[0] is False
     assert execution(1000, 1, "loky")[0] is True and execution(10 ** 9, 4, "sequential")[0] is True
     assert execution(1000, 2, "dask")[0] is False
+
+
+def test_check_says_how_many_dask_tasks_a_study_makes(tmp_path, capsys):
+    # 960 + 640 + 896 drops (SMALL_COUNTS) in chunks of 100: 10 + 7 + 9 tasks
+    text = study_yaml(changed(SMALL_STUDY, run={"backend": "dask", "chunk_size": 100}))
+    path = write_study(tmp_path, text)
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert -(-960 // 100) + -(-640 // 100) + -(-896 // 100) == 26
+    assert "26 tasks of up to 100 drops: enough for about 6 Dask worker(s)" in out
