@@ -7,17 +7,17 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import os
 import sys
 import time
 from pathlib import Path
 
-import numpy as np
-
+# numpy, the kernel and everything else are imported inside main(), so that
+# a Ctrl-C while they load ends with "interrupted" and exit 130 like any other
 from .cli_text import STRICT_HELP, report_warnings
 from .defaults import IMPACTS
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
-from .batch_contract import per_shape
 from .files import refuse_overwriting_input
 
 SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
@@ -112,6 +112,7 @@ def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
     from hopscape.sim.limits import FRICTION, RESTITUTION
+    from .batch_contract import per_shape
     from .quantities import QUANTITIES
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
@@ -259,7 +260,7 @@ def cmd_drop(args):
     def drop(shape):
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
-                              vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
+                              vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=math.radians(floor_angle))
         contact = sim.Contact(args.restitution, args.friction, args.law)
         return sim.simulate(shape, release, contact, impacts=args.impacts)
 

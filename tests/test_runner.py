@@ -494,3 +494,40 @@ def test_check_says_how_many_dask_tasks_a_study_makes(tmp_path, capsys):
     out = capsys.readouterr().out
     assert -(-960 // 100) + -(-640 // 100) + -(-896 // 100) == 26
     assert "26 tasks of up to 100 drops: enough for about 6 Dask worker(s)" in out
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("moment", ["0.2 s", "0.6 s", "1.2 s", "first part", "first part + 0.3 s",
+                                    "first part + 0.8 s"])
+def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, tmp_path):
+    # Ctrl-C while importing, while the workers start, and while parts are
+    # written: the run ends with exit 130 within 10 s every time, leaves no
+    # worker behind, and what is on disk resumes. (Once in 22 tries an
+    # earlier version hung in joblib's abort for over a minute; the
+    # tries here cover the phases where it could.)
+    study_path = write_study(tmp_path, MID, "mid.yaml")
+    folder = tmp_path / "run"
+    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
+                                                  "--jobs", "2"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    try:
+        if moment.startswith("first part"):
+            _wait_for_first_part(proc, folder)
+            time.sleep(float(moment.split("+ ")[1].split()[0]) if "+" in moment else 0.0)
+        else:
+            time.sleep(float(moment.split()[0]))
+        workers = psutil.Process(proc.pid).children(recursive=True)
+        proc.send_signal(signal.SIGINT)
+        started = time.monotonic()
+        out, err = proc.communicate(timeout=30)
+        took = time.monotonic() - started
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+    assert proc.returncode == 130, err
+    assert took < 10, f"took {took:.1f} s to end after Ctrl-C"
+    assert "Traceback" not in err
+    _, alive = psutil.wait_procs(workers, timeout=10)
+    assert not [p for p in alive if p.status() != psutil.STATUS_ZOMBIE]
+    assert run_text(MID, folder).total == sum(1 for _ in ()) + 58560 + 29280
