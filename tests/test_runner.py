@@ -499,7 +499,7 @@ def test_check_says_how_many_dask_tasks_a_study_makes(tmp_path, capsys):
 @pytest.mark.slow
 @pytest.mark.parametrize("moment", ["0.2 s", "0.6 s", "1.2 s", "first part", "first part + 0.3 s",
                                     "first part + 0.8 s"])
-def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, tmp_path):
+def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, mid_reference, tmp_path):
     # Ctrl-C while importing, while the workers start, and while parts are
     # written: the run ends with exit 130 within 10 s every time, leaves no
     # worker behind, and what is on disk resumes. (Once in 22 tries an
@@ -530,4 +530,4 @@ def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, tmp_path):
     assert "Traceback" not in err
     _, alive = psutil.wait_procs(workers, timeout=10)
     assert not [p for p in alive if p.status() != psutil.STATUS_ZOMBIE]
-    assert run_text(MID, folder).total == sum(1 for _ in ()) + 58560 + 29280
+    assert_same_tables(run_text(MID, folder).tables, mid_reference.tables)
