@@ -11,7 +11,7 @@ peak of the tree's sum (workers included).
 Usage::
 
     python benchmarks/study_scale.py --study rod-glass --samples 262144 --jobs 2
-    python benchmarks/study_scale.py --study quick --jobs 1 2 --rounds 3
+    python benchmarks/study_scale.py --study quick --jobs 1 study 2 --rounds 3
     python benchmarks/study_scale.py --study rod-glass --samples 16384 --jobs 1 2
     python benchmarks/study_scale.py --study quick --jobs 2 --backends loky dask
     python benchmarks/study_scale.py --study rod-glass --backends dask --chunk-sizes 20000 1000
@@ -59,7 +59,7 @@ def _drops(study_file):
 def run_once(study_file, folder, jobs, backend):
     """One fresh run; (wall [s], simulation [s], main peak RSS [B], tree peak RSS [B])."""
     command = [sys.executable, "-m", "hopscape.cli", "run", str(study_file), "--out", str(folder), "--quiet",
-               "--fresh", "--jobs", str(jobs), "--backend", backend]
+               "--fresh", "--backend", backend] + ([] if jobs == "study" else ["--jobs", jobs])
     start = time.perf_counter()
     proc = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
     main = psutil.Process(proc.pid)
@@ -89,7 +89,9 @@ def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--study", default="rod-glass")
     parser.add_argument("--samples", type=int, default=None, help="Sobol base samples (default: the study's)")
-    parser.add_argument("--jobs", type=int, nargs="+", default=[2])
+    parser.add_argument("--jobs", nargs="+", default=["2"],
+                        help="worker counts given as --jobs (workers used whatever the size), or 'study': the "
+                             "study's own run.jobs, where a small study stays in one process")
     parser.add_argument("--backends", nargs="+", default=["loky"])
     parser.add_argument("--chunk-sizes", type=int, nargs="+", default=[None])
     parser.add_argument("--rounds", type=int, default=2)
@@ -128,7 +130,7 @@ def main(argv=None):
             extra = statistics.median(s[1] - b[1] for s, b in zip(results[jobs, backend, small],
                                                                    results[jobs, backend, big]))
             print(f"  per-task overhead, jobs {jobs} {backend}: {extra:.2f} s more for {tasks[1] - tasks[0]} more "
-                  f"tasks on {jobs} workers = {extra * jobs / (tasks[1] - tasks[0]) * 1e3:.1f} ms per task")
+                  f"tasks on {jobs} workers = {extra * (int(jobs) if jobs.isdigit() else 1) / (tasks[1] - tasks[0]) * 1e3:.1f} ms per task")
 
 
 if __name__ == "__main__":
