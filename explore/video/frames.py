@@ -7,6 +7,7 @@ file and what was found.
 """
 from __future__ import annotations
 
+import os
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -20,6 +21,11 @@ from ..errors import InputError, shown
 #: (from memory: high-speed camera software commonly saves at 25-60 frames
 #: per second for viewing). [1/s]
 PLAYBACK_RATE_BELOW = 200.0
+
+# FFmpeg and OpenCV print their own complaints about a damaged file on stderr
+# before we can say it in one line; keep them quiet unless the user asked.
+os.environ.setdefault("OPENCV_FFMPEG_LOGLEVEL", "-8")
+os.environ.setdefault("OPENCV_LOG_LEVEL", "ERROR")
 
 _LAST_NUMBER = re.compile(r"(\d+)(?!.*\d)")
 
