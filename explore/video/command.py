@@ -13,6 +13,9 @@ from ..files import atomic_write, refuse_overwriting_input
 
 #: Fewest frames for which a progress bar is shown.
 PROGRESS_FROM = 100
+#: Above this share of frames without a body (lost or partly hidden) the
+#: command warns: a still body hides in the median background.
+MOSTLY_FOUND = 0.2
 
 
 def register(sub, handlers):
@@ -73,6 +76,10 @@ def cmd_track(args):
     print(f"{frames.count} frames in {elapsed:.1f} s ({frames.count / elapsed:,.0f} frames/s): body found in "
           f"{tracked}; left empty: {why.get('lost', 0)} lost, {why.get('edge', 0)} touching the edge, "
           f"{why.get('quality', 0)} unlike the body's usual size (quality < 0.5)")
+    if why.get("lost", 0) + why.get("quality", 0) > MOSTLY_FOUND * frames.count:
+        report_warnings([f"{why.get('lost', 0) + why.get('quality', 0)} of {frames.count} frames lost the body or "
+                         "saw only part of it: a body that stands still for much of the film becomes part of the "
+                         "median background (start filming at the release, stop once it rests)"], args.strict)
 
     scale = args.scale
     if args.body_length is not None:
