@@ -61,7 +61,6 @@ def errors(track, truth):
     return np.hypot(ex, ey), angle_error(track["angle"], truth["angle"]).abs()
 
 
-@pytest.mark.slow
 def test_tracked_film_of_a_drop_matches_the_simulated_truth(filmed, tmp_path, capsys):
     folder, truth, _ = filmed
     out = tmp_path / "track.csv"
@@ -80,7 +79,6 @@ def test_tracked_film_of_a_drop_matches_the_simulated_truth(filmed, tmp_path, ca
     assert "body found in 101" in printed and "metres" in printed
 
 
-@pytest.mark.slow
 def test_pixel_track_is_in_the_image_frame_and_says_what_the_fit_needs(filmed, tmp_path, capsys):
     folder, truth, _ = filmed
     out = tmp_path / "pixels.csv"
@@ -94,7 +92,6 @@ def test_pixel_track_is_in_the_image_frame_and_says_what_the_fit_needs(filmed, t
     assert "--scale PX_PER_M --y-down" in printed and "--floor-y" in printed
 
 
-@pytest.mark.slow
 def test_scale_from_the_body_length(filmed, tmp_path, capsys):
     folder, truth, shape = filmed
     out = tmp_path / "track.csv"
@@ -108,7 +105,6 @@ def test_scale_from_the_body_length(filmed, tmp_path, capsys):
     assert "scale from the body's median length" in printed
 
 
-@pytest.mark.slow
 def test_frames_touching_the_edge_or_outside_are_left_empty(filmed):
     """Track only the top of the picture (rows 0-109, heights above 15 mm):
     the pin starts inside, falls through the region's lower edge and lies
@@ -348,3 +344,11 @@ def test_body_that_mostly_stands_still_gets_a_warning(tmp_path, capsys):
         cv2.imwrite(str(tmp_path / f"f{number}.png"), frame)
     assert main(["track", str(tmp_path), "--fps", "100", "--out", str(tmp_path / "t.csv")]) == 0
     assert "becomes part of the median background" in capsys.readouterr().err
+
+
+def test_film_refuses_times_the_simulation_does_not_know():
+    """After its last simulated impact a drop's history would fall through
+    the floor; a film past it would be a false truth."""
+    _, result = pin_drop(impacts=2)
+    with pytest.raises(ValueError, match="duration must be at most"):
+        film(result, CAMERA, 0.5)

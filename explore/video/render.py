@@ -141,6 +141,10 @@ def film(result, camera, duration, drop=0, body_grey=30.0):
     frames : generator of numpy.ndarray
         The grey frames (``uint8``), made as they are read.
     """
+    known = _known_until(result, drop)
+    if duration > known:
+        raise ValueError(f"duration must be at most {known:.4f} s: the drop's state is known up to the end of its "
+                         f"last simulated flight (simulate more impacts), got {duration:g} s")
     count = int(np.floor(duration * camera.fps)) + 1
     times = np.arange(count) / camera.fps
     middle = sim.history(result, drop, times)
@@ -161,6 +165,18 @@ def film(result, camera, duration, drop=0, body_grey=30.0):
             yield np.clip(np.round(image), 0, 255).astype(np.uint8)
 
     return truth, frames()
+
+
+def _known_until(result, drop):
+    """Time up to which :func:`sim.history` follows the drop [s]: the end of
+    the flight after its last simulated impact (after it, history would
+    let the body fall through the floor)."""
+    count = int(result.count[drop])
+    if count == 0:
+        return float("inf") if result.status[drop] == sim.drop.RAN_ALL else 0.0
+    last = float(result.time[drop, count - 1])
+    flight = float(result.flight[drop, count - 1])
+    return last + (flight if np.isfinite(flight) else 0.0)
 
 
 def write_frames(frames, folder, stem="frame"):
