@@ -5,7 +5,9 @@ own drop (``sim.simulate`` and ``sim.history``: the state at the middle of
 each exposure), with anti-aliasing, motion blur, a textured background and
 sensor noise, so tracking is checked against the state the film was made
 from. The per-frame geometry itself is checked against an outside
-reference in ``tests/test_video_moments.py``.
+reference in ``tests/test_video_moments.py``; the angle convention is
+docs/physics.md section 1 (counter-clockwise with y up), the image's
+mirrored one section 11.
 """
 from __future__ import annotations
 
