@@ -86,7 +86,7 @@ def cmd_track(args):
         length_px = float(np.nanmedian(table["length"]))
         scale = length_px / args.body_length
         print(f"scale from the body's median length of {length_px:.1f} pixels over {tracked} frames: "
-              f"{scale:,.1f} pixels/m (+-{100 / length_px:.1f}% for one pixel)")
+              f"{scale:,.1f} pixels/m (one pixel of length is {100 / length_px:.1f}% of it)")
     if scale is not None:
         floor_row = frames.height - 0.5 if args.floor_y is None else args.floor_y
         table = to_metres(table, scale, floor_row)

@@ -129,6 +129,38 @@ def _largest_blob(mask):
     return blob, (x, y, w, h)
 
 
+def _length_along_axis(window, found, contrast, x0, y0):
+    """The blob's extent along its axis through the centroid [pixels], to a
+    fraction of a pixel: the difference sampled along the axis (bilinear,
+    every 0.1 px) crosses half the body's contrast at each end, where an
+    anti-aliased edge lies (as the threshold, module docstring). ``window``:
+    the difference around the blob, its top-left pixel at ``(x0, y0)``."""
+    import cv2
+
+    c, s = np.cos(found["orientation"]), np.sin(found["orientation"])
+    reach = 4 * found["along"] + 2 * MARGIN          # beyond the ends of any body of the family
+    t = np.arange(-reach, reach, 0.1, dtype=np.float32)
+    xs = (found["x"] - x0 + t * c).astype(np.float32)[None, :]
+    ys = (found["y"] - y0 + t * s).astype(np.float32)[None, :]
+    # beyond the window (a margin of background round the blob) it reads as background
+    profile = cv2.remap(window.astype(np.float32), xs, ys, cv2.INTER_LINEAR, borderMode=cv2.BORDER_CONSTANT,
+                        borderValue=0.0)[0]
+    inside = profile >= contrast / 2
+    middle = t.size // 2
+    if not inside[middle]:
+        return np.nan                                # a hollow body: no axis through material
+    # the run of samples inside around the centre, and its ends interpolated
+    outside = np.flatnonzero(~inside)
+    low, high = outside[outside < middle], outside[outside > middle]
+    if low.size == 0 or high.size == 0:
+        return np.nan
+
+    def crossing(i, j):        # where the profile crosses half contrast between samples i and j
+        return t[i] + (t[j] - t[i]) * (contrast / 2 - profile[i]) / (profile[j] - profile[i])
+
+    return float(crossing(high[0] - 1, high[0]) - crossing(low[-1] + 1, low[-1]))
+
+
 def measure(image, scene):
     """The body in one grey frame.
 
@@ -169,9 +201,6 @@ def measure(image, scene):
     found = blob_moments(blob)
     found["x"] += x0 + bx
     found["y"] += y0 + by
-    ys, xs = np.nonzero(blob)
-    c, s = np.cos(found["orientation"]), np.sin(found["orientation"])
-    along = xs * c + ys * s
-    found["length"] = float(along.max() - along.min() + 1.0)   # pixel centres: one pixel more
+    found["length"] = _length_along_axis(window, found, contrast, x0, y0)
     found["edge"] = bool(x0 + bx == 0 or y0 + by == 0 or x0 + bx + bw == cols or y0 + by + bh == rows)
     return found
