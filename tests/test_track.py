@@ -357,3 +357,14 @@ def test_film_refuses_times_the_simulation_does_not_know():
     _, result = pin_drop(impacts=2)
     with pytest.raises(ValueError, match="duration must be at most"):
         film(result, CAMERA, 0.5)
+
+
+def test_parquet_track(filmed, tmp_path):
+    """The same table as Parquet, chosen by the file ending."""
+    folder, truth, _ = filmed
+    out = tmp_path / "track.parquet"
+    assert main(["track", str(folder), "--fps", "1000", "--out", str(out), "--scale", "5000", "--floor-y", "185",
+                 "--quiet", "--roi", "0,0,320,200"]) == 0
+    track = pd.read_parquet(out)
+    assert list(track.columns) == ["frame", "time", "x", "y", "angle", "quality"]
+    assert errors(track, truth)[0].max() < CENTRE_MM
