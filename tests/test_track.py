@@ -368,3 +368,36 @@ def test_parquet_track(filmed, tmp_path):
     track = pd.read_parquet(out)
     assert list(track.columns) == ["frame", "time", "x", "y", "angle", "quality"]
     assert errors(track, truth)[0].max() < CENTRE_MM
+
+
+@pytest.mark.slow
+def test_fit_of_the_tracked_demo_film_gives_back_its_contact(tmp_path, capsys):
+    """End to end: the demo film (docs/demo/make_demo_video.py: restitution
+    0.6, friction 0.3, energetic law) tracked, then fitted by ``hopscape
+    fit``; the issue's tolerance for a fit from video is 0.05. Runs where
+    the checkout has the fit command."""
+    import importlib.util
+    import json
+    from pathlib import Path
+
+    from hopscape import commands
+    from hopscape.cli import build_parser
+
+    build_parser()
+    if "fit" not in commands.HANDLERS:
+        pytest.skip("this checkout has no 'hopscape fit' command")
+    script = Path(__file__).resolve().parents[1] / "docs" / "demo" / "make_demo_video.py"
+    spec = importlib.util.spec_from_file_location("make_demo_video", script)
+    demo = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(demo)
+    track = tmp_path / "track.csv"
+    assert main(["track", str(script.parent / "pin_drop.mp4"), "--out", str(track), "--body-length", "0.02",
+                 "--floor-y", str(demo.CAMERA.floor_row), "--quiet"]) == 0
+    capsys.readouterr()
+    assert main(["fit", str(track), "--shape", "capsule", "--radius", str(demo.PIN["radius"]), "--length",
+                 str(demo.PIN["length"]), "--density", str(demo.PIN["density"]), "--json"]) == 0
+    fitted = json.loads(capsys.readouterr().out)
+    assert fitted["restitution"] == pytest.approx(float(demo.CONTACT.restitution), abs=0.05)
+    assert fitted["friction"] == pytest.approx(float(demo.CONTACT.friction), abs=0.05)
+    # the scale from the body's length, within 0.3% (test_scale_from_the_body_length)
+    assert fitted["gravity"] == pytest.approx(9.80665, rel=0.005)

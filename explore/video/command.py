@@ -37,7 +37,7 @@ def register(sub, handlers):
                        help="[pixels/m] image scale (from a ruler in the picture): write metres, y up")
     scale.add_argument("--body-length", type=positive, default=None, metavar="M",
                        help="[m] the body's overall length: the scale from its median length in the frames "
-                       "(about one pixel of uncertainty over that length); write metres, y up")
+                       "(its ends found to a fraction of a pixel); write metres, y up")
     t.add_argument("--floor-y", type=_number(float), default=None, metavar="PX",
                    help="[pixels] row of the floor line; with a scale, y = 0 there (default: the frame's "
                    "bottom edge)")
