@@ -401,3 +401,15 @@ def test_fit_of_the_tracked_demo_film_gives_back_its_contact(tmp_path, capsys):
     assert fitted["friction"] == pytest.approx(float(demo.CONTACT.friction), abs=0.05)
     # the scale from the body's length, within 0.3% (test_scale_from_the_body_length)
     assert fitted["gravity"] == pytest.approx(9.80665, rel=0.005)
+
+
+def test_round_blob_gives_a_centre_but_no_angle(tmp_path):
+    """A disc (a body seen end on, a sphere) has no axis: its centre is
+    given, its angle left empty rather than made up from pixel noise."""
+    for number in range(5):
+        frame = np.full((60, 120), 200, np.uint8)
+        cv2.circle(frame, (20 + 20 * number, 30), 8, 40, -1)
+        cv2.imwrite(str(tmp_path / f"f{number}.png"), frame)
+    table = track_pixels(open_frames(tmp_path, fps=100.0))
+    assert table["x"].notna().all() and table["angle"].isna().all()
+    assert np.abs(table["x"] - (20 + 20 * table["frame"])).max() < 0.15    # whole-pixel disc, as the ellipse
