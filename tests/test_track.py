@@ -413,3 +413,21 @@ def test_round_blob_gives_a_centre_but_no_angle(tmp_path):
     table = track_pixels(open_frames(tmp_path, fps=100.0))
     assert table["x"].notna().all() and table["angle"].isna().all()
     assert np.abs(table["x"] - (20 + 20 * table["frame"])).max() < 0.15    # whole-pixel disc, as the ellipse
+
+
+def test_sixteen_bit_frames_of_a_twelve_bit_camera(tmp_path):
+    """12-bit data in 16-bit PNGs (values up to 4095): read at full
+    contrast, not divided by 256 into near-black."""
+    for number in range(6):
+        frame = np.full((60, 120), 3200, np.uint16)
+        cv2.ellipse(frame, (20 + 15 * number, 30), (12, 4), -20, 0, 360, 500, -1)
+        cv2.imwrite(str(tmp_path / f"f{number}.png"), frame)
+    frames = open_frames(tmp_path, fps=100.0)
+    assert frames.shift == 4                        # 3200 needs 12 bits: keep the top 8
+    _, first = next(frames.read())
+    assert (first.min(), first.max()) == (500 >> 4, 3200 >> 4)     # 31 and 200: the full contrast
+    table = track_pixels(frames)
+    assert table["x"].notna().all()
+    assert np.abs(table["x"] - (20 + 15 * table["frame"])).max() < 0.15
+    # cv2.ellipse's -20 deg is in the image's frame, as the pixel track's angle
+    assert np.abs(table["angle"] + 20.0).max() < 2.0

@@ -46,6 +46,11 @@ class Frames:
         Frame size [pixels].
     files : list of pathlib.Path
         The PNG files in frame order (empty for a video file).
+    notes : list of str
+        Warnings about the film (a probable playback rate).
+    shift : int
+        Bits dropped from 16-bit PNG frames to make them 8-bit (one fixed
+        shift for the whole film, so the background stays comparable).
     """
 
     source: Path
@@ -55,6 +60,7 @@ class Frames:
     width: int
     files: list = field(default_factory=list)
     notes: list = field(default_factory=list)
+    shift: int = 0
 
     @property
     def count(self):
@@ -70,7 +76,7 @@ class Frames:
         wanted = range(self.count) if positions is None else positions
         if self.files:
             for i in wanted:
-                image = _read_png(self.files[i])
+                image = _eight_bits(_read_png(self.files[i]), self.shift)
                 if image.shape != (self.height, self.width):
                     raise InputError(f"{self.files[i]}: {image.shape[1]}x{image.shape[0]} pixels, but the first "
                                      f"frame is {self.width}x{self.height}; every frame must have the same size")
@@ -130,13 +136,23 @@ def _open_folder(folder, fps):
         raise InputError(f"--fps: a folder of frames carries no frame rate; give the camera's recording rate "
                          f"(--fps F [1/s]) for {folder}")
     first = _read_png(files[0])
-    return Frames(folder, numbers, float(fps), first.shape[0], first.shape[1], files)
+    # 16-bit frames often hold 10-14 significant bits (a camera's sensor
+    # depth): keep the top 8 of the bits the first frame uses
+    shift = max(int(first.max()).bit_length() - 8, 0) if first.dtype == np.uint16 else 0
+    return Frames(folder, numbers, float(fps), first.shape[0], first.shape[1], files, shift=shift)
+
+
+def _eight_bits(image, shift):
+    """A frame as 8-bit grey levels (16-bit frames shifted right, saturated)."""
+    if image.dtype == np.uint8:
+        return image
+    return np.minimum(image >> shift, 255).astype(np.uint8)
 
 
 def _read_png(path):
     import cv2
 
-    image = cv2.imread(str(path), cv2.IMREAD_GRAYSCALE)
+    image = cv2.imread(str(path), cv2.IMREAD_GRAYSCALE | cv2.IMREAD_ANYDEPTH)
     if image is None:
         raise InputError(f"{path}: not a readable PNG image")
     return image
