@@ -84,14 +84,15 @@ def test_tracked_film_of_a_drop_matches_the_simulated_truth(filmed, tmp_path, ca
 def test_pixel_track_is_in_the_image_frame_and_says_what_the_fit_needs(filmed, tmp_path, capsys):
     folder, truth, _ = filmed
     out = tmp_path / "pixels.csv"
-    assert main(["track", str(folder), "--fps", "1000", "--out", str(out), "--quiet"]) == 0
+    assert main(["track", str(folder), "--fps", "1000", "--out", str(out)]) == 0
     track = pd.read_csv(out)
     # pixels: x = column, y = row (downwards); the angle in the same mirrored frame
     assert np.abs(track["x"] - CAMERA.columns(truth["x"] - CAMERA.left)).max() < CENTRE_MM * 5
     assert np.abs(track["y"] - CAMERA.rows(truth["y"])).max() < CENTRE_MM * 5
     assert angle_error(track["angle"], -truth["angle"]).abs().max() < ANGLE_DEG
-    printed = capsys.readouterr().out
-    assert "--scale PX_PER_M --y-down" in printed and "--floor-y" in printed
+    printed = capsys.readouterr()
+    assert "--scale PX_PER_M --y-down" in printed.out and "--floor-y" in printed.out
+    assert "tracking: 100%" in printed.err and "101/101" in printed.err     # the progress bar (101 frames)
 
 
 def test_scale_from_the_body_length(filmed, tmp_path, capsys):

@@ -102,9 +102,9 @@ def cmd_track(args):
     print("\n" + SAFETY)
 
 
-def _bar(iterable, total):
+def _bar(iterable, total, words):
     from tqdm import tqdm
-    return tqdm(iterable, total=total, unit="frame", file=sys.stderr, leave=False)
+    return tqdm(iterable, total=total, desc=words, unit="frame", file=sys.stderr, leave=False)
 
 
 def _write(table, path):

@@ -65,7 +65,8 @@ def track_pixels(frames, region=None, progress=None):
     region : Region, optional
         The tracked part of each frame (default: the whole frame).
     progress : callable, optional
-        ``progress(iterable, total)`` wrapping the frame loop (a progress bar).
+        ``progress(iterable, total, words)`` wrapping each pass over the
+        frames (a progress bar): the background sample, then the tracking.
 
     Returns
     -------
@@ -77,11 +78,11 @@ def track_pixels(frames, region=None, progress=None):
     """
     region = region or Region(0, 0, frames.width, frames.height)
     sample = np.unique(np.linspace(0, frames.count - 1, min(BACKGROUND_FRAMES, frames.count)).round().astype(int))
-    scene = background([region.cut(image) for _, image in frames.read(sample)])
+    progress = progress or (lambda iterable, total, words: iterable)
+    scene = background([region.cut(image) for _, image in
+                        progress(frames.read(sample), sample.size, "background")])
     rows = []
-    loop = frames.read()
-    if progress is not None:
-        loop = progress(loop, frames.count)
+    loop = progress(frames.read(), frames.count, "tracking")
     for _, image in loop:
         rows.append(measure(region.cut(image), scene))
     table = pd.DataFrame({"frame": frames.numbers, "time": frames.times()})
