@@ -432,3 +432,39 @@ def test_sixteen_bit_frames_of_a_twelve_bit_camera(tmp_path):
     assert np.abs(table["x"] - (20 + 15 * table["frame"])).max() < 0.15
     # cv2.ellipse's -20 deg is in the image's frame, as the pixel track's angle
     assert np.abs(table["angle"] + 20.0).max() < 2.0
+
+
+def _moving_ellipse_video(path, count=9):
+    frames = []
+    for number in range(count):
+        frame = np.full((60, 120), 200, np.uint8)
+        cv2.ellipse(frame, (20 + 9 * number, 30), (12, 4), 10, 0, 360, 40, -1)
+        frames.append(frame)
+    write_video(frames, path, fps=500.0)
+
+
+@pytest.mark.parametrize("header_count", [True, False])
+def test_video_frames_are_all_tracked_whether_or_not_the_header_counts_them(tmp_path, monkeypatch, header_count):
+    video = tmp_path / "drop.avi"
+    _moving_ellipse_video(video)
+    if not header_count:
+        real = cv2.VideoCapture
+
+        class NoCount:                  # a container that does not say how many frames it holds
+            def __init__(self, *args):
+                self._capture = real(*args)
+
+            def get(self, prop):
+                return 0.0 if prop == cv2.CAP_PROP_FRAME_COUNT else self._capture.get(prop)
+
+            def __getattr__(self, name):
+                return getattr(self._capture, name)
+
+        monkeypatch.setattr(cv2, "VideoCapture", NoCount)
+    frames = open_frames(video)
+    assert frames.count == 9 and frames.fps == 500.0
+    table = track_pixels(frames)
+    assert list(table["frame"]) == list(range(9))
+    assert np.allclose(table["time"], np.arange(9) / 500.0)
+    # MJPG blurs the edge a little: centre within a third of a pixel
+    assert np.abs(table["x"] - (20 + 9 * table["frame"])).max() < 0.35

@@ -64,15 +64,30 @@ class Frames:
 
     @property
     def count(self):
+        """Frames in the film (for a video, what its header says when it says it)."""
         return int(self.numbers.size)
 
-    def times(self):
-        """Time of each frame since the first one. [s]"""
-        return (self.numbers - self.numbers[0]) / self.fps
+    def numbers_at(self, positions):
+        """Frame numbers of the frames :meth:`read` gave at ``positions``."""
+        positions = np.asarray(positions, dtype=int)
+        return self.numbers[positions] if self.files else positions
+
+    def times(self, numbers=None):
+        """Time of each frame (of :attr:`numbers`, or those given) since the
+        film's first frame. [s]"""
+        numbers = self.numbers if numbers is None else np.asarray(numbers)
+        return (numbers - self.numbers[0]) / self.fps
 
     def read(self, positions=None):
         """Grey frames in order: all, or those at ``positions`` (sorted
-        indices into :attr:`numbers`). Yields ``(position, image)``."""
+        indices into :attr:`numbers`). Yields ``(position, image)``.
+
+        A video is read through for all its frames; chosen positions are
+        sought, which some codecs do only to the nearest key frame: good
+        enough for a background sample, which is all they are used for."""
+        if positions is not None and not self.files:
+            yield from _sought_video_frames(self.source, positions)
+            return
         wanted = range(self.count) if positions is None else positions
         if self.files:
             for i in wanted:
@@ -82,7 +97,7 @@ class Frames:
                                      f"frame is {self.width}x{self.height}; every frame must have the same size")
                 yield i, image
             return
-        yield from _read_video(self.source, wanted)
+        yield from _read_video(self.source)
 
 
 def open_frames(path, fps=None):
@@ -169,9 +184,12 @@ def _open_video(path, fps):
         if not ok or image is None:
             raise InputError(f"{path}: the video holds no frames OpenCV can decode")
         stored = float(capture.get(cv2.CAP_PROP_FPS) or 0.0)
+        stored_count = float(capture.get(cv2.CAP_PROP_FRAME_COUNT) or 0.0)
     finally:
         capture.release()
-    count = _count_video_frames(path)   # the header's frame count is not reliable
+    # the header's count, when it gives one, sizes the background sample and
+    # the progress bar; the track has the frames actually decoded
+    count = int(stored_count) if stored_count > 0 else _count_video_frames(path)
     notes = []
     if fps is None:
         if not stored > 0:
@@ -197,28 +215,33 @@ def _count_video_frames(path):
         capture.release()
 
 
-def _read_video(path, positions):
-    """Decode ``path`` in order; yield ``(position, grey image)`` for the
-    wanted positions (all when None), skipping the others cheaply."""
+def _read_video(path):
+    """Decode ``path`` in order; yield ``(position, grey image)``."""
     import cv2
 
     capture = cv2.VideoCapture(str(path))
-    wanted = None if positions is None else iter(positions)
-    target = None if wanted is None else next(wanted, None)
     position = 0
     try:
-        while wanted is None or target is not None:
-            if wanted is not None and position != target:
-                if not capture.grab():           # decodes without converting: the cheap skip
-                    return
-                position += 1
-                continue
+        while True:
             ok, image = capture.read()
             if not ok:
                 return
             yield position, cv2.cvtColor(image, cv2.COLOR_BGR2GRAY) if image.ndim == 3 else image
             position += 1
-            if wanted is not None:
-                target = next(wanted, None)
+    finally:
+        capture.release()
+
+
+def _sought_video_frames(path, positions):
+    """Grey frames near ``positions`` of a video, each found by seeking."""
+    import cv2
+
+    capture = cv2.VideoCapture(str(path))
+    try:
+        for position in positions:
+            capture.set(cv2.CAP_PROP_POS_FRAMES, int(position))
+            ok, image = capture.read()
+            if ok:
+                yield int(position), cv2.cvtColor(image, cv2.COLOR_BGR2GRAY) if image.ndim == 3 else image
     finally:
         capture.release()

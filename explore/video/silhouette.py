@@ -105,8 +105,9 @@ def background(images):
     stack = np.asarray(images)
     median = np.median(stack, axis=0).astype(np.uint8)
     # the body covers few pixels of any one frame: the median absolute
-    # deviation over all pixels is the noise's, not the body's
-    deviation = np.abs(stack.astype(np.int16) - median).ravel()
+    # deviation over the pixels is the noise's, not the body's (every 4th
+    # row and column of every 5th frame: plenty of pixels, 1/80 of the work)
+    deviation = np.abs(stack[::5, ::4, ::4].astype(np.int16) - median[::4, ::4]).ravel()
     noise = 1.4826 * float(np.median(deviation))
     return Background(median, noise)
 

@@ -81,11 +81,12 @@ def track_pixels(frames, region=None, progress=None):
     progress = progress or (lambda iterable, total, words: iterable)
     scene = background([region.cut(image) for _, image in
                         progress(frames.read(sample), sample.size, "background")])
-    rows = []
-    loop = progress(frames.read(), frames.count, "tracking")
-    for _, image in loop:
+    rows, positions = [], []
+    for position, image in progress(frames.read(), frames.count, "tracking"):
         rows.append(measure(region.cut(image), scene))
-    table = pd.DataFrame({"frame": frames.numbers, "time": frames.times()})
+        positions.append(position)
+    numbers = frames.numbers_at(positions)
+    table = pd.DataFrame({"frame": numbers, "time": frames.times(numbers)})
     found = [r is not None for r in rows]
     for name in ("x", "y", "orientation", "area", "length", "along", "across"):
         table[name] = [r[name] if r is not None else np.nan for r in rows]
