@@ -110,3 +110,18 @@ def test_fitted_ellipse_of_opencv_agrees_on_the_same_blob():
 def test_empty_image_has_no_blob():
     found = blob_moments(np.zeros((20, 20), np.uint8))
     assert np.isnan(found["x"]) and np.isnan(found["orientation"])
+
+
+def test_median_image_is_numpys_median():
+    """The bit-by-bit per-pixel median against numpy.median (odd counts:
+    the same values; even: the upper of the two middle values)."""
+    from hopscape.video.silhouette import median_image
+
+    rng = np.random.default_rng(5)
+    for count in (1, 3, 51):
+        stack = rng.integers(0, 256, (count, 30, 40), dtype=np.uint8)
+        assert np.array_equal(median_image(stack), np.median(stack, axis=0).astype(np.uint8))
+    stack = rng.integers(0, 256, (6, 30, 40), dtype=np.uint8)
+    assert np.array_equal(median_image(stack), np.sort(stack, axis=0)[3])
+    with pytest.raises(ValueError, match="1 to 255 frames"):
+        median_image([])

@@ -64,7 +64,7 @@ class Frames:
 
     @property
     def count(self):
-        """Frames in the film (for a video, what its header says when it says it)."""
+        """Frames in the film."""
         return int(self.numbers.size)
 
     def numbers_at(self, positions):
@@ -82,12 +82,9 @@ class Frames:
         """Grey frames in order: all, or those at ``positions`` (sorted
         indices into :attr:`numbers`). Yields ``(position, image)``.
 
-        A video is read through for all its frames; chosen positions are
-        sought, which some codecs do only to the nearest key frame: good
-        enough for a background sample, which is all they are used for."""
-        if positions is not None and not self.files:
-            yield from _sought_video_frames(self.source, positions)
-            return
+        A video is decoded in order, skipping the frames not wanted without
+        converting them (seeking was slower: 4.8 s for 51 positions in a
+        200-frame 1280 x 1024 MJPG file that decodes whole in 0.34 s)."""
         wanted = range(self.count) if positions is None else positions
         if self.files:
             for i in wanted:
@@ -97,7 +94,7 @@ class Frames:
                                      f"frame is {self.width}x{self.height}; every frame must have the same size")
                 yield i, image
             return
-        yield from _read_video(self.source)
+        yield from _read_video(self.source, None if positions is None else wanted)
 
 
 def open_frames(path, fps=None):
@@ -184,12 +181,11 @@ def _open_video(path, fps):
         if not ok or image is None:
             raise InputError(f"{path}: the video holds no frames OpenCV can decode")
         stored = float(capture.get(cv2.CAP_PROP_FPS) or 0.0)
-        stored_count = float(capture.get(cv2.CAP_PROP_FRAME_COUNT) or 0.0)
     finally:
         capture.release()
-    # the header's count, when it gives one, sizes the background sample and
-    # the progress bar; the track has the frames actually decoded
-    count = int(stored_count) if stored_count > 0 else _count_video_frames(path)
+    # headers miscount (an MJPG AVI written by OpenCV said 62 of its 200
+    # frames); counting costs one decoding pass without colour conversion
+    count = _count_video_frames(path)
     notes = []
     if fps is None:
         if not stored > 0:
@@ -215,33 +211,28 @@ def _count_video_frames(path):
         capture.release()
 
 
-def _read_video(path):
-    """Decode ``path`` in order; yield ``(position, grey image)``."""
+def _read_video(path, positions=None):
+    """Decode ``path`` in order; yield ``(position, grey image)`` for the
+    wanted positions (sorted; all when None), skipping the others cheaply."""
     import cv2
 
     capture = cv2.VideoCapture(str(path))
+    wanted = None if positions is None else iter(positions)
+    target = None if wanted is None else next(wanted, None)
     position = 0
     try:
-        while True:
+        while wanted is None or target is not None:
+            if wanted is not None and position != target:
+                if not capture.grab():           # decodes without converting: the cheap skip
+                    return
+                position += 1
+                continue
             ok, image = capture.read()
             if not ok:
                 return
             yield position, cv2.cvtColor(image, cv2.COLOR_BGR2GRAY) if image.ndim == 3 else image
             position += 1
-    finally:
-        capture.release()
-
-
-def _sought_video_frames(path, positions):
-    """Grey frames near ``positions`` of a video, each found by seeking."""
-    import cv2
-
-    capture = cv2.VideoCapture(str(path))
-    try:
-        for position in positions:
-            capture.set(cv2.CAP_PROP_POS_FRAMES, int(position))
-            ok, image = capture.read()
-            if ok:
-                yield int(position), cv2.cvtColor(image, cv2.COLOR_BGR2GRAY) if image.ndim == 3 else image
+            if wanted is not None:
+                target = next(wanted, None)
     finally:
         capture.release()
