@@ -468,3 +468,30 @@ def test_video_frames_are_all_tracked_whether_or_not_the_header_counts_them(tmp_
     assert np.allclose(table["time"], np.arange(9) / 500.0)
     # MJPG blurs the edge a little: centre within a third of a pixel
     assert np.abs(table["x"] - (20 + 9 * table["frame"])).max() < 0.35
+
+
+def test_body_length_of_a_hollow_silhouette_is_refused(tmp_path, capsys):
+    """A ring has no material on its axis through the centroid: no length,
+    so no scale from it."""
+    for number in range(5):
+        frame = np.full((60, 120), 200, np.uint8)
+        cv2.ellipse(frame, (20 + 20 * number, 30), (14, 7), 0, 0, 360, 40, 2)
+        cv2.imwrite(str(tmp_path / f"f{number}.png"), frame)
+    line = _refused(["track", str(tmp_path), "--fps", "100", "--body-length", "0.02", "--out",
+                     str(tmp_path / "t.csv")], capsys)
+    assert "--body-length: the body's length along its axis could not be measured" in line
+
+
+def test_needle_two_pixels_wide_is_tracked(tmp_path):
+    """A thin rod (2 px across: a 0.4 mm needle at 5 px/mm) is kept whole:
+    no morphological opening erases it."""
+    for number in range(6):
+        frame = np.full((60, 120), 200, np.uint8)
+        x = 20 + 15 * number
+        cv2.line(frame, (x - 12, 36), (x + 12, 24), 40, 2)      # rises to the right: +26.6 deg with y up
+        cv2.imwrite(str(tmp_path / f"f{number}.png"), frame)
+    table = track_pixels(open_frames(tmp_path, fps=100.0))
+    assert table["x"].notna().all()
+    assert np.abs(table["x"] - (20 + 15 * table["frame"])).max() < 0.3
+    # image frame: from +x towards +row, so the rising rod is at -26.6 deg there
+    assert np.abs(table["angle"] - np.degrees(np.arctan2(-12, 24))).max() < 1.5

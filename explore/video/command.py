@@ -83,7 +83,11 @@ def cmd_track(args):
 
     scale = args.scale
     if args.body_length is not None:
-        length_px = float(np.nanmedian(table["length"]))
+        lengths = table["length"].dropna()
+        if lengths.empty:
+            raise InputError(f"--body-length: the body's length along its axis could not be measured in any frame "
+                             f"of {args.video} (a hollow or round silhouette?); give --scale instead")
+        length_px = float(lengths.median())
         scale = length_px / args.body_length
         print(f"scale from the body's median length of {length_px:.1f} pixels over {tracked} frames: "
               f"{scale:,.1f} pixels/m (one pixel of length is {100 / length_px:.1f}% of it)")
@@ -94,9 +98,9 @@ def cmd_track(args):
         units = (f"metres: x from the frame's left edge, y up from {where}; angle [deg] counter-clockwise "
                  "from +x")
     else:
+        floor = "ROW (the floor line's pixel row)" if args.floor_y is None else f"{args.floor_y:g}"
         units = ("pixels: x = column, y = row (growing downwards), angle [deg] from +x towards +y (clockwise "
-                 "as seen on screen); for the fit pass --scale PX_PER_M --y-down and --floor-y with the floor "
-                 "line's row")
+                 f"as seen on screen); for the fit pass --scale PX_PER_M --y-down --floor-y {floor}")
     _write(table[list(COLUMNS)], args.out)
     print(f"track written to {args.out} in {units}")
     print("\n" + SAFETY)

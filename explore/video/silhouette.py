@@ -12,9 +12,10 @@ The camera stands still, so the body is what differs from the background:
    the body's own contrast (the median difference inside the blob). Half
    contrast is where an anti-aliased or motion-blurred edge crosses the true
    outline, so the silhouette neither grows nor shrinks with contrast;
-4. a 3 x 3 opening removes single noisy pixels, the largest connected blob
-   is the body, and its holes (highlights close to the background's grey)
-   are filled;
+4. the largest blob (by the area inside its outer outline) is the body,
+   and its holes (highlights close to the background's grey) are filled.
+   Stray noise pixels make blobs of a pixel or two; no morphological
+   opening, which would erase a body under 3 pixels wide;
 5. centre and axis from the blob's moments (:func:`blob_moments`).
 
 Pixel coordinates are OpenCV's: column ``x`` to the right, row ``y``
@@ -28,7 +29,7 @@ import numpy as np
 
 #: First threshold, in noise standard deviations: Gaussian noise exceeds 5
 #: sigma in 6e-7 of pixels (from memory: the normal tail), under one pixel
-#: per 640 x 480 frame, and the opening removes single pixels.
+#: per 640 x 480 frame, each a blob of its own far smaller than a body.
 NOISE_SIGMAS = 5.0
 #: Lowest first threshold [grey levels]: noise-free synthetic or compressed
 #: frames have a zero spread, yet compression leaves differences of 1-2.
@@ -40,7 +41,6 @@ BACKGROUND_FRAMES = 51
 #: Margin around the first blob searched at the second threshold [pixels]:
 #: room for the blurred edge that the first threshold cut off.
 MARGIN = 4
-_KERNEL = np.ones((3, 3), np.uint8)
 
 
 def blob_moments(image):
@@ -213,19 +213,20 @@ def measure(image, scene):
     import cv2
 
     difference = cv2.absdiff(image, scene.image)
-    mask = cv2.morphologyEx((difference > scene.threshold).astype(np.uint8), cv2.MORPH_OPEN, _KERNEL)
+    mask = (difference > scene.threshold).astype(np.uint8)
     first = _largest_blob(mask)
     if first is None:
         return None
     blob, (x, y, w, h) = first
-    contrast = float(np.median(difference[y:y + h, x:x + w][blob > 0]))
+    # the body's contrast from the pixels above the first threshold only
+    # (not the filled holes, which would pull it down)
+    contrast = float(np.median(difference[y:y + h, x:x + w][(blob > 0) & (mask[y:y + h, x:x + w] > 0)]))
     # second threshold, in a window around the first blob only
     rows, cols = image.shape
     x0, y0 = max(x - MARGIN, 0), max(y - MARGIN, 0)
     x1, y1 = min(x + w + MARGIN, cols), min(y + h + MARGIN, rows)
     window = difference[y0:y1, x0:x1]
-    local = cv2.morphologyEx((window > max(scene.threshold, contrast / 2)).astype(np.uint8), cv2.MORPH_OPEN,
-                             _KERNEL)
+    local = (window > max(scene.threshold, contrast / 2)).astype(np.uint8)
     second = _largest_blob(local)
     if second is None:
         return None
