@@ -5,8 +5,6 @@ import sys
 import time
 from pathlib import Path
 
-import numpy as np
-
 from ..cli_text import STRICT_HELP, report_warnings
 from ..errors import InputError
 from ..files import atomic_write, refuse_overwriting_input
