@@ -184,6 +184,8 @@ def build_parser():
 
     from . import commands  # noqa: F401  (study commands register themselves)
     commands.register(sub)
+    from .video.command import register as register_track
+    register_track(sub, commands.HANDLERS)
     return parser
 
 
