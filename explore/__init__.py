@@ -342,18 +342,9 @@ def simulate_drops(frame, impacts=DEFAULT_IMPACTS, law="energetic", merge_ms=Non
 
 def _bounce_window(merge_ms, camera_fps):
     """Impacts closer than this are one visible bounce [s]: ``merge_ms`` [ms] or one frame of ``camera_fps``."""
-    from .errors import InputError
+    from .study import bounce_window
 
-    if camera_fps is None:
-        window = 10.0 if merge_ms is None else merge_ms
-        if not window >= 0:
-            raise InputError(f"merge_ms must be >= 0, got {window:g}")
-        return window / 1e3
-    if merge_ms is not None:
-        raise InputError("give merge_ms or camera_fps, not both")
-    if not camera_fps > 0:
-        raise InputError(f"camera_fps must be > 0 frames per second, got {camera_fps:g}")
-    return 1.0 / camera_fps
+    return bounce_window(merge_ms, camera_fps)
 
 
 @dataclass(frozen=True)

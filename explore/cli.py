@@ -84,15 +84,10 @@ def _merge_window_options(parser):
 
 
 def _merge_window(args):
-    """The bounce-grouping window of ``--merge-ms`` or ``--fps`` [s]."""
-    if args.fps is not None:
-        if not args.fps > 0:
-            raise InputError(f"--fps must be > 0 frames per second, got {args.fps:g}")
-        return 1.0 / args.fps
-    merge_ms = 10.0 if args.merge_ms is None else args.merge_ms
-    if merge_ms < 0:
-        raise InputError(f"--merge-ms must be >= 0, got {merge_ms:g}")
-    return merge_ms / 1e3
+    """The bounce-grouping window of ``--merge-ms`` or ``--fps`` [s], bounded like the study file's."""
+    from .study import bounce_window
+
+    return bounce_window(args.merge_ms, args.fps, names=("--merge-ms", "--fps"))
 
 
 def _law_help():

@@ -25,7 +25,7 @@ from hopscape import sim
 from hopscape.sim.limits import Interval, number_text
 
 from .defaults import IMPACTS
-from .errors import shown
+from .errors import InputError, shown
 from .metric_kinds import METRIC_KINDS
 from .quantities import COLUMN, QUANTITIES, label
 from .sensitivity import METHOD_NAMES, METHODS
@@ -370,6 +370,39 @@ class RunSettings(Strict):
     def merge_window(self):
         """Impacts closer than this are one visible bounce [s]."""
         return 1.0 / self.camera_fps if self.camera_fps is not None else self.merge_ms / 1e3
+
+
+def bounce_window(merge_ms=None, camera_fps=None, names=("merge_ms", "camera_fps")):
+    """The bounce-grouping window of a command or call, checked like ``run.merge_ms`` and ``run.camera_fps``.
+
+    Parameters
+    ----------
+    merge_ms : float, optional
+        Impacts closer than this are one visible bounce [ms]; default 10.
+    camera_fps : float, optional
+        Instead: the camera's frame rate [1/s]; one frame interval.
+    names : (str, str)
+        How the caller spells the two (``--merge-ms``, ``--fps``) in messages.
+
+    Returns
+    -------
+    float
+        The window [s].
+
+    Raises
+    ------
+    InputError
+        Both given, or a value outside the study file's declared range.
+    """
+    if merge_ms is not None and camera_fps is not None:
+        raise InputError(f"give {names[0]} or {names[1]}, not both")
+    field, name, value = (("camera_fps", names[1], camera_fps) if camera_fps is not None else
+                          ("merge_ms", names[0], RunSettings.model_fields["merge_ms"].default
+                           if merge_ms is None else merge_ms))
+    problem = declared_range((RunSettings, field)).problem(name, value)
+    if problem is not None:
+        raise InputError(problem)
+    return 1.0 / float(value) if field == "camera_fps" else float(value) / 1e3
 
 
 #: The sections of a study file that hold settings.

@@ -173,10 +173,25 @@ def test_bounce_window_is_merge_ms_or_one_camera_frame():
     assert hopscape.drop(**PIN, merge_ms=10.0).impacts.equals(hopscape.drop(**PIN).impacts)
     with pytest.raises(InputError, match="give merge_ms or camera_fps, not both"):
         hopscape.drop(merge_ms=5.0, camera_fps=100.0)
-    with pytest.raises(InputError, match="camera_fps must be > 0 frames per second, got 0"):
+    with pytest.raises(InputError, match=r"camera_fps must be in \(0, 1e\+07\], got 0"):
         hopscape.simulate_drops(DROPS, camera_fps=0.0)
-    with pytest.raises(InputError, match="merge_ms must be >= 0, got -1"):
+    with pytest.raises(InputError, match=r"merge_ms must be in \[0, 1000\], got -1"):
         hopscape.drop(merge_ms=-1.0)
+
+
+def test_bounce_window_is_bounded_alike_in_a_study_the_cli_and_the_api(tmp_path, capsys):
+    # one declaration (run.merge_ms, run.camera_fps in the study schema);
+    # the command line and the Python API used to accept any upper value
+    from conftest import SMALL_STUDY, changed, study_yaml
+    path = write_study(tmp_path, study_yaml(changed(SMALL_STUDY, run={"merge_ms": 2000})))
+    assert main(["check", str(path)]) == 2
+    assert "run.merge_ms" in capsys.readouterr().err
+    with pytest.raises(InputError, match=r"merge_ms must be in \[0, 1000\], got 2000"):
+        hopscape.drop(merge_ms=2000.0)
+    assert main(["drop", "--merge-ms", "2000"]) == 2
+    assert "--merge-ms must be in [0, 1000], got 2000" in capsys.readouterr().err
+    assert main(["drop", "--fps", "2e7"]) == 2
+    assert "--fps must be in (0, 1e+07], got 2e+07" in capsys.readouterr().err
     with pytest.raises(ValueError, match="floor_angle must be in"):
         hopscape.drop(floor_angle=75.0)
 
