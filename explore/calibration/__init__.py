@@ -1,0 +1,1 @@
+"""Calibration from filmed drops: tracks in, restitution and friction out."""
