@@ -6,9 +6,11 @@ the angle grows linearly, so each flight is three straight-line least
 squares: ``x`` and ``y + g t^2 / 2`` and the angle against time. The track
 is split in two steps:
 
-1. Touches: local minima of the lowest point's height ``y - d(theta)``
-   (the shape's depth, docs/physics.md section 2) that stand out of the
-   noise and come within one frame's travel of the floor.
+1. Touches: frames whose lowest point (height ``y - d(theta)``, the
+   shape's depth, docs/physics.md section 2) is within the noise of the
+   floor, and local minima of that height that stand out of the noise and
+   come within one frame's travel of the floor (a fast impact between
+   frames).
 2. Each stretch between touches is fitted on its middle first; frames
    that the middle's prediction does not reach within the noise (a
    hidden second impact, a frame in contact) are cut from the ends, and
@@ -39,6 +41,9 @@ PROMINENCE = 4.0
 #: A frame lies off a flight when its residual exceeds this many standard
 #: deviations of the prediction (a normal tail of 3e-5 per frame). [-]
 OFF_FLIGHT = 4.0
+#: A frame whose lowest point is closer to the floor than this many noise
+#: deviations may be in contact: it belongs to no flight. [-]
+NEAR_FLOOR = 3.0
 #: The lowest point may sit this many noise deviations below the floor
 #: before the track counts as wrong (floor line, scale or y direction). [-]
 BELOW_FLOOR = 6.0
@@ -72,7 +77,7 @@ class Flights:
     angle_noise: float  # [rad]
     gravity: float  # fitted freely [m/s^2]
     gravity_sd: float  # [m/s^2]
-    touches: np.ndarray  # frame indices of the touches (lowest-point minima) [-]
+    touching: np.ndarray  # per frame: at the floor or too close to tell (no flight's) [-]
 
     @property
     def count(self):
@@ -203,28 +208,73 @@ def find_flights(track, shape):
     if minima.size:
         travel = np.maximum(np.abs(gap[minima - 1] - gap[minima]), np.abs(gap[minima + 1] - gap[minima]))
         minima = minima[gap[minima] < PROMINENCE * gap_noise + travel]
-    if minima.size == 0:
+    # frames the noise cannot tell from contact belong to no flight: a body
+    # rocking or sliding on the floor is followed by the model, not fitted
+    touching = gap < NEAR_FLOOR * gap_noise
+    touching[minima] = True
+    if not touching.any():
         raise InputError(f"{track.name}: no impact in the track: the body's lowest point comes no closer than "
                          f"{gap.min() * 1e3:.3g} mm to the floor line (y = 0); check --floor-y, --y-down, "
                          "--scale, or whether the track holds a bounce")
-    edges = np.concatenate([[-1], minima, [t.size]])
+    # stretches of frames clear of the floor: [start, stop)
+    stretches = np.flatnonzero(np.diff(np.concatenate([[0], (~touching).astype(np.int8), [0]])) != 0).reshape(-1, 2)
     rows = []
-    for start, stop in zip(edges[:-1] + 1, edges[1:]):
+    for start, stop in stretches:
         if stop - start < MIN_FLIGHT_FRAMES:
             continue
         sl = slice(start, stop)
         keep = _trimmed(t[sl], x[sl], y[sl], angle[sl], position_noise, angle_noise)
-        if keep.sum() >= MIN_FLIGHT_FRAMES:
+        if keep.sum() >= MIN_FLIGHT_FRAMES and _one_parabola(t[sl][keep], x[sl][keep], y[sl][keep],
+                                                              angle[sl][keep], position_noise, angle_noise):
             index = np.flatnonzero(keep) + start
             rows.append((index[0], index[-1]))
     rows = _join_false_touches(t, x, y, angle, rows, position_noise, angle_noise)
+    rows = _extended(t, x, y, angle, rows, shape, gap_noise)
     if len(rows) < 2:
-        longest = int(np.max(np.diff(edges) - 1))
+        longest = int(max((stop - start for start, stop in stretches), default=0))
         raise InputError(f"{track.name}: no flight long enough to fit: {len(rows)} flight(s) with at least "
                          f"{MIN_FLIGHT_FRAMES} frames (the longest stretch between touches has {longest}); a "
                          "bounce needs a fitted flight before and after it: film at a higher frame rate or "
                          "track more frames")
-    return _fit_flights(t, x, y, angle, np.array(rows), minima)
+    return _fit_flights(t, x, y, angle, np.array(rows), touching)
+
+
+def _one_parabola(t, x, y, angle, position_noise, angle_noise):
+    """Whether one flight fits these frames as well as noise allows: the
+    chi-square of the residuals within :data:`OFF_FLIGHT` of its standard
+    deviations above its 3 (n - 2) degrees of freedom."""
+    fx, fy, fa = _fit_one(t, x, y, angle)
+    chi2 = (fx[4] @ fx[4] + fy[4] @ fy[4]) / position_noise ** 2 + (fa[4] @ fa[4]) / angle_noise ** 2
+    dof = 3 * (t.size - 2)
+    return chi2 < dof + OFF_FLIGHT * np.sqrt(2 * dof)
+
+
+def _extended(t, x, y, angle, spans, shape, gap_noise):
+    """Each flight grown over the frames next to it that its own fit puts
+    clear of the floor (by one noise deviation of the lowest point).
+
+    Frames were first kept out by their measured height, which selects on
+    their noise: a frame whose noise happened to lift it stayed in, one
+    whose noise lowered it was left out, and the fit near the floor was
+    biased by a share of the noise. The fitted flight has no such
+    selection."""
+    grown = []
+    for k, (first, last) in enumerate(spans):
+        low = spans[k - 1][1] + 1 if k else 0
+        high = spans[k + 1][0] - 1 if k + 1 < len(spans) else t.size - 1
+        sl = slice(first, last + 1)
+        fx, fy, fa = _fit_one(t[sl], x[sl], y[sl], angle[sl])
+        tau = t[low:high + 1] - fy[2]
+        fitted_gap = (fy[0] + fy[1] * tau - 0.5 * GRAVITY * tau ** 2
+                      - shape.depth(fa[0] + fa[1] * (t[low:high + 1] - fa[2])))
+        clear = fitted_gap > gap_noise
+        inside = np.arange(low, high + 1)
+        before = inside[(inside < first) & ~clear]
+        after = inside[(inside > last) & ~clear]
+        start = before.max() + 1 if before.size else low
+        stop = after.min() - 1 if after.size else high
+        grown.append((min(start, first), max(stop, last)))
+    return grown
 
 
 def _join_false_touches(t, x, y, angle, spans, position_noise, angle_noise):
@@ -236,17 +286,14 @@ def _join_false_touches(t, x, y, angle, spans, position_noise, angle_noise):
     k = 0
     while k < len(spans) - 1:
         sl = slice(spans[k][0], spans[k + 1][1] + 1)
-        fx, fy, fa = _fit_one(t[sl], x[sl], y[sl], angle[sl])
-        chi2 = (fx[4] @ fx[4] + fy[4] @ fy[4]) / position_noise ** 2 + (fa[4] @ fa[4]) / angle_noise ** 2
-        dof = 3 * (t[sl].size - 2)
-        if chi2 < dof + OFF_FLIGHT * np.sqrt(2 * dof):
+        if _one_parabola(t[sl], x[sl], y[sl], angle[sl], position_noise, angle_noise):
             spans[k:k + 2] = [(spans[k][0], spans[k + 1][1])]
         else:
             k += 1
     return spans
 
 
-def _fit_flights(t, x, y, angle, spans, touches):
+def _fit_flights(t, x, y, angle, spans, touching):
     """Fit every flight; the noise from the pooled residuals; gravity freely."""
     fits, sums = [], np.zeros(3)
     dof = np.zeros(3)
@@ -275,7 +322,7 @@ def _fit_flights(t, x, y, angle, spans, touches):
                    vx=column(0, 1), y=column(1, 0), vy=column(1, 1), angle=column(2, 0), spin=column(2, 1),
                    chi2=chi2, position_noise=position_noise, angle_noise=angle_noise,
                    gravity=float(g_num / g_den), gravity_sd=float(position_noise / np.sqrt(g_den)),
-                   touches=touches)
+                   touching=touching)
 
 
 def gravity_warning(flights, name):
