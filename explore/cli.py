@@ -183,6 +183,8 @@ def build_parser():
 
     from . import commands  # noqa: F401  (study commands register themselves)
     commands.register(sub)
+    from .calibration.command import register as register_fit
+    register_fit(sub)
     return parser
 
 

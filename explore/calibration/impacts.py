@@ -29,6 +29,9 @@ STEPS_PER_FRAME = 20
 #: Two contact times closer than this many standard deviations (plus a
 #: tenth of a frame) are one impact. [-]
 SAME_IMPACT = 4.0
+#: Chi-square (3 degrees of freedom) of the pose difference of two flights
+#: at one contact time below which they meet there: its 99.9% point. [-]
+POSE_CHI2 = 16.27
 #: Tangential velocity after an impact within this many standard
 #: deviations of zero counts as stuck. [-]
 STUCK = 2.0
@@ -65,6 +68,21 @@ def _time_sd(flights, k, t, shape, state):
     return float(np.sqrt(var_pos + r_x ** 2 * var_angle) / rate)
 
 
+def _same_pose(flights, k, t, shape):
+    """Whether flights ``k`` and ``k + 1`` hold the body in one pose at
+    ``t``, struck at the same end: centre and angle within their
+    uncertainty (chi-square of 3 degrees of freedom below its 99.9% point).
+    Two impacts a few frames apart (both ends of a pin) fail this: the
+    flights between them were not seen."""
+    before, after = flights.state(k, t), flights.state(k + 1, t)
+    var_b, var_a = flights.variances(k, t), flights.variances(k + 1, t)
+    chi2 = ((before["x"] - after["x"]) ** 2 / (var_b[0] + var_a[0])
+            + (before["y"] - after["y"]) ** 2 / (var_b[0] + var_a[0])
+            + (before["angle"] - after["angle"]) ** 2 / (var_b[2] + var_a[2]))
+    end_b, end_a = (np.sign(shape.contact_offset(s["angle"])[0]) for s in (before, after))
+    return bool(chi2 < POSE_CHI2) and bool(end_b == end_a)
+
+
 def find_bounces(track, flights, shape):
     """One row per bounce between consecutive fitted flights.
 
@@ -91,7 +109,7 @@ def find_bounces(track, flights, shape):
         t_a = _floor_time(flights, k + 1, shape, start, stop, step, False)
         s_b, s_a = flights.state(k, t_b), flights.state(k + 1, t_a)
         sd = np.hypot(_time_sd(flights, k, t_b, shape, s_b), _time_sd(flights, k + 1, t_a, shape, s_a))
-        resolved = abs(t_b - t_a) <= SAME_IMPACT * sd + 0.1 * dt
+        resolved = abs(t_b - t_a) <= SAME_IMPACT * sd + 0.1 * dt and _same_pose(flights, k, (t_b + t_a) / 2, shape)
         if resolved:
             t_b = t_a = (t_b + t_a) / 2
         t_last, t_first = track.time[flights.last[k]], track.time[flights.first[k + 1]]
