@@ -57,15 +57,18 @@ def _run_from(shape, flights, k, t_start, contact, impacts, times):
     """Centre height and angle at ``times`` of the model started from flight
     ``k``'s fitted state at ``t_start``. [m], [rad]"""
     s = flights.state(k, t_start)
-    release = sim.Release(height=float(s["y"]), angle=float(s["angle"]), spin=float(s["spin"]),
-                          vx=float(s["vx"]), vy=float(s["vy"]))
+    # the engine takes the angle within one turn: the turns are added back
+    angle = float(s["angle"])
+    within = float(np.fmod(angle, 2 * np.pi))
+    release = sim.Release(height=float(s["y"]), angle=within, spin=float(s["spin"]), vx=float(s["vx"]),
+                          vy=float(s["vy"]))
     result = sim.simulate(shape, release, contact, impacts=impacts, peaks=("centre",))
     h = sim.history(result, 0, np.maximum(times - t_start, 0.0))
     # past the last impact the history would fly through the floor
     count = int(result.count[0])
     end = result.impacts["time"][0, count - 1] + result.impacts["flight"][0, count - 1] if count else np.inf
     gone = (times - t_start > end) if np.isfinite(end) else np.zeros(times.size, bool)
-    return np.where(gone, np.nan, h["y"]), np.where(gone, np.nan, h["theta"])
+    return np.where(gone, np.nan, h["y"]), np.where(gone, np.nan, h["theta"] + (angle - within))
 
 
 def compare(calibration, number):

@@ -128,6 +128,6 @@ def residuals(calibration, path):
         axes[0, number].legend(fontsize=8, loc="upper right")
         for ax in axes[:, number]:
             ax.grid(alpha=0.3)
-    fig.suptitle("Flight-fit residuals: they should scatter evenly about 0; a drift or a bend means a hidden "
+    fig.suptitle("Flight-fit residuals: they should scatter evenly about 0;\na drift or a bend means a hidden "
                  "impact, a tilted camera or lens distortion", fontsize=9.5)
     return save_figure(fig, path)
