@@ -136,10 +136,10 @@ def fitted_study(study_path, calibration, out_path=None):
     contact = data["contact"]
     contact["law"] = calibration.law
     sd = max((est.restitution_high - est.restitution_low) / (2 * 1.96), 1e-4)
-    contact["restitution"] = {"normal": {"mean": round(est.restitution, 4), "sd": round(sd, 4)}}
+    contact["restitution"] = {"normal": {"mean": round(float(est.restitution), 4), "sd": round(float(sd), 4)}}
     if est.friction is not None:
         sd = max((est.friction_high - est.friction_low) / (2 * 1.96), 1e-4)
-        contact["friction"] = {"normal": {"mean": round(est.friction, 4), "sd": round(sd, 4)}}
+        contact["friction"] = {"normal": {"mean": round(float(est.friction), 4), "sd": round(float(sd), 4)}}
     if "name" in data:
         data["name"] = f"{data['name']}-fitted"
     import io
