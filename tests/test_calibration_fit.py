@@ -11,6 +11,7 @@ docs/physics.md section 4; any dynamics text).
 """
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 
 import numpy as np
@@ -183,3 +184,14 @@ def test_intervals_cover_the_truth():
         high = est.friction_high if est.friction_high is not None else np.inf
         inside.append(est.restitution_low <= e <= est.restitution_high and est.friction_low <= mu <= high)
     assert sum(inside) >= 16
+
+
+def test_wrong_scale_warns_through_gravity():
+    # positions 5% too large (a wrong --scale) make gravity 5% too large: a warning naming the causes
+    frame = _pin_drop(10000.0).track
+    track = track_from_table(frame, "scaled.csv", scale=1 / 1.05)
+    cal = fit_tracks([track], PIN, bootstrap=0)
+    # (the flights are found with the body's true size, so the scale error shows as 4-6%, not exactly 5%)
+    assert 0.04 < cal.gravity / 9.80665 - 1 < 0.06
+    assert any(re.match(r"scaled.csv: gravity fitted from the flights is 10\.\d+ \+- [\d.]+ m/s\^2, \+[45]\.\d% off "
+                        r"standard gravity 9.80665 m/s\^2: check --scale, the frame rate", w) for w in cal.warnings)

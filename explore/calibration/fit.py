@@ -145,6 +145,9 @@ def fit_tracks(tracks, shape, law="energetic", bootstrap=BOOTSTRAP, seed=0):
     if len(tracks) > 1 and abs(gravity / GRAVITY - 1) > GRAVITY_WARNING:
         warnings.append(f"gravity pooled over the tracks is {gravity:.4g} m/s^2, {gravity / GRAVITY - 1:+.1%} off "
                         "standard gravity")
+    if not 0.001 < result.restitution < 0.999:
+        warnings.append(f"restitution fitted at the edge of its range ({result.restitution:.3g}): check the body's "
+                        "size and shape options and the track's scale")
     if result.reduced_chi2 > 4:
         warnings.append(f"the model misses the measured bounces by {np.sqrt(result.reduced_chi2):.2g} times their "
                         "uncertainty (reduced chi-square {:.3g}): another law, a tilted camera or floor, or a body "

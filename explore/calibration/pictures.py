@@ -12,9 +12,16 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
+from pathlib import Path  # noqa: E402
+
 from hopscape.sim.flight import GRAVITY  # noqa: E402
 
 from ..figures import OKABE_ITO, save_figure  # noqa: E402
+
+
+def _label(track):
+    """The track's file name without its folder (titles stay one line wide)."""
+    return Path(track.name).name
 
 
 def _bounce_lines(ax, bounces):
@@ -43,7 +50,7 @@ def energy(calibration, number, path):
     _bounce_lines(ax, calibration.bounces[calibration.bounces["track"] == number])
     ax.set_xlabel("time [ms]")
     ax.set_ylabel(f"energy [mJ] (body of {m * 1e3:.3g} g)")
-    ax.set_title(f"{track.name}: measured energy in each flight; grey bands: bounces (dark: one impact, light: "
+    ax.set_title(f"{_label(track)}: measured energy in each flight; grey bands: bounces (dark: one impact, light: "
                  "merged)\nthe total's steps are what each bounce dissipates; rotational jumps show spin made "
                  "or lost", fontsize=9.5)
     ax.legend(loc="upper right", fontsize=8)
@@ -70,7 +77,7 @@ def track_against_model(calibration, number, comparison, path):
     bottom.set_ylabel("axis angle [deg]")
     bottom.set_xlabel("time [ms]")
     top.legend(loc="upper right", fontsize=8)
-    top.set_title(f"{track.name}: does the fitted model reproduce the drop? Orange: each flight predicted from the "
+    top.set_title(f"{_label(track)}: does the fitted model reproduce the drop? Orange: each flight predicted from the "
                   f"one before;\nblue dashed: one run from the first flight, following the track until "
                   f"{comparison.follows_until * 1e3:.0f} ms (red line; later impacts are chaotic)", fontsize=9.5)
     return save_figure(fig, path)
@@ -120,7 +127,7 @@ def residuals(calibration, path):
                                  label="y" if k == 0 else None)
             axes[1, number].plot(t, np.degrees(track.angle[frames] - s["angle"]), ".", ms=2,
                                  color=OKABE_ITO["orange"])
-        axes[0, number].set_title(f"{track.name}: noise {flights.position_noise * 1e3:.3g} mm, "
+        axes[0, number].set_title(f"{_label(track)}: noise {flights.position_noise * 1e3:.3g} mm, "
                                   f"{np.degrees(flights.angle_noise):.3g} deg", fontsize=9)
         axes[0, number].set_ylabel("centre residual [mm]")
         axes[1, number].set_ylabel("angle residual [deg]")
