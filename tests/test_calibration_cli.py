@@ -109,3 +109,16 @@ def test_out_that_is_a_file_is_refused(track_file, tmp_path, capsys):
     blocker.write_text("x")
     assert main(["fit", str(track_file), *PIN_OPTIONS, "--out", str(blocker)]) == 2
     assert "is a file; the results go into a folder" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("text, words", [
+    ("name: x\nbody: [1, 2\n", "not a readable study file"),
+    ("name: x\nrelease: {height: 0.1}\n", "the study has no contact section to fill"),
+])
+def test_into_a_study_that_cannot_take_the_fit(track_file, tmp_path, text, words, capsys):
+    study = tmp_path / "bad.yaml"
+    study.write_text(text)
+    assert main(["fit", str(track_file), *PIN_OPTIONS, "--into", str(study), "--bootstrap", "0"]) == 2
+    err = capsys.readouterr().err
+    assert f"hopscape: error: {study}: {words}" in err and err.count("\n") == 1
+    assert not (tmp_path / "bad-fitted.yaml").exists()

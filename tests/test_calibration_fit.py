@@ -186,6 +186,7 @@ def test_intervals_cover_the_truth():
     assert sum(inside) >= 16
 
 
+@pytest.mark.slow
 def test_wrong_scale_warns_through_gravity():
     # positions 5% too large (a wrong --scale) make gravity 5% too large: a warning naming the causes
     frame = _pin_drop(10000.0).track
@@ -195,3 +196,39 @@ def test_wrong_scale_warns_through_gravity():
     assert 0.04 < cal.gravity / 9.80665 - 1 < 0.06
     assert any(re.match(r"scaled.csv: gravity fitted from the flights is 10\.\d+ \+- [\d.]+ m/s\^2, \+[45]\.\d% off "
                         r"standard gravity 9.80665 m/s\^2: check --scale, the frame rate", w) for w in cal.warnings)
+
+
+@pytest.mark.slow
+def test_a_wrong_scale_also_shows_as_a_misfit():
+    # the flights found with the true body size no longer meet the floor where the impact law says
+    frame = _pin_drop(10000.0).track
+    cal = fit_tracks([track_from_table(frame, "scaled.csv", scale=1 / 1.05)], PIN, bootstrap=0)
+    assert any(re.match(r"the model misses the measured bounces by [\d.]+ times their uncertainty \(reduced "
+                        r"chi-square [\d.]+\): another law", w) for w in cal.warnings)
+    assert any(re.match(r"1 bounce\(s\) kept the body at the floor for over 20 ms between fitted flights", w)
+               for w in cal.warnings)
+
+
+def test_unknown_law_and_no_bounce_to_fit(monkeypatch):
+    track = track_from_table(_pin_drop(1000.0).track, "pin.csv")
+    with pytest.raises(InputError, match=r"law must be one of energetic, poisson, newton, got 'hertz'"):
+        fit_tracks([track], PIN, law="hertz")
+    # only the first (merged) bounce, with merged bounces ruled out: nothing left to fit
+    first_two = track_from_table(_pin_drop(1000.0).track.iloc[:300], "short.csv")
+    import hopscape.calibration.fit as fit_module
+    monkeypatch.setattr(fit_module, "LONGEST_MERGED", 0.0)
+    with pytest.raises(InputError, match=r"short.csv: no bounce to fit between two fitted flights"):
+        fit_tracks([first_two], PIN, bootstrap=0)
+
+
+def test_clicked_ends_check_the_scale():
+    # ends 10% farther apart than the body is long: a wrong --scale or body size
+    frame = _pin_drop(10000.0, impacts=4).track
+    half = 1.1 * float(PIN.overall_length) / 2
+    angle = np.radians(frame["angle"])
+    ends = pd.DataFrame({"time": frame["time"], "x1": frame["x"] - half * np.cos(angle),
+                         "y1": frame["y"] - half * np.sin(angle), "x2": frame["x"] + half * np.cos(angle),
+                         "y2": frame["y"] + half * np.sin(angle)})
+    cal = fit_tracks([track_from_table(ends, "ends.csv")], PIN, bootstrap=0)
+    assert any(re.match(r"ends.csv: the clicked ends are 22 mm apart, the body is 20 mm long: check --scale", w)
+               for w in cal.warnings)
