@@ -43,6 +43,9 @@ def test_json_names_other_programs_read(track_file, capsys):
     assert result["friction"] == pytest.approx(0.2, abs=0.05)
     assert result["gravity"] == pytest.approx(9.80665, rel=0.005)
     assert len(result["impacts"]) >= 4 and "restitution_apparent" in result["impacts"][0]
+    # each flight predicted from the one before stays within a millimetre of the track (noise 0.1 mm)
+    check = result["model_check"][0]
+    assert 0 < max(check["flight_rms_height_m"]) < 1e-3 and check["follows_until_s"] > 0.3
     # the dashpot's damping ratio gives back the fitted restitution when integrated
     dash = result["compliant"]["linear_damping_ratio"]
     assert dash["check_restitution"] == pytest.approx(result["restitution"], abs=1e-3)

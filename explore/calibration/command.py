@@ -129,7 +129,7 @@ def _table(calibration):
 
 def cmd_fit(args):
     """``hopscape fit``: calibrate, print, write what was asked."""
-    from . import export, fit, tracks as track_io
+    from . import compare, export, fit, tracks as track_io
 
     if args.out is not None and args.out.exists() and not args.out.is_dir():
         raise InputError(f"--out {args.out} is a file; the results go into a folder (nothing was written)")
@@ -147,14 +147,26 @@ def cmd_fit(args):
     result["compliant"] = export.compliant_parameters(calibration.estimate.restitution, speed)
     result["fit_seconds"] = elapsed
     report_warnings(calibration.warnings, args.strict)
+    comparisons = [compare.compare(calibration, number) for number in range(len(tracks))]
+    result["model_check"] = [
+        {"track": calibration.tracks[n].name, "follows_until_s": c.follows_until,
+         "flight_rms_height_m": [float(v) for v in c.flight_rms_y],
+         "flight_rms_angle_deg": [float(v) for v in np.degrees(c.flight_rms_angle)]}
+        for n, c in enumerate(comparisons)]
     if args.out is not None:
-        _write_outputs(args.out, calibration, result)
+        _write_outputs(args.out, calibration, result, comparisons)
     if args.into is not None:
         result["study"] = str(export.fitted_study(args.into, calibration))
     if args.json:
         print(json.dumps(result))
         return 0
     print(_table(calibration))
+    for check in result["model_check"]:
+        rms_y, rms_a = check["flight_rms_height_m"], check["flight_rms_angle_deg"]
+        if rms_y:
+            print(f"\nmodel check, {check['track']}: each flight predicted from the one before misses the track by "
+                  f"{1e3 * max(rms_y):.3g} mm and {max(rms_a):.3g} deg at most (root mean square per flight); one "
+                  f"run from the first flight follows it until {check['follows_until_s'] * 1e3:.0f} ms")
     compliant = result["compliant"]
     print(f"\nfor compliant-contact engines (normal approach speed {speed:.3g} m/s):")
     for name, part in compliant["hertz_damping_factor"].items():
@@ -171,10 +183,10 @@ def cmd_fit(args):
     return 0
 
 
-def _write_outputs(folder, calibration, result):
+def _write_outputs(folder, calibration, result, comparisons):
     """fit.json, impacts.csv and the pictures into ``folder``."""
     from ..files import write_csv, write_text
-    from . import compare, pictures
+    from . import pictures
     from .fit import bounce_table
 
     folder.mkdir(parents=True, exist_ok=True)
@@ -183,8 +195,7 @@ def _write_outputs(folder, calibration, result):
     many = len(calibration.tracks) > 1
     for number in range(len(calibration.tracks)):
         suffix = f"-{number + 1}" if many else ""
-        comparison = compare.compare(calibration, number)
         pictures.energy(calibration, number, folder / f"energy{suffix}.png")
-        pictures.track_against_model(calibration, number, comparison, folder / f"model{suffix}.png")
+        pictures.track_against_model(calibration, number, comparisons[number], folder / f"model{suffix}.png")
     pictures.restitution_by_angle(calibration, folder / "restitution-angle.png")
     pictures.residuals(calibration, folder / "residuals.png")
