@@ -133,8 +133,10 @@ def cmd_fit(args):
 
     if args.out is not None and args.out.exists() and not args.out.is_dir():
         raise InputError(f"--out {args.out} is a file; the results go into a folder (nothing was written)")
-    if args.into is not None and not args.into.is_file():
-        raise InputError(f"--into {args.into}: no such study file")
+    if args.into is not None:
+        if not args.into.is_file():
+            raise InputError(f"--into {args.into}: no such study file")
+        export.study_target(args.into)  # refused before the fit, not after
     shape = _shape(args)
     columns = track_io.parse_columns(args.columns)
     tracks = [track_io.read_track(path, fps=args.fps, scale=args.scale, y_down=args.y_down, floor_y=args.floor_y,
@@ -173,7 +175,8 @@ def cmd_fit(args):
         print(f"  Hertz + damping factor ({part['source']}): alpha = {part['alpha_s_per_m']:.4g} s/m "
               f"(one integrated impact gives e = {part['check_restitution']:.3f})")
     dash = compliant["linear_damping_ratio"]
-    print(f"  linear spring-dashpot: damping ratio {dash['zeta']:.4f} (integrated: e = {dash['check_restitution']:.4f})")
+    print(f"  linear spring-dashpot: damping ratio {dash['zeta']:.4f} "
+          f"(integrated: e = {dash['check_restitution']:.4f})")
     print(f"\nfit took {elapsed:.2f} s")
     if args.out is not None:
         print(f"written to {args.out}: fit.json, impacts.csv and pictures")

@@ -103,6 +103,28 @@ def compliant_parameters(restitution, speed):
                                                "Powder Technol. 71:239, 1992)"}}
 
 
+def study_target(study_path, out_path=None, yaml=None):
+    """The study's YAML (round trip) and the new file's path; InputError,
+    before anything is fitted, when the study cannot take a fitted contact
+    or the new file exists."""
+    from ruamel.yaml import YAML
+
+    from ..study_file import read_study_text
+
+    study_path = Path(study_path)
+    text = read_study_text(study_path)
+    out_path = Path(out_path) if out_path else study_path.with_name(f"{study_path.stem}-fitted{study_path.suffix}")
+    if out_path.exists():
+        raise InputError(f"--into: {out_path} exists; remove or rename it first (nothing was overwritten)")
+    try:
+        data = (yaml or YAML(typ="rt")).load(text)
+    except Exception as exc:  # noqa: BLE001  (any YAML error is the user's file)
+        raise InputError(f"{study_path}: not a readable study file ({str(exc).splitlines()[0]})") from None
+    if not isinstance(data, dict) or not isinstance(data.get("contact"), dict):
+        raise InputError(f"{study_path}: the study has no contact section to fill")
+    return data, out_path
+
+
 def fitted_study(study_path, calibration, out_path=None):
     """Write a copy of a study with the fitted contact, beside it; never overwrite.
 
@@ -120,18 +142,8 @@ def fitted_study(study_path, calibration, out_path=None):
 
     from ..study_file import load_study, read_study_text
 
-    study_path = Path(study_path)
-    text = read_study_text(study_path)
-    out_path = Path(out_path) if out_path else study_path.with_name(f"{study_path.stem}-fitted{study_path.suffix}")
-    if out_path.exists():
-        raise InputError(f"--into: {out_path} exists; remove or rename it first (nothing was overwritten)")
     yaml = YAML(typ="rt")
-    try:
-        data = yaml.load(text)
-    except Exception as exc:  # noqa: BLE001  (any YAML error is the user's file)
-        raise InputError(f"{study_path}: not a readable study file ({str(exc).splitlines()[0]})") from None
-    if not isinstance(data, dict) or not isinstance(data.get("contact"), dict):
-        raise InputError(f"{study_path}: the study has no contact section to fill")
+    data, out_path = study_target(study_path, out_path, yaml)
     est = calibration.estimate
     contact = data["contact"]
     contact["law"] = calibration.law

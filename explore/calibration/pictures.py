@@ -41,8 +41,8 @@ def energy(calibration, number, path):
     for k in range(flights.count):
         t = np.linspace(track.time[flights.first[k]], track.time[flights.last[k]], 60)
         s = flights.state(k, t)
-        values = {"translational": 0.5 * m * (s["vx"] ** 2 + s["vy"] ** 2), "rotational": 0.5 * inertia * s["spin"] ** 2,
-                  "potential": m * GRAVITY * s["y"]}
+        values = {"translational": 0.5 * m * (s["vx"] ** 2 + s["vy"] ** 2),
+                  "rotational": 0.5 * inertia * s["spin"] ** 2, "potential": m * GRAVITY * s["y"]}
         values["total"] = sum(values.values())
         for name, colour in parts:
             ax.plot(t * 1e3, values[name] * 1e3, color=colour, lw=2.2 if name == "total" else 1.4,

@@ -101,7 +101,8 @@ def read_table_file(path):
         return pd.read_csv(path, skipinitialspace=True)
     except (ValueError, OSError, UnicodeDecodeError, pd.errors.ParserError) as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-        raise InputError(f"{path}: cannot read the track as {'Parquet' if path.suffix.lower() in ('.parquet', '.pq') else 'CSV'} ({first})") from None
+        kind = "Parquet" if path.suffix.lower() in (".parquet", ".pq") else "CSV"
+        raise InputError(f"{path}: cannot read the track as {kind} ({first})") from None
 
 
 def read_track(path, *, fps=None, scale=None, y_down=False, floor_y=None, columns=None):
