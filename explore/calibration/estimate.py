@@ -289,17 +289,17 @@ def estimate(units, bootstrap=BOOTSTRAP, seed=0):
     Estimate
     """
     e_grid, f_grid = np.meshgrid(RESTITUTION_GRID, FRICTION_GRID, indexing="ij")
+    if len(units.merged):
+        # the merged bounces' carried variance, from the derivatives at the best grid point of a
+        # first look (the resolved impacts alone when there are any: they cost no simulation)
+        first = Units(units.shape, units.law, units.resolved, units.merged.iloc[:0]) if len(units.resolved) else units
+        cost = np.nansum(huber(residuals(first, e_grid.ravel(), f_grid.ravel())), axis=(1, 2))
+        best = int(np.nanargmin(cost))
+        units.merged_variance = merged_variances(units, e_grid.flat[best], f_grid.flat[best])
     grid_residuals = residuals(units, e_grid.ravel(), f_grid.ravel())
     unit_cost = np.nansum(huber(grid_residuals), axis=2)  # (G, U)
     total = unit_cost.sum(axis=1)
     best = int(np.nanargmin(total))
-    if len(units.merged):
-        # the merged bounces' carried variance, from the derivatives at the best grid point
-        units.merged_variance = merged_variances(units, e_grid.flat[best], f_grid.flat[best])
-        grid_residuals = residuals(units, e_grid.ravel(), f_grid.ravel())
-        unit_cost = np.nansum(huber(grid_residuals), axis=2)
-        total = unit_cost.sum(axis=1)
-        best = int(np.nanargmin(total))
     start = np.array([e_grid.flat[best], f_grid.flat[best]])
     fit = optimize.least_squares(lambda p: residuals(units, p[0], p[1]).ravel(), start,
                                  bounds=([0.0, 0.0], [1.0, FRICTION_GRID[-1] * 2]), x_scale=[0.05, 0.1],
