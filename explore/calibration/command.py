@@ -92,13 +92,15 @@ def _table(calibration):
     est = calibration.estimate
     lines = [f"law: {calibration.law};  {len(calibration.bounces)} bounce(s) in {len(calibration.tracks)} track(s), "
              f"{int(calibration.bounces['resolved'].sum())} resolved impact(s)"]
-    boot = est.restitution_bootstrap
+    def bootstrap(low_high):
+        if not np.all(np.isfinite(low_high)):
+            return ""
+        return f"   (bootstrap over bounces: {low_high[0]:.4f} .. {low_high[1]:.4f})"
     lines.append(f"restitution  {est.restitution:.4f}   95%: {est.restitution_low:.4f} .. {est.restitution_high:.4f}"
-                 f"   (bootstrap over bounces: {boot[0]:.4f} .. {boot[1]:.4f})")
+                 + bootstrap(est.restitution_bootstrap))
     if est.friction is not None:
-        boot = est.friction_bootstrap
         lines.append(f"friction     {est.friction:.4f}   95%: {est.friction_low:.4f} .. {est.friction_high:.4f}"
-                     f"   (bootstrap over bounces: {boot[0]:.4f} .. {boot[1]:.4f})")
+                     + bootstrap(est.friction_bootstrap))
     else:
         lines.append(f"friction     not identifiable: no bounce slips; at least {est.friction_low:.3g} (95%)")
     lines.append(f"fit quality: reduced chi-square {est.reduced_chi2:.3g} (1: the model within the frame noise)")

@@ -19,12 +19,10 @@ from hopscape.sim.flight import GRAVITY
 from hopscape.sim.impact import SLIP_HISTORY
 
 from ..errors import InputError
-from .estimate import BOOTSTRAP, Units, estimate, impact_map
+from .estimate import BOOTSTRAP, MERGED_IMPACTS, Units, estimate, impact_map
 from .flights import GRAVITY_WARNING, MIN_FLIGHT_FRAMES, find_flights, gravity_warning
 from .impacts import describe_bounces, find_bounces
 
-#: The model runs across a merged bounce for at most this many impacts. [-]
-MODEL_IMPACTS = 12
 #: Two ends of an elongated body strike 1-4 ms apart; a body that stays
 #: longer between fitted flights is rocking or sliding, which an impulse
 #: model follows poorly: such a stretch is not fitted. [s]
@@ -76,7 +74,7 @@ def _model_view(shape, law, bounces, e, mu):
             continue
         release = sim.Release(height=row["y_start"], angle=row["angle_start"], spin=row["spin_start"],
                               vx=row["vx_start"], vy=row["vy_start"])
-        result = sim.simulate(shape, release, sim.Contact(e, mu, law), impacts=MODEL_IMPACTS, peaks=("centre",))
+        result = sim.simulate(shape, release, sim.Contact(e, mu, law), impacts=MERGED_IMPACTS, peaks=("centre",))
         times = result.impacts["time"][0] + row["t_start"]
         inside = times[(times > row["t_ref_before"]) & (times < row["t_ref_after"])]
         flights = np.diff(inside)

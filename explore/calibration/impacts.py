@@ -101,7 +101,9 @@ def find_bounces(track, flights, shape):
         (``*_ref_after``) [s].
     """
     dt = track.frame_interval
-    step = dt / STEPS_PER_FRAME
+    longest = float(np.max(np.diff(flights.t_ref))) if flights.count > 1 else 0.0
+    # a twentieth of a frame, but no more than 10^5 steps between two flights' middles
+    step = max(dt / STEPS_PER_FRAME, longest / 1e5)
     rows = []
     for k in range(flights.count - 1):
         start, stop = flights.t_ref[k], flights.t_ref[k + 1]
