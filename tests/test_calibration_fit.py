@@ -66,7 +66,7 @@ def test_noisy_track_reads_its_noise_and_gravity_back():
 @pytest.mark.slow
 @pytest.mark.parametrize("fps", [1000.0, 10000.0])
 def test_synthetic_pin_recovers_restitution_and_friction(fps):
-    # the tolerances: restitution within 0.03, friction within 0.05 on impacts that slip
+    # the tolerances asked of a calibration: restitution within 0.03, friction within 0.05 on impacts that slip
     cal = _pin_fit(fps)
     est = cal.estimate
     assert est.restitution == pytest.approx(0.6, abs=0.03)
