@@ -179,8 +179,11 @@ def build_parser():
 
     from . import commands  # noqa: F401  (study commands register themselves)
     commands.register(sub)
+    # the calibration commands: film -> track -> fit
     from .video.command import register as register_track
+    from .calibration.command import register as register_fit
     register_track(sub, commands.HANDLERS)
+    register_fit(sub, commands.HANDLERS)
     return parser
 
 
