@@ -108,6 +108,34 @@ def _further_dimensions():
             if name not in ("length", "radius")]
 
 
+def _contact_options(parser):
+    """The contact model's options of ``drop`` (the batch table's columns of the same names)."""
+    from .batch_contract import CONTACT_COLUMNS, INPUT_COLUMNS
+    for name in ("speed_exponent", "reference_speed"):
+        words, default = INPUT_COLUMNS[name]
+        parser.add_argument(f"--{name.replace('_', '-')}", type=_finite(name), default=default,
+                            help=f"[{words.split(',')[0]}]{words[len(words.split(',')[0]):]} (default {default:g})")
+    for name, words in CONTACT_COLUMNS.items():
+        unit, _, rest = words.partition(", ") if not name.endswith("_material") else ("", "", words)
+        parser.add_argument(f"--{name.replace('_', '-')}", default=None,
+                            type=None if name.endswith("_material") else _finite(name),
+                            help=(f"[{unit}] {rest}" if unit else rest))
+
+
+def _contact_loads(args, shape, result):
+    """Per-impact contact outputs of a drop (NaN without materials) and the
+    settings they came from."""
+    from hopscape.sim.contact_load import impact_loads
+    from hopscape.sim.hertz import rim_edge_default
+    from .batch_contract import CONTACT_COLUMNS
+    from .contact_inputs import single_settings
+
+    given = {name: getattr(args, name) for name in CONTACT_COLUMNS}
+    e_star, edge, breakage = _user_value_errors(lambda: single_settings(given))
+    edge = rim_edge_default(shape.profile) if np.isnan(edge) else edge
+    return impact_loads(result, e_star, edge, None if np.isnan(breakage[0]) else breakage), e_star, edge
+
+
 def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
@@ -135,6 +163,7 @@ def build_parser():
     d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
     d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
     d.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
+    _contact_options(d)
     d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
@@ -260,7 +289,8 @@ def cmd_drop(args):
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
-        contact = sim.Contact(args.restitution, args.friction, args.law)
+        contact = sim.Contact(args.restitution, args.friction, args.law, speed_exponent=args.speed_exponent,
+                              reference_speed=args.reference_speed)
         return sim.simulate(shape, release, contact, impacts=args.impacts)
 
     shape = _user_value_errors(body)
@@ -272,12 +302,35 @@ def cmd_drop(args):
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
+    # materials are checked before anything is simulated
+    from .contact_inputs import single_settings
+    from .batch_contract import CONTACT_COLUMNS
+    try:
+        single_settings({name: getattr(args, name) for name in CONTACT_COLUMNS})
+    except ValueError as exc:  # worded with the option names of this command
+        message = str(exc)
+        for name in CONTACT_COLUMNS:
+            message = message.replace(name, "--" + name.replace("_", "-"))
+        raise InputError(message) from None
     result = _user_value_errors(lambda: drop(shape))
     bounces = sim.group_bounces(result, merge_window)
     print(drop_report(shape, result, bounces, args.reference))
+    loads, e_star, edge = _contact_loads(args, shape, result)
+    from .contact_report import NO_MATERIALS, contact_text
+    if np.isnan(e_star):
+        print("\n" + NO_MATERIALS)
+    else:
+        from hopscape.sim.materials import material
+        strength, poisson = None, args.body_poisson
+        if args.body_material is not None:
+            found = _user_value_errors(lambda: material(args.body_material))
+            strength = (found.strength, found.strength_kind)
+            poisson = found.poisson if poisson is None else poisson
+        sharp = bool(np.all(shape.round_long == 0) and np.all(shape.round_wide == 0))
+        print("\n" + contact_text(result, loads, sharp_rim=sharp, strength=strength, poisson=poisson))
     if args.csv is not None:
         from .batch import write_table
-        write_table(impact_table(result, merge_window), args.csv)
+        write_table(impact_table(result, merge_window, loads=loads), args.csv)
         print(f"\nimpact table written to {args.csv}")
     if not args.no_plots:
         from . import plots
@@ -286,6 +339,17 @@ def cmd_drop(args):
         plots.strobe(result, path=paths[0])
         plots.energy(result, path=paths[1])
         plots.bounce_heights(result, bounces, reference=args.reference, path=paths[2])
+        if not np.isnan(e_star):
+            from hopscape.sim.contact_load import force_histories
+            from .contact_report import force_picture
+            curves = force_histories(result, 0, e_star, edge)
+            shortest = float(np.nanmin(loads["contact_time"][0])) if np.any(np.isfinite(loads["contact_time"][0])) \
+                else np.nan
+            frames = (f"\nshortest contact {shortest * 1e6:.0f} us: about {float(f'{5 / shortest:.2g}'):,.0f} "
+                      "frames/s catch 5 frames in it (a rule of thumb)") if np.isfinite(shortest) else ""
+            paths.append(force_picture(curves, args.out / "forces.png",
+                                       f"Contact force of each impact: {args.body_material or 'body'} on "
+                                       f"{args.floor_material or 'floor'}" + frames))
         print("pictures: " + ", ".join(str(p) for p in paths))
     print("\n" + SAFETY)
     return EXIT_OK

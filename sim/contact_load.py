@@ -112,8 +112,12 @@ def impact_loads(result, effective_modulus, edge_radius=None, breakage=None):
     stiffness = hertz_stiffness(modulus, radius)
     with np.errstate(invalid="ignore", divide="ignore"):
         scale = (5 * m_eff * speed ** 2 / (4 * stiffness)) ** 0.4  # undamped largest indentation
-        c = scaled_damping(np.where(exists, e, np.nan))
-        _, duration, depth, force = scaled_outcome(c)
+        wanted = exists & np.isfinite(stiffness)
+        if wanted.any():
+            c = scaled_damping(np.where(wanted, e, np.nan))
+            _, duration, depth, force = scaled_outcome(c)
+        else:  # no materials: the table is not even built
+            duration = depth = force = np.full(shape, np.nan)
         indentation = depth * scale
         ke_before = sum(result.energy_before()[:2])
         ke_after = sum(result.energy_after()[:2])
