@@ -10,20 +10,14 @@ outputs (NaN), since no material is assumed. One side only: an error.
 """
 from __future__ import annotations
 
-import math
-
 import numpy as np
-import pandas as pd
 
-from hopscape.sim.limits import POSITIVE_SIZE, Interval, number_text
+from hopscape.sim.limits import F_MAT, POSITIVE_SIZE, W_MIN, number_text
 from hopscape.sim.materials import MODULUS, POISSON, effective_modulus, materials
 
 from .batch_contract import CONTACT_COLUMNS  # noqa: F401 (declared with the contract)
 
 SIDES = ("body", "floor")
-#: Vogel & Peukert's material parameters of the breakage screen.
-F_MAT = Interval(0.0, math.inf, unit="kg/(J m)")
-W_MIN = Interval(0.0, math.inf, unit="J/kg")
 
 CONTACT_NUMBERS = ("body_modulus", "body_poisson", "floor_modulus", "floor_poisson", "rim_edge_radius",
                    "breakage_f_mat", "breakage_w_min")
@@ -47,9 +41,9 @@ def side_elastic(names, modulus, poisson, side, flag):
     known = np.isin(names, list(table))
     flag((names != "") & ~known, lambda i: f"{side}_material must be one of {known_materials()}, got {names[i]!r}")
     # a lookup per distinct name, not per row
-    series = pd.Series(names)
-    table_modulus = series.map({k: m.youngs_modulus for k, m in table.items()}).to_numpy(dtype=float)
-    table_poisson = series.map({k: m.poisson for k, m in table.items()}).to_numpy(dtype=float)
+    distinct, inverse = np.unique(names.astype(str), return_inverse=True)
+    table_modulus = np.array([table[k].youngs_modulus if k in table else np.nan for k in distinct])[inverse]
+    table_poisson = np.array([table[k].poisson if k in table else np.nan for k in distinct])[inverse]
     e = np.where(np.isnan(modulus), table_modulus, modulus)
     nu = np.where(np.isnan(poisson), table_poisson, poisson)
     flag(np.isnan(e) != np.isnan(nu), lambda i: f"{side}_{'poisson' if np.isnan(nu[i]) else 'modulus'} is missing: "
@@ -61,12 +55,18 @@ def contact_settings(frame, flag):
     """Per row of a batch table: ``E*`` [Pa] (NaN: no materials), the rim
     edge radius [m] (NaN: the default) and the breakage parameters (NaN:
     none). ``flag`` records row errors as in :func:`side_elastic`."""
+    import pandas as pd  # here: a study file's checks need no pandas
+
     n = len(frame)
 
     def numbers(column):
         if column not in frame:
             return np.full(n, np.nan)
-        return pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+        values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+        raw = frame[column].to_numpy()
+        given = pd.notna(frame[column]).to_numpy()
+        flag(given & np.isnan(values), lambda i: f"{column} must be a number, got {raw[i]!r}")
+        return values
 
     def names(column):
         if column not in frame:
@@ -75,20 +75,23 @@ def contact_settings(frame, flag):
         return column.where(column.notna(), "").astype(str).str.strip().str.lower().to_numpy(dtype=object)
 
     values = {column: numbers(column) for column in CONTACT_NUMBERS}
+    return _settings({side: names(f"{side}_material") for side in SIDES}, values, flag)
+
+
+def _settings(material_names, values, flag):
+    """:func:`contact_settings` from per-row arrays: material names by side
+    and the numbers of :data:`CONTACT_NUMBERS` (NaN: not given)."""
     for column in CONTACT_NUMBERS:
-        if column in frame:
-            raw = frame[column].to_numpy()
-            given = pd.notna(frame[column]).to_numpy()
-            v = values[column]
-            flag(given & np.isnan(v), lambda i, c=column, r=raw: f"{c} must be a number, got {r[i]!r}")
-            flag(given & ~np.isnan(v) & ~_RANGES[column].contains(v),
-                 lambda i, c=column, v=v: f"{c} must be {_RANGES[c].describe()}, got {number_text(v[i])}")
-    sides = {side: side_elastic(names(f"{side}_material"), values[f"{side}_modulus"], values[f"{side}_poisson"],
+        v = values[column]
+        flag(~np.isnan(v) & ~_RANGES[column].contains(v),
+             lambda i, c=column, v=v: f"{c} must be {_RANGES[c].describe()}, got {number_text(v[i])}")
+    sides = {side: side_elastic(material_names[side], values[f"{side}_modulus"], values[f"{side}_poisson"],
                                 side, flag) for side in SIDES}
     body_given, floor_given = (~np.isnan(sides[s][0]) for s in SIDES)
     flag(body_given != floor_given, lambda i: f"{'floor' if body_given[i] else 'body'}_material (or its modulus and "
          "poisson) is missing: the contact model needs both sides")
-    e_star = effective_modulus(*sides["body"], *sides["floor"])
+    with np.errstate(invalid="ignore"):
+        e_star = effective_modulus(*sides["body"], *sides["floor"])
     f_mat, w_min = values["breakage_f_mat"], values["breakage_w_min"]
     flag(np.isnan(f_mat) != np.isnan(w_min), lambda i: "breakage_f_mat and breakage_w_min go together: give both")
     return e_star, values["rim_edge_radius"], (f_mat, w_min)
@@ -97,14 +100,15 @@ def contact_settings(frame, flag):
 def single_settings(values):
     """:func:`contact_settings` for one drop from a dict of the same names
     (None for not given); raises ValueError with the first problem."""
-    frame = pd.DataFrame({key: [np.nan if value is None else value] for key, value in values.items()})
     problems = []
 
     def flag(bad, message):
         for i in np.flatnonzero(np.asarray(bad, dtype=bool)):
             problems.append(message(i))
-    settings = contact_settings(frame, flag)
+    names = {side: np.array([(values.get(f"{side}_material") or "").strip().lower()], dtype=object) for side in SIDES}
+    numbers = {column: np.array([np.nan if values.get(column) is None else float(values[column])])
+               for column in CONTACT_NUMBERS}
+    e_star, edge, (f_mat, w_min) = _settings(names, numbers, flag)
     if problems:
         raise ValueError(problems[0])
-    e_star, edge, (f_mat, w_min) = settings
     return float(e_star[0]), float(edge[0]), (float(f_mat[0]), float(w_min[0]))

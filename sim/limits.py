@@ -126,3 +126,7 @@ FLOOR_ANGLE = Interval(-math.pi / 2, math.pi / 2, closed="neither", unit="rad")
 SPEED_EXPONENT = Interval(0.0, 1.0, unit="-")
 #: The normal impact speed at which the restitution is ``e_ref``.
 REFERENCE_SPEED = Interval(0.0, math.inf, closed="neither", unit="m/s")
+#: Vogel & Peukert's material parameters of the impact-breakage master
+#: curve (Powder Technol. 129:101, 2003): f_Mat and W_m,min.
+F_MAT = Interval(0.0, math.inf, unit="kg/(J m)")
+W_MIN = Interval(0.0, math.inf, unit="J/kg")
