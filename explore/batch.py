@@ -125,7 +125,8 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         return pd.DataFrame(columns=list(OUTPUT_COLUMNS))
     errors, kinds, laws, (e_star, rim_edge, breakage) = _row_errors(frame, law)
     ok = errors == ""
-    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float) for c in DIMENSIONS + NUMBERS}
+    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float)
+           for c in DIMENSIONS + NUMBERS + MODULI}
     good = np.flatnonzero(ok)
 
     def bodies(rows):
@@ -172,6 +173,10 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     return table
 
 
+#: The contact model's numbers that get unit warnings (explore.plausibility).
+MODULI = ("body_modulus", "floor_modulus")
+
+
 def _warnings(kinds, num, good, bodies):
     """Warning lines for the implausible values of the rows ``good``."""
     lines = []
@@ -179,7 +184,7 @@ def _warnings(kinds, num, good, bodies):
         rows = good[kinds[good] == kind]
         if not rows.size:
             continue
-        values = {name: num[name][rows] for name in NUMBERS + DIMENSIONS}
+        values = {name: num[name][rows] for name in NUMBERS + DIMENSIONS + MODULI}
         for name, bad, message in drop_warnings(bodies(rows), values):
             count = int(bad.sum())
             lines.append(f"column {name}: {count} {kind} row{'s' if count > 1 else ''} (first: drop "

@@ -110,10 +110,11 @@ def _further_dimensions():
 
 def _contact_options(parser):
     """The contact model's options of ``drop`` (the batch table's columns of the same names)."""
+    from hopscape.sim.limits import REFERENCE_SPEED, SPEED_EXPONENT
     from .batch_contract import CONTACT_COLUMNS, INPUT_COLUMNS
-    for name in ("speed_exponent", "reference_speed"):
+    for name, allowed in (("speed_exponent", SPEED_EXPONENT), ("reference_speed", REFERENCE_SPEED)):
         words, default = INPUT_COLUMNS[name]
-        parser.add_argument(f"--{name.replace('_', '-')}", type=_finite(name), default=default,
+        parser.add_argument(f"--{name.replace('_', '-')}", type=_number(float, allowed), default=default,
                             help=f"[{words.split(',')[0]}]{words[len(words.split(',')[0]):]} (default {default:g})")
     for name, words in CONTACT_COLUMNS.items():
         unit, _, rest = words.partition(", ") if not name.endswith("_material") else ("", "", words)
@@ -299,6 +300,8 @@ def cmd_drop(args):
     from .plausibility import drop_warnings
     given = {"height": args.height, "spin": args.spin, "vx": args.vx, "vy": args.vy, "density": args.density,
              "friction": args.friction, "length": args.length, "radius": args.radius,
+             "body_modulus": args.body_modulus, "floor_modulus": args.floor_modulus,
+             "speed_exponent": args.speed_exponent, "reference_speed": args.reference_speed,
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)

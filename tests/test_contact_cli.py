@@ -112,7 +112,7 @@ def test_drop_without_materials_says_how_to_get_contact_outputs(capsys):
 @pytest.mark.parametrize("args, words", [
     (["--body-material", "glas", "--floor-material", "steel"], ["--body-material must be one of steel,", "'glas'"]),
     (["--body-modulus", "1e9", "--floor-material", "steel"], ["--body-poisson is missing"]),
-    (["--speed-exponent", "2"], ["speed_exponent must be in [0, 1], got 2"]),
+    (["--speed-exponent", "2"], ["--speed-exponent: must be in [0, 1], got 2"]),
 ])
 def test_drop_bad_contact_options(capsys, args, words):
     assert main(["drop", "--no-plots", *args]) == 2
@@ -120,3 +120,16 @@ def test_drop_bad_contact_options(capsys, args, words):
     assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
     for word in words:
         assert word in err
+
+
+def test_a_modulus_in_the_wrong_unit_is_warned_about(tmp_path, capsys):
+    # 200 "Pa" is steel's 200 GPa typed without its unit: legal, but warned
+    source = tmp_path / "drops.csv"
+    source.write_text("shape,length,radius,density,height,angle,restitution,friction,body_modulus,body_poisson,"
+                      "floor_material\ncapsule,0.014,0.0035,1200,0.3,30,0.8,0.3,200,0.3,steel\n")
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.csv")]) == 0
+    err = capsys.readouterr().err
+    assert "column body_modulus" in err and "is it in GPa or MPa?" in err
+    assert main(["drop", "--no-plots", "--floor-modulus", "2e2", "--floor-poisson", "0.3", "--body-material",
+                 "nylon", "--strict"]) == 2
+    assert "--floor-modulus: 200 Pa is outside the usual" in capsys.readouterr().err
