@@ -133,3 +133,19 @@ def test_a_modulus_in_the_wrong_unit_is_warned_about(tmp_path, capsys):
     assert main(["drop", "--no-plots", "--floor-modulus", "2e2", "--floor-poisson", "0.3", "--body-material",
                  "nylon", "--strict"]) == 2
     assert "--floor-modulus: 200 Pa is outside the usual" in capsys.readouterr().err
+
+
+def test_api_drop_gives_the_commands_contact_columns(tmp_path, capsys):
+    import hopscape
+    path = tmp_path / "impacts.csv"
+    options = ["--body-material", "acrylic", "--floor-material", "granite", "--speed-exponent", "0.25"]
+    assert main(["drop", "--no-plots", "--csv", str(path), *options]) == 0
+    capsys.readouterr()
+    theirs = pd.read_csv(path)
+    ours = hopscape.drop(body_material="acrylic", floor_material="granite", speed_exponent=0.25).impacts
+    for column in ("struck", "normal_speed", "restitution_used", "contact_time", "peak_force", "indentation"):
+        if ours[column].dtype == object:
+            assert ours[column].tolist() == theirs[column].tolist()
+        else:  # the CSV keeps 17 significant digits
+            assert ours[column].to_numpy() == pytest.approx(theirs[column].to_numpy(), rel=1e-12)
+    assert np.isfinite(ours["contact_time"]).all()
