@@ -485,13 +485,18 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         Restitution ``restitution (v_n / reference_speed)^-speed_exponent``
         [-], [m/s] (default: the same at every speed).
     body_material, floor_material : str, optional
-        Names of ``hopscape.sim.materials.materials()``; with both (or
-        ``body_modulus`` [Pa], ``body_poisson``, ``floor_modulus``,
-        ``floor_poisson``) ``.impacts`` has the contact model's columns
-        (contact_time, peak_force, ...; README, "Batch tables").
-    rim_edge_radius, breakage_f_mat, breakage_w_min : float, optional
-        A sharp rim's edge radius [m]; the Vogel & Peukert breakage
-        parameters [kg/(J m)], [J/kg].
+        Names of ``hopscape.sim.materials.materials()``; with both sides
+        given (by name or by modulus and Poisson's ratio) ``.impacts`` has
+        the contact model's columns (contact_time, peak_force, ...; README,
+        "Batch tables").
+    body_modulus, floor_modulus : float, optional
+        Young's modulus, overriding the material's. [Pa]
+    body_poisson, floor_poisson : float, optional
+        Poisson's ratio, overriding the material's. [-]
+    rim_edge_radius : float, optional
+        Edge radius of a flat-ended cylinder's sharp rim. [m]
+    breakage_f_mat, breakage_w_min : float, optional
+        Vogel & Peukert's breakage parameters. [kg/(J m)], [J/kg]
     **dimensions : float
         Further dimensions a shape declares, e.g. ``edge`` [m] of a
         rounded tablet.
