@@ -115,12 +115,12 @@ def _contact_options(parser):
     for name, allowed in (("speed_exponent", SPEED_EXPONENT), ("reference_speed", REFERENCE_SPEED)):
         words, default = INPUT_COLUMNS[name]
         parser.add_argument(f"--{name.replace('_', '-')}", type=_number(float, allowed), default=default,
-                            help=f"[{words.split(',')[0]}]{words[len(words.split(',')[0]):]} (default {default:g})")
+                            help=f"[{words.partition(', ')[0]}] {words.partition(', ')[2]} (default {default:g})")
     for name, words in CONTACT_COLUMNS.items():
         unit, _, rest = words.partition(", ") if not name.endswith("_material") else ("", "", words)
         parser.add_argument(f"--{name.replace('_', '-')}", default=None,
                             type=None if name.endswith("_material") else _finite(name),
-                            help=(f"[{unit}] {rest}" if unit else rest))
+                            help=(f"[{unit}] {rest}" if unit else rest).replace("%", "%%"))
 
 
 def _contact_loads(args, shape, result):

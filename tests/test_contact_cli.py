@@ -149,3 +149,10 @@ def test_api_drop_gives_the_commands_contact_columns(tmp_path, capsys):
         else:  # the CSV keeps 17 significant digits
             assert ours[column].to_numpy() == pytest.approx(theirs[column].to_numpy(), rel=1e-12)
     assert np.isfinite(ours["contact_time"]).all()
+
+
+def test_drop_help_shows_the_contact_options(capsys):
+    # a '%' in a help text once broke argparse's help formatting
+    assert main(["drop", "--help"]) == 0
+    out = capsys.readouterr().out
+    assert "--body-material" in out and "default 5% of the smaller" in out and "[-] p of restitution" in out
