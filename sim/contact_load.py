@@ -33,8 +33,9 @@ import numpy as np
 
 from .damping import scaled_damping, scaled_outcome
 from .compliant import hertz_stiffness, scaled_contacts
-from .geometry import contact_offset
-from .hertz import BAND, equivalent_radius, hertz_peak_pressure, principal_radii, struck_feature
+from ._vector import sincos
+from .geometry import corner_offset, flat_sign
+from .hertz import BAND, equivalent_radius, feature_at, hertz_peak_pressure, principal_radii
 from .impact import speed_restitution
 
 #: Per-impact outputs of :func:`impact_loads`, with units.
@@ -57,13 +58,16 @@ def _per_impact(values, shape):
 
 
 def impact_state(result):
-    """Per impact: struck feature code, contact offset, the contact point's
-    normal and tangential velocity before, ``1 / K_nn`` and the restitution
-    used (all ``(drops, impacts)``)."""
+    """Per impact: struck feature code, profile, the contact point's
+    normal and tangential velocity before, ``1 / K_nn``, the restitution
+    used and ``(sin, cos)`` of the angle (all ``(drops, impacts)``)."""
     shape = result.time.shape
     profile = tuple(_per_impact(p, shape) for p in result.profile)
-    theta = result.theta
-    r_x, r_y = contact_offset(np.nan_to_num(theta), *profile)
+    # the kernel's sine and cosine (one tan; sim._vector), once for every use
+    sin, cos = sincos(np.nan_to_num(result.theta))
+    along, across = flat_sign(sin), flat_sign(cos)
+    # the lowest piece's offset, r = (-d', -d) (docs/physics.md section 2)
+    r_x, r_y = corner_offset(sin, cos, profile, along, across, True)
     vx, vy, spin = result.vx_before, result.vy_before, result.spin_before
     u_n = vy + spin * r_x
     u_t = vx - spin * r_y
@@ -73,8 +77,8 @@ def impact_state(result):
     e = speed_restitution(_per_impact(release["restitution"], shape), u_n,
                           _per_impact(release.get("speed_exponent", 0.0), shape),
                           _per_impact(release.get("reference_speed", 1.0), shape))
-    feature = struck_feature(np.nan_to_num(theta), profile)
-    return feature, profile, u_n, u_t, effective_mass, e
+    feature = feature_at(along, across, profile)
+    return feature, profile, u_n, u_t, effective_mass, e, (sin, cos)
 
 
 def impact_loads(result, effective_modulus, edge_radius=None, breakage=None):
@@ -102,12 +106,12 @@ def impact_loads(result, effective_modulus, edge_radius=None, breakage=None):
         (:data:`sim.damping.LARGEST_DAMPING`; sustained contact).
     """
     shape = result.time.shape
-    feature, profile, u_n, u_t, m_eff, e = impact_state(result)
+    feature, profile, u_n, u_t, m_eff, e, sines = impact_state(result)
     exists = np.arange(shape[1])[None, :] < result.count[:, None]
     speed = np.where(exists, -u_n, np.nan)
     modulus = _per_impact(effective_modulus, shape)
     edge = None if edge_radius is None else _per_impact(edge_radius, shape)
-    rho_1, rho_2 = principal_radii(np.nan_to_num(result.theta), profile, edge)
+    rho_1, rho_2 = principal_radii(None, profile, edge, sines)
     radius = np.where(feature < BAND, equivalent_radius(rho_1, rho_2), np.nan)
     stiffness = hertz_stiffness(modulus, radius)
     with np.errstate(invalid="ignore", divide="ignore"):

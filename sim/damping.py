@@ -94,8 +94,9 @@ def _interpolants():
     # e falls strictly with c: invert with a monotone interpolant
     order = np.argsort(table.restitution)
     inverse = PchipInterpolator(table.restitution[order], table.log_damping[order], extrapolate=False)
-    forward = {name: PchipInterpolator(table.log_damping, getattr(table, name), extrapolate=False)
-               for name in ("restitution", "duration", "indentation", "peak_force")}
+    # the four columns in one interpolant: one interval search per point
+    forward = PchipInterpolator(table.log_damping, np.stack([table.restitution, table.duration, table.indentation,
+                                                             table.peak_force], axis=-1), extrapolate=False)
     return inverse, forward
 
 
@@ -118,5 +119,5 @@ def scaled_outcome(damping):
     """Scaled restitution, duration, largest indentation and peak force at
     ``c = chi v`` (``damping``), read from the table."""
     _, forward = _interpolants()
-    u = np.log1p(np.asarray(damping, dtype=float))
-    return tuple(forward[name](u) for name in ("restitution", "duration", "indentation", "peak_force"))
+    values = forward(np.log1p(np.asarray(damping, dtype=float)))
+    return tuple(values[..., i] for i in range(4))

@@ -57,8 +57,13 @@ def struck_feature(theta, profile):
     a flat-faced body stands exactly on a face, otherwise the corner piece:
     ``cap`` (round ends on a straight part: capsules), ``rim`` (flat-faced
     bodies), ``surface`` (spheres, spheroids)."""
+    return feature_at(flat_sign(np.sin(theta)), flat_sign(np.cos(theta)), profile)
+
+
+def feature_at(along, across, profile):
+    """:func:`struck_feature` from the signs ``along = flat_sign(sin theta)``,
+    ``across = flat_sign(cos theta)`` of the struck piece."""
     half_long, half_wide, _, _ = (np.asarray(p, dtype=float) for p in profile)
-    along, across = flat_sign(np.sin(theta)), flat_sign(np.cos(theta))
     corner = np.where(half_wide > 0, RIM, np.where(half_long > 0, CAP, SURFACE))
     feature = np.where((half_wide > 0) & (across == 0), FACE, corner)
     return np.where((half_long > 0) & (along == 0), BAND, feature).astype(np.int8)
@@ -70,25 +75,26 @@ def rim_edge_default(profile):
     return RIM_EDGE_FRACTION * np.minimum(half_long, half_wide)
 
 
-def principal_radii(theta, profile, edge_radius=None):
+def principal_radii(theta, profile, edge_radius=None, sines=None):
     """``rho_1`` (in the plane of motion) and ``rho_2`` (across it) of the
     body's surface at its lowest point (module notes). [m]
 
     ``edge_radius`` rounds a sharp rim (a body whose round part is a
     point); default :func:`rim_edge_default`. Line and face contacts give
-    ``inf``.
+    ``inf``. ``sines``: ``(sin theta, cos theta)`` when already known.
     """
     half_long, half_wide, round_long, round_wide = (np.asarray(p, dtype=float) for p in profile)
     sharp = (round_long == 0) & (round_wide == 0)
     edge = rim_edge_default(profile) if edge_radius is None else np.asarray(edge_radius, dtype=float)
     a = np.where(sharp, edge, round_long)
     b = np.where(sharp, edge, round_wide)
-    s, c = np.abs(np.sin(theta)), np.abs(np.cos(theta))
+    sin, cos = (np.sin(theta), np.cos(theta)) if sines is None else sines
+    s, c = np.abs(sin), np.abs(cos)
     support = np.sqrt((a * s) ** 2 + (b * c) ** 2)
     with np.errstate(divide="ignore", invalid="ignore"):
         rho_1 = a ** 2 * b ** 2 / support ** 3
         rho_2 = np.where(half_wide > 0, half_wide / c, 0.0) + b ** 2 / support
-    feature = struck_feature(theta, profile)
+    feature = feature_at(flat_sign(sin), flat_sign(cos), profile)
     point = feature < BAND
     return np.where(point, rho_1, np.inf), np.where(point, rho_2, np.inf)
 
