@@ -26,8 +26,11 @@ invariant line of the equation, so ``1 + c x'`` stays positive from
 
 :func:`integrate_contacts` is the vectorised fixed-step integrator (the
 classical fourth-order Runge-Kutta method) over many contacts at once,
-each with its own step, written for any acceleration law so that a model
-following the body through its contacts can reuse it.
+each with its own step, for any state and force law: here the state is
+the indentation and its rate; a model following a body through its
+contacts passes the body's positions and velocities, its equations of
+motion with :func:`damped_hertz_force`, and the indentation at the
+contact point, and gets the state at separation back.
 """
 from __future__ import annotations
 
@@ -70,94 +73,105 @@ class ContactRun:
 
     ``duration`` [s or scaled], ``rebound`` (the indentation rate at
     separation, negative: leaving), ``largest_indentation``, ``peak_force``
-    (the largest of ``force(x, v)``), and, when asked, the sampled
-    ``history`` ``(t, x, v, force)`` of shape ``(steps + 1, n)`` (NaN after
-    separation).
+    (the largest of ``force(state)`` at the steps), ``state`` (the state
+    at separation, by the same interpolation as the time) and, when asked,
+    the sampled ``history`` ``(t, indentation, rate, force)``, each of
+    shape ``(steps + 1, n)`` (NaN after separation).
     """
 
     duration: np.ndarray
     rebound: np.ndarray
     largest_indentation: np.ndarray
     peak_force: np.ndarray
+    state: np.ndarray
     history: tuple | None = None
 
 
-def integrate_contacts(speed, acceleration, force, step, max_steps, record=False):
-    """Follow many contacts from first touch (``x = 0``, ``x' = speed``)
-    until the indentation returns to 0, all at once.
+def _hermite(u, h, x0, v0, x1, v1):
+    """Cubic Hermite interpolant through ``(x0, v0)``, ``(x1, v1)`` over a step
+    ``h``, and its slope, at the fraction ``u`` of the step."""
+    value = (2 * u**3 - 3 * u**2 + 1) * x0 + (u**3 - 2 * u**2 + u) * h * v0 + (-2 * u**3 + 3 * u**2) * x1 \
+        + (u**3 - u**2) * h * v1
+    slope = ((6 * u**2 - 6 * u) * x0 + (3 * u**2 - 4 * u + 1) * h * v0 + (-6 * u**2 + 6 * u) * x1
+             + (3 * u**2 - 2 * u) * h * v1) / h
+    return value, slope
 
-    Classical fourth-order Runge-Kutta with a fixed step per contact; the
-    separation time and speed come from the cubic Hermite interpolant of
-    the last step (third order, matching the method's accuracy near the
-    root). Contacts still pressed after ``max_steps`` get NaN.
+
+def integrate_contacts(state, derivative, indentation, force, step, max_steps, record=False):
+    """Follow many contacts from first touch until the indentation returns
+    to 0, all at once.
+
+    The state of each contact is a column of ``state`` (shape ``(m, n)``:
+    for one contact along its normal ``m = 2``, indentation and rate; a
+    model following a body through a contact carries its positions and
+    velocities). Classical fourth-order Runge-Kutta with a fixed step per
+    contact; the separation time comes from the cubic Hermite interpolant
+    of the indentation over the last step (third order, as accurate as the
+    method near the root), and the state there from linear interpolation.
+    Contacts still pressed after ``max_steps`` get NaN.
 
     Parameters
     ----------
-    speed : array_like
-        Indentation rate at first touch, > 0. [m/s]
-    acceleration : callable
-        ``(x, v) -> x''`` for all contacts (arrays of shape ``(n,)``).
+    state : array_like, shape (m, n)
+        At first touch (indentation 0, pressing in).
+    derivative : callable
+        ``state -> d state / dt`` (same shape), for all contacts at once.
+    indentation : callable
+        ``state -> (delta, d delta / dt)``, each ``(n,)``. [m], [m/s]
     force : callable
-        ``(x, v) -> F``, whose largest value is reported.
+        ``state -> F`` ``(n,)``, whose largest value is reported. [N]
     step : array_like
         Time step per contact. [s]
     max_steps : int
     record : bool
         Keep the sampled history (memory ``4 x 8 x steps x n`` bytes).
     """
-    v = np.array(speed, dtype=float, ndmin=1)
-    n = v.size
+    y = np.array(state, dtype=float, ndmin=2)
+    n = y.shape[1]
     h = np.broadcast_to(np.asarray(step, dtype=float), (n,)).copy()
-    x = np.zeros(n)
     t = np.zeros(n)
-    duration = np.full(n, np.nan)
-    rebound = np.full(n, np.nan)
-    largest = np.zeros(n)
-    peak = np.zeros(n)
+    duration, rebound = np.full(n, np.nan), np.full(n, np.nan)
+    largest, peak = np.zeros(n), np.zeros(n)
+    final = np.full_like(y, np.nan)
     live = np.ones(n, bool)
-    samples = [] if record else None
-    if record:
-        samples.append((t.copy(), x.copy(), v.copy(), force(x, v)))
+    x, v = indentation(y)
+    samples = [(t.copy(), x.copy(), v.copy(), force(y))] if record else None
     for _ in range(int(max_steps)):
         if not live.any():
             break
-        k1x, k1v = v, acceleration(x, v)
-        k2x, k2v = v + 0.5 * h * k1v, acceleration(x + 0.5 * h * k1x, v + 0.5 * h * k1v)
-        k3x, k3v = v + 0.5 * h * k2v, acceleration(x + 0.5 * h * k2x, v + 0.5 * h * k2v)
-        k4x, k4v = v + h * k3v, acceleration(x + h * k3x, v + h * k3v)
-        x_new = x + h / 6 * (k1x + 2 * k2x + 2 * k3x + k4x)
-        v_new = v + h / 6 * (k1v + 2 * k2v + 2 * k3v + k4v)
+        k1 = derivative(y)
+        k2 = derivative(y + 0.5 * h * k1)
+        k3 = derivative(y + 0.5 * h * k2)
+        k4 = derivative(y + h * k3)
+        y_new = y + h / 6 * (k1 + 2 * k2 + 2 * k3 + k4)
+        x_new, v_new = indentation(y_new)
         leaving = live & (x_new <= 0.0) & (t > 0)
         if leaving.any():
-            # separation inside this step: root of the Hermite cubic through
-            # (x, v) and (x_new, v_new), by a few Newton steps from the secant
+            # the root of the Hermite cubic, by Newton's method from the secant
             i = np.flatnonzero(leaving)
             x0, v0, x1, v1, hh = x[i], v[i], x_new[i], v_new[i], h[i]
             u = x0 / (x0 - x1)
             for _ in range(8):
-                h00, h10, h01, h11 = 2 * u**3 - 3 * u**2 + 1, u**3 - 2 * u**2 + u, -2 * u**3 + 3 * u**2, u**3 - u**2
-                value = h00 * x0 + h10 * hh * v0 + h01 * x1 + h11 * hh * v1
-                slope = ((6 * u**2 - 6 * u) * x0 + (3 * u**2 - 4 * u + 1) * hh * v0
-                         + (-6 * u**2 + 6 * u) * x1 + (3 * u**2 - 2 * u) * hh * v1) / hh
+                value, slope = _hermite(u, hh, x0, v0, x1, v1)
                 u = np.clip(u - value / (slope * hh), 0.0, 1.0)
-            slope = ((6 * u**2 - 6 * u) * x0 + (3 * u**2 - 4 * u + 1) * hh * v0
-                     + (-6 * u**2 + 6 * u) * x1 + (3 * u**2 - 2 * u) * hh * v1) / hh
+            _, slope = _hermite(u, hh, x0, v0, x1, v1)
             duration[i] = t[i] + u * hh
             rebound[i] = slope
+            final[:, i] = y[:, i] + u * (y_new[:, i] - y[:, i])
             live[i] = False
-        moving = live
-        x = np.where(moving, x_new, x)
-        v = np.where(moving, v_new, v)
-        t = np.where(moving, t + h, t)
-        largest = np.where(moving, np.maximum(largest, x), largest)
-        peak = np.where(moving, np.maximum(peak, force(x, v)), peak)
+        y = np.where(live, y_new, y)
+        x, v = np.where(live, x_new, x), np.where(live, v_new, v)
+        t = np.where(live, t + h, t)
+        f = force(y)
+        largest = np.where(live, np.maximum(largest, x), largest)
+        peak = np.where(live, np.maximum(peak, f), peak)
         if record:
-            samples.append((np.where(moving | leaving, t, np.nan), np.where(moving, x, np.nan),
-                            np.where(moving, v, np.nan), np.where(moving, force(x, v), np.nan)))
+            samples.append((np.where(live | leaving, t, np.nan), np.where(live, x, np.nan),
+                            np.where(live, v, np.nan), np.where(live, f, np.nan)))
     largest = np.where(np.isnan(duration), np.nan, largest)
     peak = np.where(np.isnan(duration), np.nan, peak)
     history = tuple(np.array(column) for column in zip(*samples)) if record else None
-    return ContactRun(duration, rebound, largest, peak, history)
+    return ContactRun(duration, rebound, largest, peak, final, history)
 
 
 def scaled_acceleration(damping):
@@ -187,5 +201,7 @@ def scaled_contacts(damping, steps=2000, record=False):
     in ``delta_0``, force in ``K delta_0^(3/2)``.
     """
     c = np.array(damping, dtype=float, ndmin=1)
-    return integrate_contacts(np.ones_like(c), scaled_acceleration(c), scaled_force(c), scaled_step(c, steps),
-                              max_steps=3 * steps, record=record)
+    acceleration, force = scaled_acceleration(c), scaled_force(c)
+    return integrate_contacts(np.stack([np.zeros_like(c), np.ones_like(c)]),
+                              lambda y: np.stack([y[1], acceleration(y[0], y[1])]), lambda y: (y[0], y[1]),
+                              lambda y: force(y[0], y[1]), scaled_step(c, steps), max_steps=3 * steps, record=record)

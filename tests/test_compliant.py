@@ -149,3 +149,54 @@ def test_no_materials_give_nan_contact_outputs():
     _, result = _capsule_drop(60.0)
     loads = contact_load.impact_loads(result, np.nan)
     assert np.isnan(loads["contact_time"][0, 0]) and np.isfinite(loads["normal_speed"][0, 0])
+
+
+def _tilted_capsule_contact(modulus):
+    """A frictionless elastic cap contact of a capsule at 40 deg falling at
+    2 m/s, followed with the body's own state (height, angle, their rates)."""
+    capsule = sim.Capsule(length=0.014, radius=0.0035, density=1200.0)
+    m, inertia, half = float(capsule.mass), float(capsule.inertia), 0.007
+    theta0, speed = np.radians(40.0), 2.0
+    stiffness = compliant.hertz_stiffness(modulus, 0.0035)
+
+    def depth(theta):  # docs/physics.md section 2, lower cap: d and d'
+        return half * np.sin(theta) + 0.0035, half * np.cos(theta)
+
+    def indentation(y):
+        d, d_prime = depth(y[1])
+        return d - y[0], d_prime * y[3] - y[2]
+
+    def force(y):
+        return compliant.damped_hertz_force(*indentation(y), stiffness, 0.0)
+
+    def derivative(y):
+        f = force(y)
+        return np.stack([y[2], y[3], f / m, -depth(y[1])[1] * f / inertia])  # torque r_x F, r_x = -d'
+
+    r_x = -depth(theta0)[1]
+    m_star = 1 / (1 / m + r_x ** 2 / inertia)
+    t_c = hertz.hertz_duration(m_star, speed, modulus, 0.0035)
+    run = compliant.integrate_contacts(np.array([[depth(theta0)[0]], [theta0], [-speed], [0.0]]), derivative,
+                                       indentation, force, t_c / 2000, 6000)
+    # rigid, frictionless, e = 1 (docs/physics.md section 4): p = 2 m* v
+    p = 2 * m_star * speed
+    rigid = (-speed + p / m, r_x * p / inertia)
+    return run, rigid, t_c, (m, inertia, speed)
+
+
+@pytest.mark.slow  # two contacts of 2000 steps each (~1.3 s)
+def test_integrator_follows_a_tilted_capsule_to_the_rigid_answer():
+    # Routh's method (Stronge 2000) is the stiff limit of the compliant
+    # contact: without friction and with e = 1 every law gives u_n' = -u_n
+    run, rigid, t_c, (m, inertia, speed) = _tilted_capsule_contact(E_STEEL)
+    stiff, stiff_rigid, _, _ = _tilted_capsule_contact(100 * E_STEEL)
+    vy, omega = run.state[2, 0], run.state[3, 0]
+    # the angle turns by 0.0024 rad during the contact: 1e-3 of the speed off
+    assert vy == pytest.approx(rigid[0], abs=1e-3 * speed)
+    assert omega == pytest.approx(rigid[1], rel=1e-4)
+    # and the miss shrinks as the contact stiffens (a hundredfold modulus)
+    assert abs(stiff.state[2, 0] - rigid[0]) < 0.2 * abs(vy - rigid[0])
+    # energy is conserved by the elastic contact (to the integrator's accuracy)
+    assert 0.5 * m * vy ** 2 + 0.5 * inertia * omega ** 2 == pytest.approx(0.5 * m * speed ** 2, rel=1e-8)
+    # and it lasts Johnson's time with the effective mass (sections 4 and 7)
+    assert run.duration[0] == pytest.approx(t_c, rel=1e-3)
