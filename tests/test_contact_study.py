@@ -97,3 +97,10 @@ def test_study_contact_mistakes(change, words):
     text = "\n".join(caught.value.messages)
     for word in words:
         assert word in text
+
+
+def test_report_lists_the_contact_settings():
+    from hopscape.report import contact_rows
+    study = parse_study(study_yaml({**BALLS, "contact": {**BALLS["contact"], "speed_exponent": 0.25}}))
+    rows = {name: value for name, _, value in contact_rows(study)}
+    assert rows == {"body material": "steel", "floor material": "steel", "reference speed": "1 m/s"}
