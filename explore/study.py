@@ -567,6 +567,9 @@ def contradictions(sections):
             problems.append((("metric", "kind"), f"kind {metric.kind} needs the contact model's materials: give "
                              "body.material and contact.floor_material (or body.modulus and body.poisson, "
                              "contact.floor_modulus and contact.floor_poisson)"))
+        if metric is not None and metric.kind == "breakage" and metric.threshold >= 1:
+            problems.append((("metric", "threshold"), f"kind breakage compares a probability with threshold, which "
+                             f"must then be below 1 (e.g. 0.01), got {number_text(metric.threshold)}"))
         if "breakage" in needs and settings["breakage_f_mat"] is None:
             problems.append((("metric", "kind"), f"kind {metric.kind} needs body.breakage_f_mat and "
                              "body.breakage_w_min (Vogel & Peukert's material parameters)"))
