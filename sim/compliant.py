@@ -73,7 +73,8 @@ class ContactRun:
 
     ``duration`` [s or scaled], ``rebound`` (the indentation rate at
     separation, negative: leaving), ``largest_indentation``, ``peak_force``
-    (the largest of ``force(state)`` at the steps), ``state`` (the state
+    (the largest of ``force(state)``, between the steps by a parabola
+    through three samples), ``state`` (the state
     at separation, by the same interpolation as the time) and, when asked,
     the sampled ``history`` ``(t, indentation, rate, force)``, each of
     shape ``(steps + 1, n)`` (NaN after separation).
@@ -135,7 +136,8 @@ def integrate_contacts(state, derivative, indentation, force, step, max_steps, r
     final = np.full_like(y, np.nan)
     live = np.ones(n, bool)
     x, v = indentation(y)
-    samples = [(t.copy(), x.copy(), v.copy(), force(y))] if record else None
+    f_before = f_last = force(y)
+    samples = [(t.copy(), x.copy(), v.copy(), f_last)] if record else None
     for _ in range(int(max_steps)):
         if not live.any():
             break
@@ -164,7 +166,15 @@ def integrate_contacts(state, derivative, indentation, force, step, max_steps, r
         t = np.where(live, t + h, t)
         f = force(y)
         largest = np.where(live, np.maximum(largest, x), largest)
-        peak = np.where(live, np.maximum(peak, f), peak)
+        # the peak between samples: the vertex of the parabola through the
+        # last three forces where the middle one is the highest (steps are
+        # equal), so a sharp early peak is not cut off by the sampling
+        bend = 2 * f_last - f_before - f
+        with np.errstate(invalid="ignore", divide="ignore"):
+            vertex = np.where((f_last >= f_before) & (f_last >= f) & (bend > 0),
+                              f_last + (f_before - f) ** 2 / (8 * bend), f_last)
+        peak = np.where(live, np.maximum(peak, np.maximum(f, vertex)), peak)
+        f_before, f_last = f_last, f
         if record:
             samples.append((np.where(live | leaving, t, np.nan), np.where(live, x, np.nan),
                             np.where(live, v, np.nan), np.where(live, f, np.nan)))
