@@ -15,7 +15,6 @@ import numpy as np
 from hopscape.sim.limits import F_MAT, POSITIVE_SIZE, W_MIN, number_text
 from hopscape.sim.materials import MODULUS, POISSON, effective_modulus, materials
 
-from .batch_contract import CONTACT_COLUMNS  # noqa: F401 (declared with the contract)
 
 SIDES = ("body", "floor")
 

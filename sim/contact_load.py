@@ -153,7 +153,6 @@ def force_histories(result, drop, effective_modulus, edge_radius=None, samples=2
     impact (empty arrays where the impact has no contact outputs)."""
     loads = impact_loads(result, effective_modulus, edge_radius)
     count = int(result.count[drop])
-    speed = loads["normal_speed"][drop, :count]
     time_scale = loads["contact_time"][drop, :count]
     ok = np.isfinite(time_scale)
     e = loads["restitution_used"][drop, :count]
@@ -169,5 +168,4 @@ def force_histories(result, drop, effective_modulus, edge_radius=None, samples=2
         seconds = t[keep, column] / run.duration[column] * time_scale[i]
         newtons = f[keep, column] / run.peak_force[column] * loads["peak_force"][drop, i]
         curves[i] = (seconds, newtons)
-    del speed
     return curves
