@@ -97,14 +97,16 @@ def _row_errors(frame, law):
 
 
 def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
-              progress=None, warn=None):
+              progress=None, warn=None, restitution_table=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 
     Rows that cannot be simulated appear once, with ``impact`` empty and the
     reason in ``error``; they never stop the batch. ``warn``, if given, is
     called once before anything is simulated with the list of warnings
     about implausible values (:mod:`explore.plausibility`), one line per
-    column and shape.
+    column and shape. ``restitution_table`` (``(speed [m/s], restitution)``
+    pairs, :class:`sim.Contact`) replaces every row's restitution and
+    speed law.
     """
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
@@ -150,7 +152,8 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
                               spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good],
                               floor_angle=np.radians(num["floor_angle"][good]))
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]),
-                              speed_exponent=num["speed_exponent"][good], reference_speed=num["reference_speed"][good])
+                              speed_exponent=num["speed_exponent"][good], reference_speed=num["reference_speed"][good],
+                              restitution_table=restitution_table)
         result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
         edge = rim_edge[good]
         loads = impact_loads(result, e_star[good], np.where(np.isnan(edge), rim_edge_default(shapes.profile), edge),

@@ -123,6 +123,26 @@ def _contact_options(parser):
                             help=(f"[{unit}] {rest}" if unit else rest).replace("%", "%%"))
 
 
+def _restitution_table(text):
+    """An option's converter: ``speed:restitution,speed:restitution,...``
+    (at least two pairs, speeds rising) as a tuple of pairs."""
+    from hopscape.sim.impact import check_restitution_table
+    try:
+        pairs = tuple(tuple(float(x) for x in pair.split(":")) for pair in text.split(","))
+        return tuple(map(tuple, check_restitution_table(pairs).tolist()))
+    except ValueError as exc:
+        reason = str(exc) if "restitution_table" in str(exc) else "pairs must read speed:restitution"
+        raise argparse.ArgumentTypeError(f"{reason.replace('restitution_table ', '')} (e.g. 0.5:0.9,1:0.8,3:0.6; "
+                                         f"got {shown(text)})")
+
+
+def _table_option(parser, rows=""):
+    parser.add_argument("--restitution-table", type=_restitution_table, default=None,
+                        help="measured restitution against normal impact speed, speed:restitution pairs [m/s:-] "
+                             "with speeds rising, e.g. 0.5:0.9,1:0.8,3:0.6; linear between them, the end values "
+                             "beyond; replaces the restitution" + rows + " and its speed law")
+
+
 def _contact_loads(args, shape, result):
     """Per-impact contact outputs of a drop (NaN without materials) and the
     settings they came from."""
@@ -165,6 +185,7 @@ def build_parser():
     d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
     d.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
     _contact_options(d)
+    _table_option(d)
     d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
@@ -202,6 +223,7 @@ def build_parser():
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
     _merge_window_options(b)
+    _table_option(b, " column of every row")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
@@ -290,8 +312,10 @@ def cmd_drop(args):
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=np.radians(floor_angle))
+        if args.restitution_table is not None and args.speed_exponent:
+            raise ValueError("give --restitution-table or --speed-exponent, not both")
         contact = sim.Contact(args.restitution, args.friction, args.law, speed_exponent=args.speed_exponent,
-                              reference_speed=args.reference_speed)
+                              reference_speed=args.reference_speed, restitution_table=args.restitution_table)
         return sim.simulate(shape, release, contact, impacts=args.impacts)
 
     shape = _user_value_errors(body)
@@ -374,7 +398,7 @@ def cmd_batch(args):
               file=sys.stderr)
     start = time.perf_counter()
     table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=merge_window,
-                      warn=lambda lines: report_warnings(lines, args.strict))
+                      warn=lambda lines: report_warnings(lines, args.strict), restitution_table=args.restitution_table)
     elapsed = time.perf_counter() - start
     write_table(table, args.out)
     failed = int((table["error"] != "").sum())

@@ -109,7 +109,9 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
                               out[COLUMN["friction"]].to_numpy()[idx], study.contact.law,
                               speed_exponent=out[COLUMN["speed_exponent"]].to_numpy()[idx]
                               if COLUMN["speed_exponent"] in out else 0.0,
-                              reference_speed=study.contact.reference_speed)
+                              reference_speed=study.contact.reference_speed,
+                              restitution_table=None if study.contact.restitution_table is None
+                              else tuple(study.contact.restitution_table))
         # only the study's reference point's peaks are read: the others' searches are skipped
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1),
                               peaks=(study.metric.reference,))

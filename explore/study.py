@@ -256,10 +256,32 @@ class Contact(_Section):
     speed_exponent: Optional[Quantity] = _quantity_field("speed_exponent", None)
     reference_speed: float = _number_field(REFERENCE_SPEED, "normal impact speed at which the restitution is "
                                            "`restitution` [m/s]", 1.0)
+    # measured (normal impact speed [m/s], restitution) pairs: replace restitution
+    restitution_table: Optional[list[list[float]]] = Field(
+        None, description="measured restitution against normal impact speed: [[speed, restitution], ...], speeds "
+                          "rising; replaces restitution and speed_exponent")
     floor_material: Optional[Literal[tuple(materials())]] = Field(
         None, description="floor material for contact duration and force (hopscape.sim.materials)")
     floor_modulus: Optional[float] = _number_field(MODULUS, "Young's modulus of the floor [Pa]")
     floor_poisson: Optional[float] = _number_field(POISSON, "Poisson's ratio of the floor [-]")
+
+
+    @field_validator("restitution_table", mode="after")
+    @classmethod
+    def _table(cls, table):
+        if table is not None:
+            from hopscape.sim.impact import check_restitution_table
+            check_restitution_table(table)
+        return table
+
+    @model_validator(mode="after")
+    def _one_restitution(self):
+        if self.restitution_table is not None and self.speed_exponent is not None:
+            raise _problems("contact", [(("speed_exponent",), "give restitution_table or speed_exponent, not both")])
+        if self.restitution_table is not None and self.restitution.varies:
+            raise _problems("contact", [(("restitution",), "restitution_table replaces restitution: fix "
+                                                           "restitution (its value is then not used)")])
+        return self
 
 
 class Release(_Section):

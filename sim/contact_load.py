@@ -36,7 +36,7 @@ from .compliant import hertz_stiffness, scaled_contacts
 from ._vector import sincos
 from .geometry import corner_offset, flat_sign
 from .hertz import BAND, equivalent_radius, feature_at, hertz_peak_pressure, principal_radii
-from .impact import speed_restitution
+from .impact import speed_restitution, table_restitution
 
 #: Per-impact outputs of :func:`impact_loads`, with units.
 LOAD_FIELDS = {
@@ -74,9 +74,12 @@ def impact_state(result):
     mass, inertia = _per_impact(result.mass, shape), _per_impact(result.inertia, shape)
     effective_mass = 1.0 / (1.0 / mass + r_x ** 2 / inertia)
     release = result.release
-    e = speed_restitution(_per_impact(release["restitution"], shape), u_n,
-                          _per_impact(release.get("speed_exponent", 0.0), shape),
-                          _per_impact(release.get("reference_speed", 1.0), shape))
+    if release.get("restitution_table") is not None:
+        e = table_restitution(u_n, release["restitution_table"])
+    else:
+        e = speed_restitution(_per_impact(release["restitution"], shape), u_n,
+                              _per_impact(release.get("speed_exponent", 0.0), shape),
+                              _per_impact(release.get("reference_speed", 1.0), shape))
     feature = feature_at(along, across, profile)
     return feature, profile, u_n, u_t, effective_mass, e, (sin, cos)
 

@@ -56,7 +56,8 @@ import numpy as np
 from ._memory import keep_freed_memory
 from .flight import GRAVITY, floor_gravity
 from .geometry import contact_offset_at, curvature_bound, depth, depth_range
-from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact, speed_restitution
+from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_matrix, law_codes, routh_impact,
+                     speed_restitution, table_restitution)
 from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
 from .peaks import flight_peaks
 from .search import next_contact
@@ -146,6 +147,11 @@ class Contact:
         ``restitution`` at every speed. [-]
     reference_speed : float or array
         Normal impact speed at which the restitution is ``restitution``. [m/s]
+    restitution_table : sequence of (float, float), optional
+        Measured ``(normal impact speed [m/s], restitution)`` pairs, speeds
+        rising; when given, every impact's restitution is read from it
+        (:func:`sim.impact.table_restitution`) instead of ``restitution``
+        and its speed law.
     """
 
     restitution: float | np.ndarray = 0.8
@@ -153,11 +159,14 @@ class Contact:
     law: str | tuple = LAWS[0]
     speed_exponent: float | np.ndarray = 0.0
     reference_speed: float | np.ndarray = 1.0
+    restitution_table: tuple | None = None
 
     def __post_init__(self):
         RESTITUTION.check("restitution", self.restitution)
         SPEED_EXPONENT.check("speed_exponent", self.speed_exponent)
         REFERENCE_SPEED.check("reference_speed", self.reference_speed)
+        if self.restitution_table is not None:
+            check_restitution_table(self.restitution_table)
         FRICTION.check("friction", self.friction)
         law_codes(self.law, np.size(self.law) if not isinstance(self.law, str) else 1)
 
@@ -402,10 +411,11 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         _run_chunk(sl, k, settle_fraction, mass[sl], inertia[sl], (hl[sl], hw[sl], rl[sl], rw[sl]),
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
-                   count[sl], points, (exponent[sl], reference_speed[sl]))
+                   count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table)
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
                      "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle,
-                     "speed_exponent": exponent, "reference_speed": reference_speed}
+                     "speed_exponent": exponent, "reference_speed": reference_speed,
+                     "restitution_table": contact.restitution_table}
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
 
 
@@ -460,7 +470,7 @@ class _Flying:
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
 
-def _strike(live, along, across):
+def _strike(live, along, across, restitution_table=None):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -478,7 +488,9 @@ def _strike(live, along, across):
     u_t = v_x - w * r_y
     u_n = v_y + w * r_x
     restitution = live.restitution
-    if np.any(live.speed_exponent):
+    if restitution_table is not None:
+        restitution = table_restitution(u_n, restitution_table)
+    elif np.any(live.speed_exponent):
         restitution = speed_restitution(restitution, u_n, live.speed_exponent, live.reference_speed)
     p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, restitution, live.friction, live.law)
     v_x2 = v_x + p_t / m_i
@@ -496,7 +508,8 @@ def _strike(live, along, across):
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
-               e, mu, laws, gravity, out, status, count, points=("bottom", "top"), speed_law=None):
+               e, mu, laws, gravity, out, status, count, points=("bottom", "top"), speed_law=None,
+               restitution_table=None):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
@@ -584,7 +597,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             live.x += 0.5 * live.gravity_along * tau ** 2
             live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across)
+        record, separating, ke_after = _strike(live, along, across, restitution_table)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)

@@ -156,3 +156,21 @@ def test_drop_help_shows_the_contact_options(capsys):
     assert main(["drop", "--help"]) == 0
     out = capsys.readouterr().out
     assert "--body-material" in out and "default 5% of the smaller" in out and "[-] p of restitution" in out
+
+
+def test_restitution_table_option(tmp_path, capsys):
+    # batch: one table for every row, replacing the restitution column
+    source = tmp_path / "drops.csv"
+    source.write_text("shape,radius,density,height,angle,restitution,friction\nsphere,0.005,1200,0.205,0,0.3,0\n")
+    out = tmp_path / "out.csv"
+    assert main(["batch", str(source), "--out", str(out), "--impacts", "1",
+                 "--restitution-table", "0.5:0.9,1:0.8,3:0.6"]) == 0
+    row = pd.read_csv(out).iloc[0]
+    v = np.sqrt(2 * GRAVITY * 0.2)
+    assert row["restitution_used"] == pytest.approx(np.interp(v, (0.5, 1, 3), (0.9, 0.8, 0.6)), rel=1e-9)
+    assert row["vy"] == pytest.approx(row["restitution_used"] * v, rel=1e-9)  # a sphere head on (section 4)
+    capsys.readouterr()
+    assert main(["drop", "--no-plots", "--restitution-table", "1:0.8", "--impacts", "1"]) == 2
+    assert "--restitution-table: must hold at least two" in capsys.readouterr().err
+    assert main(["drop", "--no-plots", "--restitution-table", "1:0.8,2:0.7", "--speed-exponent", "0.2"]) == 2
+    assert "not both" in capsys.readouterr().err

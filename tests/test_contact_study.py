@@ -105,3 +105,21 @@ def test_report_lists_the_contact_settings():
     study = parse_study(study_yaml({**BALLS, "contact": {**BALLS["contact"], "speed_exponent": 0.25}}))
     rows = {name: value for name, _, value in contact_rows(study)}
     assert rows == {"body material": "steel", "floor material": "steel", "reference speed": "1 m/s"}
+
+
+def test_restitution_table_in_a_study(tmp_path):
+    # measured pairs replace the restitution: a sphere's first rebound
+    # height is e(v)^2 times its drop, e read linearly from the table
+    sections = {**BALLS, "contact": {"restitution": 0.5, "friction": 0.0,
+                                     "restitution_table": [[0.5, 0.9], [1, 0.8], [3, 0.6]]},
+                "body": {k: v for k, v in BALLS["body"].items() if k != "material"},
+                "release": {"height": grid(0.02, 0.2, 2), "height_of": "bottom", "angle": 0},
+                "metric": {"kind": "ratio", "bounce": "first", "reference": "bottom"}}
+    table = _grid_table(sections, tmp_path)
+    v = np.sqrt(2 * GRAVITY * np.array([0.02, 0.2]))
+    assert table["ratio_1"].to_numpy() == pytest.approx(np.interp(v, (0.5, 1, 3), (0.9, 0.8, 0.6)) ** 2, rel=1e-9)
+    with pytest.raises(InputError, match="give restitution_table or speed_exponent, not both"):
+        parse_study(study_yaml({**sections, "contact": {**sections["contact"], "speed_exponent": 0.25}}))
+    with pytest.raises(InputError, match="speeds must rise"):
+        parse_study(study_yaml({**sections, "contact": {**sections["contact"],
+                                                        "restitution_table": [[1, 0.8], [0.5, 0.9]]}}))

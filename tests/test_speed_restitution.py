@@ -43,3 +43,28 @@ def test_out_of_range_exponent_is_refused():
         sim.Contact(0.7, 0.3, speed_exponent=1.5)
     with pytest.raises(ValueError, match=r"reference_speed must be > 0 m/s, got 0"):
         sim.Contact(0.7, 0.3, speed_exponent=0.25, reference_speed=0.0)
+
+
+def test_restitution_from_a_measured_table():
+    # a table of (speed, restitution): linear between points, ends beyond
+    from hopscape.sim.impact import table_restitution
+    table = ((0.5, 0.9), (1.0, 0.8), (3.0, 0.6))
+    assert table_restitution(np.array([-0.2, -0.75, -2.0, -5.0]), table) == pytest.approx([0.9, 0.85, 0.7, 0.6])
+    sphere = sim.Sphere(radius=0.005, density=1200.0)
+    heights = np.array([0.02, 0.2])
+    result = sim.simulate(sphere, sim.Release(height=heights + 0.005),
+                          sim.Contact(0.5, 0.0, restitution_table=table), impacts=1)
+    v = np.sqrt(2 * GRAVITY * heights)  # 0.63 and 1.98 m/s
+    assert result.vy[:, 0] == pytest.approx(np.interp(v, (0.5, 1.0, 3.0), (0.9, 0.8, 0.6)) * v, rel=1e-9)
+
+
+@pytest.mark.parametrize("table, words", [
+    (((1.0, 0.8),), "at least two"),
+    (((1.0, 0.8), (0.5, 0.9)), "speeds must rise"),
+    (((1.0, 0.8), (2.0, 1.3)), "restitution_table restitution must be in [0, 1], got 1.3"),
+    (((0.0, 0.8), (2.0, 0.3)), "restitution_table speed must be > 0 m/s, got 0"),
+])
+def test_bad_restitution_tables(table, words):
+    with pytest.raises(ValueError) as caught:
+        sim.Contact(0.7, 0.3, restitution_table=table)
+    assert words in str(caught.value)
