@@ -434,7 +434,7 @@ class Drop:
 def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, density=1200.0, height=0.3,
          height_of="centre", angle=30.0, spin=0.0, vx=0.0, vy=0.0, floor_angle=0.0, restitution=0.8,
          friction=0.3, law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, camera_fps=None,
-         speed_exponent=0.0, reference_speed=1.0, body_material=None, floor_material=None, body_modulus=None,
+         speed_exponent=0.0, reference_speed=1.0, restitution_table=None, body_material=None, floor_material=None, body_modulus=None,
          body_poisson=None, floor_modulus=None, floor_poisson=None, rim_edge_radius=None, breakage_f_mat=None,
          breakage_w_min=None, **dimensions):
     """Simulate one drop, as ``hopscape drop`` does (same defaults).
@@ -484,6 +484,9 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
     speed_exponent, reference_speed : float, optional
         Restitution ``restitution (v_n / reference_speed)^-speed_exponent``
         [-], [m/s] (default: the same at every speed).
+    restitution_table : sequence of (float, float), optional
+        Measured ``(normal impact speed [m/s], restitution)`` pairs, speeds
+        rising, instead of ``restitution`` and its speed law.
     body_material, floor_material : str, optional
         Names of ``hopscape.sim.materials.materials()``; with both sides
         given (by name or by modulus and Poisson's ratio) ``.impacts`` has
@@ -540,7 +543,8 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         body_material=body_material, floor_material=floor_material, body_modulus=body_modulus,
         body_poisson=body_poisson, floor_modulus=floor_modulus, floor_poisson=floor_poisson,
         rim_edge_radius=rim_edge_radius, breakage_f_mat=breakage_f_mat, breakage_w_min=breakage_w_min))
-    contact = sim.Contact(restitution, friction, law, speed_exponent=speed_exponent, reference_speed=reference_speed)
+    contact = sim.Contact(restitution, friction, law, speed_exponent=speed_exponent, reference_speed=reference_speed,
+                          restitution_table=None if restitution_table is None else tuple(map(tuple, restitution_table)))
     result = sim.simulate(shape, release, contact, impacts=impacts)
     loads = impact_loads(result, e_star, rim_edge_default(shape.profile) if np.isnan(edge) else edge,
                          None if np.isnan(breakage[0]) else breakage)
