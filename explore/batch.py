@@ -16,7 +16,7 @@ from hopscape.sim.impact import LAWS, SLIP_HISTORY
 from hopscape.sim.limits import DENSITY, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT, number_text
 
 from hopscape.sim.contact_load import impact_loads
-from hopscape.sim.hertz import FEATURES, rim_edge_default
+from hopscape.sim.hertz import FEATURES, RIM_WARNING, rim_edge_default
 
 from .batch_contract import DIMENSIONS, INPUT_COLUMNS, NUMBERS, OUTPUT_COLUMNS  # noqa: F401 (the contract)
 from .contact_inputs import contact_settings
@@ -136,7 +136,14 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         return sim.shapes.make_shapes(kinds[rows], density=num["density"][rows], **sizes)
 
     if warn is not None:
-        warn(_warnings(kinds, num, good, bodies))
+        lines = _warnings(kinds, num, good, bodies)
+        if good.size:
+            # a body without a round part has sharp rims: not Hertzian
+            _, _, round_long, round_wide = bodies(good).profile
+            sharp = good[(round_long == 0) & (round_wide == 0) & np.isfinite(e_star[good])]
+            if sharp.size:
+                lines.append(f"{sharp.size} row(s) (first: drop {sharp[0]}): {RIM_WARNING}")
+        warn(lines)
     # a body inside the floor is a per-row error too
     if good.size:
         shapes = bodies(good)

@@ -130,6 +130,12 @@ def study_warnings(study):
                 found.append((loc, message))
                 return
 
+    # a body without a round part (a flat-ended cylinder) has sharp rims;
+    # a unit body of the kind says whether it has one
+    sharp = shape(density=1.0, **{d.name: 1.0 for d in shape.dimensions if d.required}).round_long == 0
+    if sharp and (study.body.material is not None or study.body.modulus is not None):
+        from hopscape.sim.hertz import RIM_WARNING
+        found.append((("body", "shape"), RIM_WARNING))
     for loc, value in ((("body", "modulus"), study.body.modulus), (("contact", "floor_modulus"),
                                                                    study.contact.floor_modulus),
                        (("contact", "reference_speed"), study.contact.reference_speed)):

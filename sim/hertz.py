@@ -69,6 +69,11 @@ def feature_at(along, across, profile):
     return np.where((half_long > 0) & (along == 0), BAND, feature).astype(np.int8)
 
 
+#: What a user is told when a sharp rim meets the contact model.
+RIM_WARNING = ("a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact: its contact outputs use an edge "
+               "radius (rim_edge_radius, default 5% of the smaller of radius and half length) and are a guide only")
+
+
 def rim_edge_default(profile):
     """Edge radius given to a sharp rim when the user gives none. [m]"""
     half_long, half_wide, _, _ = profile

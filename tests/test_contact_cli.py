@@ -174,3 +174,15 @@ def test_restitution_table_option(tmp_path, capsys):
     assert "--restitution-table: must hold at least two" in capsys.readouterr().err
     assert main(["drop", "--no-plots", "--restitution-table", "1:0.8,2:0.7", "--speed-exponent", "0.2"]) == 2
     assert "not both" in capsys.readouterr().err
+
+
+def test_sharp_rims_are_flagged_as_not_hertzian(tmp_path, capsys):
+    source = tmp_path / "drops.csv"
+    source.write_text("shape,length,radius,density,height,angle,restitution,friction,body_material,floor_material\n"
+                      "cylinder,0.004,0.005,1200,0.3,40,0.8,0.3,acrylic,steel\n"
+                      "capsule,0.014,0.0035,1200,0.3,40,0.8,0.3,acrylic,steel\n")
+    assert main(["batch", str(source), "--out", str(tmp_path / "out.csv")]) == 0
+    err = capsys.readouterr().err
+    assert "1 row(s) (first: drop 0): a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact" in err
+    table = pd.read_csv(tmp_path / "out.csv")
+    assert (table.loc[table["drop"] == 0, "struck"] == "rim").any()
