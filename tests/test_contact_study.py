@@ -123,3 +123,11 @@ def test_restitution_table_in_a_study(tmp_path):
     with pytest.raises(InputError, match="speeds must rise"):
         parse_study(study_yaml({**sections, "contact": {**sections["contact"],
                                                         "restitution_table": [[1, 0.8], [0.5, 0.9]]}}))
+
+
+def test_a_sharp_rim_in_a_study_is_warned_about():
+    rod = {**BALLS, "body": {"shape": "cylinder", "diameter": 0.006, "length": 0.02, "material": "acrylic"}}
+    warnings = parse_study(study_yaml(rod)).warnings
+    assert any("body.shape: a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact" in w
+               for w in warnings)
+    assert not any("sharp edge" in w for w in parse_study(study_yaml(BALLS)).warnings)
