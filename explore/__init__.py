@@ -434,7 +434,8 @@ class Drop:
 def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, density=1200.0, height=0.3,
          height_of="centre", angle=30.0, spin=0.0, vx=0.0, vy=0.0, floor_angle=0.0, restitution=0.8,
          friction=0.3, law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, camera_fps=None,
-         speed_exponent=0.0, reference_speed=1.0, restitution_table=None, body_material=None, floor_material=None, body_modulus=None,
+         speed_exponent=0.0, reference_speed=1.0, restitution_table=None, body_material=None, floor_material=None,
+         body_modulus=None,
          body_poisson=None, floor_modulus=None, floor_poisson=None, rim_edge_radius=None, breakage_f_mat=None,
          breakage_w_min=None, **dimensions):
     """Simulate one drop, as ``hopscape drop`` does (same defaults).

@@ -165,11 +165,12 @@ def declared_range(field):
 
 
 def _number_field(allowed, words, default=None):
-    """An optional plain number checked against ``allowed`` (a
-    :class:`sim.limits.Interval`) by :class:`_Section`."""
-    return Field(default, description=f"{words}, {allowed.describe()}", json_schema_extra={"allowed": allowed.describe()},
-                 **{"ge" if allowed.closed in ("both", "left") else "gt": allowed.low}
-                 if math.isfinite(allowed.low) else {},
+    """A plain number (optional by default) bounded by ``allowed`` (a
+    :class:`sim.limits.Interval`) through pydantic's ``ge``/``gt``/``le``/``lt``,
+    which :func:`declared_range` reads back."""
+    return Field(default, description=f"{words}, {allowed.describe()}",
+                 **({"ge" if allowed.closed in ("both", "left") else "gt": allowed.low}
+                    if math.isfinite(allowed.low) else {}),
                  **({"le" if allowed.closed in ("both", "right") else "lt": allowed.high}
                     if math.isfinite(allowed.high) else {}))
 

@@ -539,7 +539,8 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         index=np.arange(n), time=np.zeros(n), x=np.zeros(n), y=y0.copy(), vx=vx0.copy(), vy=vy0.copy(),
         theta=th0.copy(), spin=om0.copy(), mass=mass, inertia=inertia, half_long=profile[0],
         half_wide=profile[1], round_long=profile[2], round_wide=profile[3], restitution=e, friction=mu,
-        law=laws, speed_exponent=speed_law[0], reference_speed=speed_law[1], curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
+        law=laws, speed_exponent=speed_law[0], reference_speed=speed_law[1],
+        curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
         gravity=g_n, gravity_along=g_t, stretch=stretch, rest_energy=rest_energy,
         excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * g_n * y0
                            - rest_energy),
