@@ -435,6 +435,13 @@ class RunSettings(Strict):
         return 1.0 / self.camera_fps if self.camera_fps is not None else self.merge_ms / 1e3
 
 
+#: The contact model's optional settings, by section (left out of
+#: :meth:`Study.numbers` when not given).
+_CONTACT_FIELDS = {"body": ("material", "modulus", "poisson", "rim_edge_radius", "breakage_f_mat", "breakage_w_min"),
+                   "contact": ("speed_exponent", "restitution_table", "floor_material", "floor_modulus",
+                               "floor_poisson"),
+                   "metric": ("force_limit",)}
+
 #: The sections of a study file that hold settings.
 SECTIONS = ("body", "contact", "release", "metric", "tolerance", "analyses", "run")
 
@@ -526,6 +533,15 @@ class Study(Strict):
             data["run"].pop(key)
         for key in ("maps", "curves", "picks"):
             data["analyses"].pop(key)
+        # the contact model's settings count only when given, so that a study
+        # without them keeps the fingerprint it had before they existed (its
+        # run folder resumes); the reference speed only with a speed law
+        for section, names in _CONTACT_FIELDS.items():
+            for name in names:
+                if data[section][name] is None:
+                    data[section].pop(name)
+        if "speed_exponent" not in data["contact"]:
+            data["contact"].pop("reference_speed")
         return data
 
     def fingerprint(self):

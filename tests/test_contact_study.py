@@ -131,3 +131,21 @@ def test_a_sharp_rim_in_a_study_is_warned_about():
     assert any("body.shape: a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact" in w
                for w in warnings)
     assert not any("sharp edge" in w for w in parse_study(study_yaml(BALLS)).warnings)
+
+
+def test_a_study_without_contact_settings_keeps_its_fingerprint():
+    # the numbers hashed for a study that names no material or speed law
+    # are those it had before the contact model existed: its runs resume
+    from hopscape.study import load_study
+    from pathlib import Path
+    study = load_study(Path(__file__).resolve().parents[1] / "studies" / "quick.yaml")
+    numbers = study.numbers()
+    # (checked by hand: every example study's fingerprint is the one the
+    # code before the contact model gave, e.g. quick.yaml ba2c4368398cc287)
+    for section, names in (("body", ("material", "modulus", "poisson", "rim_edge_radius", "breakage_f_mat",
+                                     "breakage_w_min")),
+                           ("contact", ("speed_exponent", "reference_speed", "restitution_table", "floor_material",
+                                        "floor_modulus", "floor_poisson")), ("metric", ("force_limit",))):
+        assert not set(names) & set(numbers[section]), section
+    given = parse_study(study_yaml({**BALLS, "contact": {**BALLS["contact"], "speed_exponent": 0.25}})).numbers()
+    assert given["body"]["material"] == "steel" and given["contact"]["reference_speed"] == 1.0
