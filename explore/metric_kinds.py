@@ -186,5 +186,5 @@ METRIC_KINDS = {kind.name: kind for kind in (
         is_flag=False, uses_threshold=True, needs=("materials", "breakage"),
         value=lambda outcome, metric: outcome.contact["breakage_probability"],
         words=lambda metric: ("probability that an impact breaks the body [-]",
-                              f"breakage probability above {metric.threshold:g}")),
+                              f"the breakage probability is above {metric.threshold:g}")),
 )}
