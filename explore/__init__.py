@@ -359,11 +359,15 @@ class Drop:
         Everything the simulation recorded (SI units, radians).
     merge_within : float
         Impacts closer than this make one visible bounce. [s]
+    loads : dict or None
+        The contact model's per-impact outputs
+        (:func:`hopscape.sim.contact_load.impact_loads`; NaN without materials).
     """
 
     shape: object
     result: object
     merge_within: float
+    loads: object = None
 
     @property
     def impacts(self):
@@ -371,7 +375,7 @@ class Drop:
         ``angle`` [deg], ``peak_centre`` [m], ...; README, "Batch tables")."""
         from .batch import impact_table
 
-        return impact_table(self.result, self.merge_within)
+        return impact_table(self.result, self.merge_within, loads=self.loads)
 
     @property
     def bounces(self):
@@ -427,7 +431,11 @@ class Drop:
 
 def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, density=1200.0, height=0.3,
          height_of="centre", angle=30.0, spin=0.0, vx=0.0, vy=0.0, floor_angle=0.0, restitution=0.8,
-         friction=0.3, law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, camera_fps=None, **dimensions):
+         friction=0.3, law="energetic", impacts=DEFAULT_IMPACTS, merge_ms=None, camera_fps=None,
+         speed_exponent=0.0, reference_speed=1.0, restitution_table=None, body_material=None, floor_material=None,
+         body_modulus=None,
+         body_poisson=None, floor_modulus=None, floor_poisson=None, rim_edge_radius=None, breakage_f_mat=None,
+         breakage_w_min=None, **dimensions):
     """Simulate one drop, as ``hopscape drop`` does (same defaults).
 
     Parameters
@@ -472,6 +480,25 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         Impacts closer than this make one visible bounce [ms]; default 10.
     camera_fps : float, optional
         Instead of ``merge_ms``: your camera's frame rate [1/s].
+    speed_exponent, reference_speed : float, optional
+        Restitution ``restitution (v_n / reference_speed)^-speed_exponent``
+        [-], [m/s] (default: the same at every speed).
+    restitution_table : sequence of (float, float), optional
+        Measured ``(normal impact speed [m/s], restitution)`` pairs, speeds
+        rising, instead of ``restitution`` and its speed law.
+    body_material, floor_material : str, optional
+        Names of ``hopscape.sim.materials.materials()``; with both sides
+        given (by name or by modulus and Poisson's ratio) ``.impacts`` has
+        the contact model's columns (contact_time, peak_force, ...; README,
+        "Batch tables").
+    body_modulus, floor_modulus : float, optional
+        Young's modulus, overriding the material's. [Pa]
+    body_poisson, floor_poisson : float, optional
+        Poisson's ratio, overriding the material's. [-]
+    rim_edge_radius : float, optional
+        Edge radius of a flat-ended cylinder's sharp rim. [m]
+    breakage_f_mat, breakage_w_min : float, optional
+        Vogel & Peukert's breakage parameters. [kg/(J m)], [J/kg]
     **dimensions : float
         Further dimensions a shape declares, e.g. ``edge`` [m] of a
         rounded tablet.
@@ -507,5 +534,17 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
     release = sim.Release(height=height, angle=radians_within_one_turn(angle), spin=spin, vx=vx, vy=vy,
                           reference=height_of,
                           floor_angle=np.radians(floor_angle))
-    result = sim.simulate(shape, release, sim.Contact(restitution, friction, law), impacts=impacts)
-    return Drop(shape, result, window)
+    from .contact_inputs import single_settings
+    from .sim.contact_load import impact_loads
+    from .sim.hertz import rim_edge_default
+
+    e_star, edge, breakage = single_settings(dict(
+        body_material=body_material, floor_material=floor_material, body_modulus=body_modulus,
+        body_poisson=body_poisson, floor_modulus=floor_modulus, floor_poisson=floor_poisson,
+        rim_edge_radius=rim_edge_radius, breakage_f_mat=breakage_f_mat, breakage_w_min=breakage_w_min))
+    contact = sim.Contact(restitution, friction, law, speed_exponent=speed_exponent, reference_speed=reference_speed,
+                          restitution_table=None if restitution_table is None else tuple(map(tuple, restitution_table)))
+    result = sim.simulate(shape, release, contact, impacts=impacts)
+    loads = impact_loads(result, e_star, rim_edge_default(shape.profile) if np.isnan(edge) else edge,
+                         None if np.isnan(breakage[0]) else breakage)
+    return Drop(shape, result, window, loads)

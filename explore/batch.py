@@ -13,9 +13,13 @@ import pandas as pd
 from hopscape import sim
 from hopscape.sim.impact import LAWS, SLIP_HISTORY
 
-from hopscape.sim.limits import DENSITY, FRICTION, RESTITUTION, number_text
+from hopscape.sim.limits import DENSITY, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT, number_text
+
+from hopscape.sim.contact_load import impact_loads
+from hopscape.sim.hertz import FEATURES, RIM_WARNING, rim_edge_default
 
 from .batch_contract import DIMENSIONS, INPUT_COLUMNS, NUMBERS, OUTPUT_COLUMNS  # noqa: F401 (the contract)
+from .contact_inputs import contact_settings
 from .defaults import IMPACTS
 from .errors import InputError
 from .files import atomic_write
@@ -82,23 +86,27 @@ def _row_errors(frame, law):
         values, raw = numbers(column), frame[column].to_numpy()
         flag(~np.isfinite(values), lambda i, c=column, r=raw: f"{c} must be a finite number, got {_shown(r[i])}")
     for column, allowed in (("density", DENSITY), ("restitution", RESTITUTION), ("friction", FRICTION),
-                            ("floor_angle", QUANTITIES["floor_angle"].allowed)):
+                            ("floor_angle", QUANTITIES["floor_angle"].allowed), ("speed_exponent", SPEED_EXPONENT),
+                            ("reference_speed", REFERENCE_SPEED)):
         values = numbers(column)
         flag(~allowed.contains(values), lambda i, c=column, a=allowed, v=values: a.problem(c, v[i]))
     laws = frame["law"].fillna(law).astype(str).str.strip().str.lower().to_numpy() if "law" in frame else np.full(n, law)
     flag(~np.isin(laws, LAWS), lambda i: f"law must be one of {', '.join(LAWS)}, got {laws[i]!r}")
-    return errors, kinds, laws
+    settings = contact_settings(frame, flag)
+    return errors, kinds, laws, settings
 
 
 def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
-              progress=None, warn=None):
+              progress=None, warn=None, restitution_table=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 
     Rows that cannot be simulated appear once, with ``impact`` empty and the
     reason in ``error``; they never stop the batch. ``warn``, if given, is
     called once before anything is simulated with the list of warnings
     about implausible values (:mod:`explore.plausibility`), one line per
-    column and shape.
+    column and shape. ``restitution_table`` (``(speed [m/s], restitution)``
+    pairs, :class:`sim.Contact`) replaces every row's restitution and
+    speed law.
     """
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
@@ -117,9 +125,10 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
             frame[column] = frame[column].where(frame[column].notna(), default)
     if frame.empty:
         return pd.DataFrame(columns=list(OUTPUT_COLUMNS))
-    errors, kinds, laws = _row_errors(frame, law)
+    errors, kinds, laws, (e_star, rim_edge, breakage) = _row_errors(frame, law)
     ok = errors == ""
-    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float) for c in DIMENSIONS + NUMBERS}
+    num = {c: pd.to_numeric(frame[c], errors="coerce").to_numpy(dtype=float)
+           for c in DIMENSIONS + NUMBERS + MODULI}
     good = np.flatnonzero(ok)
 
     def bodies(rows):
@@ -127,7 +136,14 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         return sim.shapes.make_shapes(kinds[rows], density=num["density"][rows], **sizes)
 
     if warn is not None:
-        warn(_warnings(kinds, num, good, bodies))
+        lines = _warnings(kinds, num, good, bodies)
+        if good.size:
+            # a body without a round part has sharp rims: not Hertzian
+            _, _, round_long, round_wide = bodies(good).profile
+            sharp = good[(round_long == 0) & (round_wide == 0) & np.isfinite(e_star[good])]
+            if sharp.size:
+                lines.append(f"{sharp.size} row(s) (first: drop {sharp[0]}): {RIM_WARNING}")
+        warn(lines)
     # a body inside the floor is a per-row error too
     if good.size:
         shapes = bodies(good)
@@ -142,9 +158,14 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         release = sim.Release(height=num["height"][good], angle=radians_within_one_turn(num["angle"][good]),
                               spin=num["spin"][good], vx=num["vx"][good], vy=num["vy"][good],
                               floor_angle=np.radians(num["floor_angle"][good]))
-        contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]))
+        contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]),
+                              speed_exponent=num["speed_exponent"][good], reference_speed=num["reference_speed"][good],
+                              restitution_table=restitution_table)
         result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
-        tables.append(impact_table(result, merge_within, drop_ids=good))
+        edge = rim_edge[good]
+        loads = impact_loads(result, e_star[good], np.where(np.isnan(edge), rim_edge_default(shapes.profile), edge),
+                             (breakage[0][good], breakage[1][good]))
+        tables.append(impact_table(result, merge_within, drop_ids=good, loads=loads))
         never = result.count == 0
         if never.any():  # the contact search gave up before the first impact
             tables.append(pd.DataFrame({"drop": good[never], "status": "failed",
@@ -162,6 +183,10 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     return table
 
 
+#: The contact model's numbers that get unit warnings (explore.plausibility).
+MODULI = ("body_modulus", "floor_modulus")
+
+
 def _warnings(kinds, num, good, bodies):
     """Warning lines for the implausible values of the rows ``good``."""
     lines = []
@@ -169,7 +194,7 @@ def _warnings(kinds, num, good, bodies):
         rows = good[kinds[good] == kind]
         if not rows.size:
             continue
-        values = {name: num[name][rows] for name in NUMBERS + DIMENSIONS}
+        values = {name: num[name][rows] for name in NUMBERS + DIMENSIONS + MODULI}
         for name, bad, message in drop_warnings(bodies(rows), values):
             count = int(bad.sum())
             lines.append(f"column {name}: {count} {kind} row{'s' if count > 1 else ''} (first: drop "
@@ -177,8 +202,15 @@ def _warnings(kinds, num, good, bodies):
     return lines
 
 
-def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):
-    """One row per drop and impact from a :class:`sim.DropResult`."""
+#: Output columns of the contact model taken from :func:`sim.contact_load.impact_loads`.
+CONTACT_OUTPUTS = ("normal_speed", "tangential_speed", "energy_lost", "restitution_used", "contact_time", "peak_force",
+                   "indentation", "peak_pressure", "breakage_probability")
+
+
+def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None, loads=None):
+    """One row per drop and impact from a :class:`sim.DropResult`; the
+    contact model's columns from ``loads`` (:func:`sim.contact_load.impact_loads`;
+    without it only the struck feature, speeds and energy lost are given)."""
     n, k = result.time.shape
     drop_ids = np.arange(n) if drop_ids is None else np.asarray(drop_ids)
     exists = np.arange(k)[None, :] < result.count[:, None]
@@ -187,6 +219,10 @@ def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):
     trans_a, rot_a, _ = result.energy_after()
     bounces = sim.group_bounces(result, merge_within)
     pick = (rows, cols)
+    if loads is None:
+        loads = impact_loads(result, np.nan)
+    contact = {"struck": np.asarray(FEATURES, dtype=object)[loads["feature"][pick]],
+               **{name: loads[name][pick] for name in CONTACT_OUTPUTS}}
     return pd.DataFrame({
         "drop": drop_ids[rows],
         "impact": cols + 1,
@@ -206,4 +242,5 @@ def impact_table(result, merge_within=sim.MERGE_WITHIN, drop_ids=None):
         "bounce": np.where(bounces.index[pick] > 0, bounces.index[pick], np.nan),  # none: sustained contact
         "status": np.asarray(sim.STATUS, dtype=object)[result.status[rows]],
         "error": "",
+        **contact,
     })

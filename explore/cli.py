@@ -103,6 +103,57 @@ def _further_dimensions():
             if name not in ("length", "radius")]
 
 
+def _contact_options(parser):
+    """The contact model's options of ``drop`` (the batch table's columns of the same names)."""
+    from hopscape.sim.limits import REFERENCE_SPEED, SPEED_EXPONENT
+    from .batch_contract import CONTACT_COLUMNS, INPUT_COLUMNS
+    for name, allowed in (("speed_exponent", SPEED_EXPONENT), ("reference_speed", REFERENCE_SPEED)):
+        words, default = INPUT_COLUMNS[name]
+        parser.add_argument(f"--{name.replace('_', '-')}", type=_number(float, allowed), default=default,
+                            help=f"[{words.partition(', ')[0]}] {words.partition(', ')[2]} (default {default:g})")
+    for name, words in CONTACT_COLUMNS.items():
+        unit, _, rest = words.partition(", ") if not name.endswith("_material") else ("", "", words)
+        parser.add_argument(f"--{name.replace('_', '-')}", default=None,
+                            type=None if name.endswith("_material") else _finite(name),
+                            help=(f"[{unit}] {rest}" if unit else rest).replace("%", "%%"))
+
+
+def _restitution_table(text):
+    """An option's converter: ``speed:restitution,speed:restitution,...``
+    (at least two pairs, speeds rising) as a tuple of pairs."""
+    from hopscape.sim.impact import check_restitution_table
+    try:
+        pairs = tuple(tuple(float(x) for x in pair.split(":")) for pair in text.split(","))
+        return tuple(map(tuple, check_restitution_table(pairs).tolist()))
+    except ValueError as exc:
+        reason = str(exc) if "restitution_table" in str(exc) else "pairs must read speed:restitution"
+        raise argparse.ArgumentTypeError(f"{reason.replace('restitution_table ', '')} (e.g. 0.5:0.9,1:0.8,3:0.6; "
+                                         f"got {shown(text)})")
+
+
+def _table_option(parser, rows=""):
+    parser.add_argument("--restitution-table", type=_restitution_table, default=None,
+                        help="measured restitution against normal impact speed, speed:restitution pairs [m/s:-] "
+                             "with speeds rising, e.g. 0.5:0.9,1:0.8,3:0.6; linear between them, the end values "
+                             "beyond; replaces the restitution" + rows + " and its speed law")
+
+
+def _contact_loads(args, shape, result):
+    """Per-impact contact outputs of a drop (NaN without materials) and the
+    settings they came from."""
+    import numpy as np
+
+    from hopscape.sim.contact_load import impact_loads
+    from hopscape.sim.hertz import rim_edge_default
+    from .batch_contract import CONTACT_COLUMNS
+    from .contact_inputs import single_settings
+
+    given = {name: getattr(args, name) for name in CONTACT_COLUMNS}
+    e_star, edge, breakage = _user_value_errors(lambda: single_settings(given))
+    edge = rim_edge_default(shape.profile) if np.isnan(edge) else edge
+    return impact_loads(result, e_star, edge, None if np.isnan(breakage[0]) else breakage), e_star, edge
+
+
 def build_parser():
     """The ``hopscape`` argument parser; choices and help come from the declarations in :mod:`sim`."""
     from hopscape import sim
@@ -131,6 +182,8 @@ def build_parser():
     d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
     d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
     d.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
+    _contact_options(d)
+    _table_option(d)
     d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
@@ -168,6 +221,7 @@ def build_parser():
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + _law_help())
     _merge_window_options(b)
+    _table_option(b, " column of every row")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
@@ -233,6 +287,8 @@ def _user_value_errors(call):
 
 def cmd_drop(args):
     """``hopscape drop``: one drop, its impacts and bounces as tables, three pictures."""
+    import numpy as np
+
     from .quantities import radians_within_one_turn
     from hopscape import sim
     from hopscape.sim.limits import MASS
@@ -266,7 +322,10 @@ def cmd_drop(args):
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=math.radians(floor_angle))
-        contact = sim.Contact(args.restitution, args.friction, args.law)
+        if args.restitution_table is not None and args.speed_exponent:
+            raise ValueError("give --restitution-table or --speed-exponent, not both")
+        contact = sim.Contact(args.restitution, args.friction, args.law, speed_exponent=args.speed_exponent,
+                              reference_speed=args.reference_speed, restitution_table=args.restitution_table)
         return sim.simulate(shape, release, contact, impacts=args.impacts)
 
     shape = _user_value_errors(body)
@@ -275,15 +334,40 @@ def cmd_drop(args):
     from .plausibility import drop_warnings
     given = {"height": args.height, "spin": args.spin, "vx": args.vx, "vy": args.vy, "density": args.density,
              "friction": args.friction, "length": args.length, "radius": args.radius,
+             "body_modulus": args.body_modulus, "floor_modulus": args.floor_modulus,
+             "speed_exponent": args.speed_exponent, "reference_speed": args.reference_speed,
              **{name: getattr(args, name) for name in _further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
+    # materials are checked before anything is simulated
+    from .contact_inputs import single_settings
+    from .batch_contract import CONTACT_COLUMNS
+    try:
+        single_settings({name: getattr(args, name) for name in CONTACT_COLUMNS})
+    except ValueError as exc:  # worded with the option names of this command
+        message = str(exc)
+        for name in CONTACT_COLUMNS:
+            message = message.replace(name, "--" + name.replace("_", "-"))
+        raise InputError(message) from None
     result = _user_value_errors(lambda: drop(shape))
     bounces = sim.group_bounces(result, merge_window)
     print(drop_report(shape, result, bounces, args.reference))
+    loads, e_star, edge = _contact_loads(args, shape, result)
+    from .contact_report import NO_MATERIALS, contact_text
+    if np.isnan(e_star):
+        print("\n" + NO_MATERIALS)
+    else:
+        from hopscape.sim.materials import material
+        strength, poisson = None, args.body_poisson
+        if args.body_material is not None:
+            found = _user_value_errors(lambda: material(args.body_material))
+            strength = (found.strength, found.strength_kind)
+            poisson = found.poisson if poisson is None else poisson
+        sharp = bool(np.all(shape.round_long == 0) and np.all(shape.round_wide == 0))
+        print("\n" + contact_text(result, loads, sharp_rim=sharp, strength=strength, poisson=poisson))
     if args.csv is not None:
         from .batch import write_table
-        write_table(impact_table(result, merge_window), args.csv)
+        write_table(impact_table(result, merge_window, loads=loads), args.csv)
         print(f"\nimpact table written to {args.csv}")
     if not args.no_plots:
         from . import plots
@@ -292,6 +376,17 @@ def cmd_drop(args):
         plots.strobe(result, path=paths[0])
         plots.energy(result, path=paths[1])
         plots.bounce_heights(result, bounces, reference=args.reference, path=paths[2])
+        if not np.isnan(e_star):
+            from hopscape.sim.contact_load import force_histories
+            from .contact_report import force_picture
+            curves = force_histories(result, 0, e_star, edge)
+            shortest = float(np.nanmin(loads["contact_time"][0])) if np.any(np.isfinite(loads["contact_time"][0])) \
+                else np.nan
+            frames = (f"\nshortest contact {shortest * 1e6:.0f} us: about {float(f'{5 / shortest:.2g}'):,.0f} "
+                      "frames/s catch 5 frames in it (a rule of thumb)") if np.isfinite(shortest) else ""
+            paths.append(force_picture(curves, args.out / "forces.png",
+                                       f"Contact force of each impact: {args.body_material or 'body'} on "
+                                       f"{args.floor_material or 'floor'}" + frames))
         print("pictures: " + ", ".join(str(p) for p in paths))
     print("\n" + SAFETY)
     return EXIT_OK
@@ -313,7 +408,7 @@ def cmd_batch(args):
               file=sys.stderr)
     start = time.perf_counter()
     table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=merge_window,
-                      warn=lambda lines: report_warnings(lines, args.strict))
+                      warn=lambda lines: report_warnings(lines, args.strict), restitution_table=args.restitution_table)
     elapsed = time.perf_counter() - start
     write_table(table, args.out)
     failed = int((table["error"] != "").sum())

@@ -229,7 +229,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     # a flat field (the event never or always happens) gets no contours:
     # lines drawn there would follow noise in the other columns; nor does a
     # metric judged on a height limit, which the ratio lines say nothing about
-    if len(xs) > 1 and len(ys) > 1 and not flat(z) and not kind.uses_limit:
+    if len(xs) > 1 and len(ys) > 1 and not flat(z) and not kind.uses_limit and not kind.needs:
         _, _, ratio = grid_of(cells, x, y, "mean_best_later_ratio")
         if np.nanmin(ratio) < study.metric.threshold < np.nanmax(ratio):
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
@@ -243,8 +243,10 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
             legend.append(plt.Line2D([], [], color="black", lw=1.2, ls="--",
                                      label="a later bounce beats the first (half the drops)"))
     if np.isnan(z).any():
-        legend.append(matplotlib.patches.Patch(color="0.85", label="more than half the drops would start "
-                                                                  "inside the floor (not simulated)"))
+        legend.append(matplotlib.patches.Patch(color="0.85", label="no value: landing exactly flat or on a face "
+                                               "(a line or area contact, not Hertzian), or more than half the drops "
+                                               "inside the floor" if kind.needs else "more than half the drops would "
+                                               "start inside the floor (not simulated)"))
     if legend:
         ax.legend(handles=legend, loc="upper center", bbox_to_anchor=(0.5, -0.13), fontsize=8, ncol=1,
                   frameon=False)

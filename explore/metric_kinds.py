@@ -31,10 +31,15 @@ class Outcome:
     heights : numpy.ndarray, optional
         Peak height of each visible bounce of the reference point above the
         floor, same shape; 0 where a drop had fewer bounces. [m]
+    contact : dict, optional
+        Per drop, from the contact model (:func:`explore.metrics.drop_loads`):
+        ``peak_force`` (largest over its impacts) [N] and
+        ``breakage_probability`` (that some impact breaks it) [-].
     """
 
     ratios: np.ndarray
     heights: np.ndarray = None
+    contact: dict = None
 
     @property
     def best_later(self):
@@ -98,6 +103,12 @@ class MetricKind:
     uses_limit : bool
         Whether ``metric.limit`` (a height [m]) decides the event; the study
         file then requires it, and refuses it for the other kinds.
+    uses_force_limit : bool
+        Whether ``metric.force_limit`` (a force [N]) decides the event
+        (required then, refused otherwise).
+    needs : tuple of str
+        Settings of the contact model the kind reads (``"materials"``,
+        ``"breakage"``); the study file requires them.
     """
 
     name: str
@@ -108,12 +119,15 @@ class MetricKind:
     uses_threshold: bool = False
     uses_bounce: bool = False
     uses_limit: bool = False
+    uses_force_limit: bool = False
+    needs: tuple = ()
 
     def event(self, value, metric):
         """The event per drop from its value: above the threshold or the
         limit, or the flag."""
         value = np.asarray(value, dtype=float)
-        level = metric.threshold if self.uses_threshold else metric.limit if self.uses_limit else 0.5
+        level = (metric.threshold if self.uses_threshold else metric.limit if self.uses_limit
+                 else metric.force_limit if self.uses_force_limit else 0.5)
         with np.errstate(invalid="ignore"):
             return value > level
 
@@ -159,4 +173,18 @@ METRIC_KINDS = {kind.name: kind for kind in (
         value=lambda outcome, metric: outcome.beats_first.astype(float),
         words=lambda metric: (f"a later bounce beats the first ({POINT_WORDS[metric.reference]})",
                               f"a later bounce rises above the first ({POINT_WORDS[metric.reference]})")),
+    MetricKind(
+        "peak_force", "largest normal contact force of the drop's impacts [N] against force_limit (Hertz contact "
+        "with calibrated damping; needs the body and floor materials)",
+        is_flag=False, uses_force_limit=True, needs=("materials",),
+        value=lambda outcome, metric: outcome.contact["peak_force"],
+        words=lambda metric: ("largest contact force of the drop's impacts [N]",
+                              f"an impact's contact force exceeds {metric.force_limit:g} N")),
+    MetricKind(
+        "breakage", "probability that some impact of the drop breaks the body (Vogel & Peukert master curve; needs "
+        "the materials and the body's breakage_f_mat and breakage_w_min)",
+        is_flag=False, uses_threshold=True, needs=("materials", "breakage"),
+        value=lambda outcome, metric: outcome.contact["breakage_probability"],
+        words=lambda metric: ("probability that an impact breaks the body [-]",
+                              f"the breakage probability is above {metric.threshold:g}")),
 )}

@@ -24,6 +24,13 @@ Metric columns (one row per drop):
 ``status``
     impacts | settled | contact | could_vault | failed | inside floor
     (:mod:`sim.drop`).
+``peak_force_N``, ``peak_pressure_Pa``, ``contact_time_s``, ``breakage_probability``
+    with the contact model's materials given (docs/physics.md section 9):
+    the largest contact force and pressure of the drop's impacts, its
+    shortest contact (what a camera must resolve), and the probability that
+    some impact breaks the body (``1 - prod(1 - S_i)``, Vogel & Peukert's
+    curve per impact; NaN without its parameters). Line and face contacts
+    (not Hertzian) do not count.
 
 Heights and ratios are measured normal to the floor (``floor_angle``, 0
 where the study does not give it).
@@ -34,10 +41,32 @@ import numpy as np
 import pandas as pd
 
 from hopscape import sim
+from hopscape.sim.contact_load import impact_loads
+from hopscape.sim.hertz import rim_edge_default
+
+from .contact_inputs import single_settings
 
 from .metric_kinds import METRIC_KINDS, Outcome
 from .quantities import radians_within_one_turn
-from .study import COLUMN, Study
+from .study import COLUMN, Study, contact_settings
+
+#: Per-drop columns of the contact model, from :func:`drop_loads`.
+CONTACT_COLUMNS = {"peak_force": "peak_force_N", "peak_pressure": "peak_pressure_Pa",
+                   "contact_time": "contact_time_s", "breakage_probability": "breakage_probability"}
+
+
+def drop_loads(loads):
+    """Per drop from :func:`sim.contact_load.impact_loads`: the largest peak
+    force and pressure, the shortest contact, and the probability that some
+    impact breaks the body."""
+    def fold(values, reduce):
+        finite = np.isfinite(values)
+        filled = np.where(finite, values, -np.inf if reduce is np.max else np.inf)
+        return np.where(finite.any(axis=1), reduce(filled, axis=1), np.nan)
+    survive = np.where(np.isfinite(loads["breakage_probability"]), 1 - loads["breakage_probability"], 1.0)
+    breakage = np.where(np.isfinite(loads["breakage_probability"]).any(axis=1), 1 - survive.prod(axis=1), np.nan)
+    return {"peak_force": fold(loads["peak_force"], np.max), "peak_pressure": fold(loads["peak_pressure"], np.max),
+            "contact_time": fold(loads["contact_time"], np.min), "breakage_probability": breakage}
 
 
 def _shape(study, frame):
@@ -64,6 +93,9 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     bound = np.full(n, np.nan)
     gain = np.zeros(n, bool)
     status = np.full(n, "inside floor", dtype=object)
+    e_star, edge, breakage = single_settings(contact_settings(study.body, study.contact))
+    materials = bool(np.isfinite(e_star))
+    per_drop = {name: np.full(n, np.nan) for name in CONTACT_COLUMNS}
     bounces_seen = np.zeros(n, np.int16)
     if ok.any():
         idx = np.flatnonzero(ok)
@@ -74,7 +106,12 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
                               floor_angle=np.radians(out[COLUMN["floor_angle"]].to_numpy()[idx])
                               if COLUMN["floor_angle"] in out else 0.0)
         contact = sim.Contact(out[COLUMN["restitution"]].to_numpy()[idx],
-                              out[COLUMN["friction"]].to_numpy()[idx], study.contact.law)
+                              out[COLUMN["friction"]].to_numpy()[idx], study.contact.law,
+                              speed_exponent=out[COLUMN["speed_exponent"]].to_numpy()[idx]
+                              if COLUMN["speed_exponent"] in out else 0.0,
+                              reference_speed=study.contact.reference_speed,
+                              restitution_table=None if study.contact.restitution_table is None
+                              else tuple(study.contact.restitution_table))
         # only the study's reference point's peaks are read: the others' searches are skipped
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1),
                               peaks=(study.metric.reference,))
@@ -85,9 +122,14 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
         gain[idx] = result.energy_gain.any(axis=1)
         status[idx] = np.asarray(sim.STATUS, dtype=object)[result.status]
         bounces_seen[idx] = b.count
+        if materials:
+            loads = impact_loads(result, e_star, rim_edge_default(part.profile) if np.isnan(edge) else edge,
+                                 None if np.isnan(breakage[0]) else breakage)
+            for name, value in drop_loads(loads).items():
+                per_drop[name][idx] = value
     metric = study.metric
     kind = METRIC_KINDS[metric.kind]
-    outcome = Outcome(ratios, heights)
+    outcome = Outcome(ratios, heights, per_drop if materials else None)
     best_later, beats_release, beats_first = outcome.best_later, outcome.beats_release, outcome.beats_first
     value = np.where(inside, np.nan, kind.value(outcome, metric))
     event = kind.event(value, metric)
@@ -102,4 +144,7 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     out["energy_bound_ratio"] = bound
     out["energy_gain"] = gain
     out["status"] = pd.Categorical(status, categories=list(sim.STATUS) + ["inside floor"])
+    if materials:
+        for name, column in CONTACT_COLUMNS.items():
+            out[column] = per_drop[name]
     return out

@@ -63,6 +63,14 @@ PLAUSIBLE = {
     "spin": Plausible(Interval(-1e4, 1e4, unit="rad/s"), "is it in rpm or deg/s? (1 rev/s = 6.28 rad/s)"),
     "vx": Plausible(Interval(-10.0, 10.0, unit="m/s"), "is it in mm/s?"),
     "vy": Plausible(Interval(-10.0, 10.0, unit="m/s"), "is it in mm/s?"),
+    # the contact model: rubbers (~1e6 Pa) to tungsten carbide (~6e11 Pa)
+    "body_modulus": Plausible(Interval(1e5, 1.2e12, unit="Pa"), "is it in kPa?",
+                              "is it in GPa or MPa? (steel is 2e11 Pa)"),
+    "floor_modulus": Plausible(Interval(1e5, 1.2e12, unit="Pa"), "is it in kPa?",
+                               "is it in GPa or MPa? (steel is 2e11 Pa)"),
+    "speed_exponent": Plausible(Interval(0.0, 0.5, unit="-"), "published tablet values are about 1/4 (Bharadwaj, "
+                                "Smith & Hancock 2010)"),
+    "reference_speed": Plausible(Interval(0.01, 20.0, unit="m/s"), "is it in mm/s?", "is it in m/s?"),
 }
 
 #: A drop higher than this many body sizes is probably a height given in
@@ -122,6 +130,17 @@ def study_warnings(study):
                 found.append((loc, message))
                 return
 
+    # a body without a round part (a flat-ended cylinder) has sharp rims;
+    # a unit body of the kind says whether it has one
+    sharp = shape(density=1.0, **{d.name: 1.0 for d in shape.dimensions if d.required}).round_long == 0
+    if sharp and (study.body.material is not None or study.body.modulus is not None):
+        from hopscape.sim.hertz import RIM_WARNING
+        found.append((("body", "shape"), RIM_WARNING))
+    for loc, value in ((("body", "modulus"), study.body.modulus), (("contact", "floor_modulus"),
+                                                                   study.contact.floor_modulus),
+                       (("contact", "reference_speed"), study.contact.reference_speed)):
+        if value is not None:
+            judge(loc, [value], PLAUSIBLE[loc[1] if loc[1] != "modulus" else "body_modulus"].problem)
     for name, q in study.quantities().items():
         loc = (QUANTITIES[name].section, name)
         if name == "diameter":

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from hopscape.sim.limits import RESTITUTION, Interval
+from hopscape.sim.limits import RESTITUTION, SPEED_EXPONENT, Interval
 
 
 @dataclass(frozen=True)
@@ -66,6 +66,8 @@ QUANTITIES = {spec.name: spec for spec in (
     QuantitySpec("density", "body", "kg/m^3", "density", _rig(1.0, 30000.0, "kg/m^3")),
     QuantitySpec("restitution", "contact", "-", "restitution", RESTITUTION),
     QuantitySpec("friction", "contact", "-", "friction coefficient", _rig(0.0, 5.0, "-")),
+    # e = restitution (v_n / reference_speed)^-p; absent: the same at every speed
+    QuantitySpec("speed_exponent", "contact", "-", "restitution's speed exponent", SPEED_EXPONENT),
     QuantitySpec("height", "release", "m", "release height", _rig(1e-5, 100.0, "m")),
     QuantitySpec("angle", "release", "deg", "release angle", _rig(-360.0, 360.0, "deg")),
     QuantitySpec("spin", "release", "rad/s", "release spin", _rig(-1e6, 1e6, "rad/s")),

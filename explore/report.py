@@ -37,6 +37,19 @@ img{max-width:100%;border:1px solid #ddd;margin:.4em 0}figure{margin:1em 0}figca
         .replace("WARNING", OKABE_ITO["orange"]).replace("NOTE", OKABE_ITO["blue"]))
 
 
+def contact_rows(study):
+    """Rows of the study table for the contact model's settings given
+    (materials, moduli, the speed law's reference speed, breakage)."""
+    from .study import contact_settings
+    given = {name: value for name, value in contact_settings(study.body, study.contact).items() if value is not None}
+    if study.contact.speed_exponent is not None:
+        given["reference_speed"] = study.contact.reference_speed
+    units = {"body_modulus": " Pa", "floor_modulus": " Pa", "rim_edge_radius": " m", "breakage_f_mat": " kg/(J m)",
+             "breakage_w_min": " J/kg", "reference_speed": " m/s"}
+    return [(name.replace("_", " "), "fixed", f"{value:g}{units.get(name, '')}" if isinstance(value, float)
+             else str(value)) for name, value in given.items()]
+
+
 def _describe(name, q):
     unit = QUANTITIES[name].unit
     u = "" if unit == "-" else f" {unit}"
@@ -187,6 +200,7 @@ def write_report(outcome, art, seconds) -> Path:
     # summary
     rows = [("body shape", "", study.body.shape), ("impact law", "", study.contact.law),
             ("release height measured to", "", study.release.height_of)]
+    rows += contact_rows(study)
     for name, q in study.quantities().items():
         kind, text = _describe(name, q)
         rows.append((QUANTITIES[name].text, kind, text))

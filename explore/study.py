@@ -22,7 +22,8 @@ from pydantic import (BaseModel, ConfigDict, Field, PrivateAttr, ValidationError
 from pydantic_core import InitErrorDetails, PydanticCustomError
 
 from hopscape import sim
-from hopscape.sim.limits import Interval, number_text
+from hopscape.sim.limits import F_MAT, POSITIVE_SIZE, REFERENCE_SPEED, W_MIN, Interval, number_text
+from hopscape.sim.materials import MODULUS, POISSON, materials
 
 from .defaults import IMPACTS
 from .errors import InputError, shown
@@ -163,6 +164,17 @@ def declared_range(field):
                     closed=closed["gt" not in bounds, "lt" not in bounds])
 
 
+def _number_field(allowed, words, default=None):
+    """A plain number (optional by default) bounded by ``allowed`` (a
+    :class:`sim.limits.Interval`) through pydantic's ``ge``/``gt``/``le``/``lt``,
+    which :func:`declared_range` reads back."""
+    return Field(default, description=f"{words}, {allowed.describe()}",
+                 **({"ge" if allowed.closed in ("both", "left") else "gt": allowed.low}
+                    if math.isfinite(allowed.low) else {}),
+                 **({"le" if allowed.closed in ("both", "right") else "lt": allowed.high}
+                    if math.isfinite(allowed.high) else {}))
+
+
 def _quantity_field(name, *default):
     """A section's field for quantity ``name``, described from its declaration."""
     spec = QUANTITIES[name]
@@ -190,6 +202,19 @@ class Body(_Section):
     aspect_ratio: Optional[Quantity] = _quantity_field("aspect_ratio", None)
     length: Optional[Quantity] = _quantity_field("length", None)
     density: Quantity = _quantity_field("density", Quantity(value=1200.0))
+    # the contact model (docs/physics.md section 9): a material of the table,
+    # or its modulus and Poisson's ratio (a number given overrides the table's)
+    material: Optional[Literal[tuple(materials())]] = Field(
+        None, description="body material for contact duration and force (hopscape.sim.materials)")
+    modulus: Optional[float] = _number_field(MODULUS, "Young's modulus of the body [Pa]")
+    poisson: Optional[float] = _number_field(POISSON, "Poisson's ratio of the body [-]")
+    rim_edge_radius: Optional[float] = _number_field(
+        POSITIVE_SIZE, "edge radius of a flat-ended cylinder's sharp rim for the contact model [m] (default 5% "
+        "of the smaller of radius and half length)")
+    breakage_f_mat: Optional[float] = _number_field(F_MAT, "f_Mat of the Vogel & Peukert breakage master curve "
+                                                    "[kg/(J m)]")
+    breakage_w_min: Optional[float] = _number_field(W_MIN, "W_m,min of the Vogel & Peukert breakage master curve "
+                                                    "[J/kg]")
 
     @field_validator("aspect_ratio", "length", mode="after")
     @classmethod
@@ -228,6 +253,36 @@ class Contact(_Section):
     law: Literal[tuple(sim.LAWS)] = Field("energetic", description="impact law (sim.LAWS)")
     restitution: Quantity = _quantity_field("restitution")
     friction: Quantity = _quantity_field("friction")
+    # absent: restitution the same at every speed
+    speed_exponent: Optional[Quantity] = _quantity_field("speed_exponent", None)
+    reference_speed: float = _number_field(REFERENCE_SPEED, "normal impact speed at which the restitution is "
+                                           "`restitution` [m/s]", 1.0)
+    # measured (normal impact speed [m/s], restitution) pairs: replace restitution
+    restitution_table: Optional[list[list[float]]] = Field(
+        None, description="measured restitution against normal impact speed: [[speed, restitution], ...], speeds "
+                          "rising; replaces restitution and speed_exponent")
+    floor_material: Optional[Literal[tuple(materials())]] = Field(
+        None, description="floor material for contact duration and force (hopscape.sim.materials)")
+    floor_modulus: Optional[float] = _number_field(MODULUS, "Young's modulus of the floor [Pa]")
+    floor_poisson: Optional[float] = _number_field(POISSON, "Poisson's ratio of the floor [-]")
+
+
+    @field_validator("restitution_table", mode="after")
+    @classmethod
+    def _table(cls, table):
+        if table is not None:
+            from hopscape.sim.impact import check_restitution_table
+            check_restitution_table(table)
+        return table
+
+    @model_validator(mode="after")
+    def _one_restitution(self):
+        if self.restitution_table is not None and self.speed_exponent is not None:
+            raise _problems("contact", [(("speed_exponent",), "give restitution_table or speed_exponent, not both")])
+        if self.restitution_table is not None and self.restitution.varies:
+            raise _problems("contact", [(("restitution",), "restitution_table replaces restitution: fix "
+                                                           "restitution (its value is then not used)")])
+        return self
 
 
 class Release(_Section):
@@ -257,6 +312,8 @@ class Metric(Strict):
     threshold: float = Field(default=1.0, gt=0, le=10, description="event: value above this [-]")
     limit: Optional[float] = Field(default=None, gt=0, le=100,
                                    description="kind clears: the height the reference point must rise above [m]")
+    force_limit: Optional[float] = Field(default=None, gt=0, le=1e7,
+                                         description="kind peak_force: the contact force not to exceed [N]")
 
     @model_validator(mode="after")
     def _limit_fits_the_kind(self):
@@ -267,6 +324,12 @@ class Metric(Strict):
             users = ", ".join(name for name, k in METRIC_KINDS.items() if k.uses_limit)
             raise _problems("metric", [(("limit",), f"limit is used only by kind {users}; remove it or change "
                                                     "the kind")])
+        if kind.uses_force_limit and self.force_limit is None:
+            raise _problems("metric", [(("force_limit",), f"kind {self.kind} needs force_limit, the force not to "
+                                                          "exceed [N]")])
+        if not kind.uses_force_limit and self.force_limit is not None:
+            raise _problems("metric", [(("force_limit",), "force_limit is used only by kind peak_force; remove it "
+                                                          "or change the kind")])
         return self
 
     @field_validator("bounce", mode="before")
@@ -404,6 +467,12 @@ def bounce_window(merge_ms=None, camera_fps=None, names=("merge_ms", "camera_fps
         raise InputError(problem)
     return 1.0 / float(value) if field == "camera_fps" else float(value) / 1e3
 
+#: The contact model's optional settings, by section (left out of
+#: :meth:`Study.numbers` when not given).
+_CONTACT_FIELDS = {"body": ("material", "modulus", "poisson", "rim_edge_radius", "breakage_f_mat", "breakage_w_min"),
+                   "contact": ("speed_exponent", "restitution_table", "floor_material", "floor_modulus",
+                               "floor_poisson"),
+                   "metric": ("force_limit",)}
 
 #: The sections of a study file that hold settings.
 SECTIONS = ("body", "contact", "release", "metric", "tolerance", "analyses", "run")
@@ -496,6 +565,15 @@ class Study(Strict):
             data["run"].pop(key)
         for key in ("maps", "curves", "picks"):
             data["analyses"].pop(key)
+        # the contact model's settings count only when given, so that a study
+        # without them keeps the fingerprint it had before they existed (its
+        # run folder resumes); the reference speed only with a speed law
+        for section, names in _CONTACT_FIELDS.items():
+            for name in names:
+                if data[section][name] is None:
+                    data[section].pop(name)
+        if "speed_exponent" not in data["contact"]:
+            data["contact"].pop("reference_speed")
         return data
 
     def fingerprint(self):
@@ -549,6 +627,23 @@ def contradictions(sections):
             problems.append((("analyses", "picks" if analyses.picks is not None else "robustness"),
                              "picks and the robustness map need at least one grid quantity (set robustness: "
                              "false for a ranking-only study)"))
+    body, contact = sections.get("body"), sections.get("contact")
+    if body is not None and contact is not None:
+        problems += _contact_problems(body, contact)
+        metric = sections.get("metric")
+        needs = METRIC_KINDS[metric.kind].needs if metric is not None else ()
+        settings = contact_settings(body, contact)
+        if "materials" in needs and not any(settings[name] is not None for name in
+                                            ("body_material", "body_modulus")):
+            problems.append((("metric", "kind"), f"kind {metric.kind} needs the contact model's materials: give "
+                             "body.material and contact.floor_material (or body.modulus and body.poisson, "
+                             "contact.floor_modulus and contact.floor_poisson)"))
+        if metric is not None and metric.kind == "breakage" and metric.threshold >= 1:
+            problems.append((("metric", "threshold"), f"kind breakage compares a probability with threshold, which "
+                             f"must then be below 1 (e.g. 0.01), got {number_text(metric.threshold)}"))
+        if "breakage" in needs and settings["breakage_f_mat"] is None:
+            problems.append((("metric", "kind"), f"kind {metric.kind} needs body.breakage_f_mat and "
+                             "body.breakage_w_min (Vogel & Peukert's material parameters)"))
     metric, run = sections.get("metric"), sections.get("run")
     if metric is not None and run is not None and isinstance(metric.bounce, int) and metric.bounce > run.impacts:
         problems.append((("metric", "bounce"), f"bounce {metric.bounce} can never be seen with run.impacts "
@@ -559,6 +654,32 @@ def contradictions(sections):
     if run is not None and run.scheduler is not None and run.backend != "dask":
         problems.append((("run", "scheduler"), "a scheduler address needs backend: dask"))
     return problems
+
+
+def contact_settings(body, contact):
+    """The contact model's dict of settings (the batch columns' names) from
+    the body and contact sections (None where not given)."""
+    return {"body_material": body.material, "floor_material": contact.floor_material,
+            "body_modulus": body.modulus, "body_poisson": body.poisson, "floor_modulus": contact.floor_modulus,
+            "floor_poisson": contact.floor_poisson, "rim_edge_radius": body.rim_edge_radius,
+            "breakage_f_mat": body.breakage_f_mat, "breakage_w_min": body.breakage_w_min}
+
+
+def _contact_problems(body, contact):
+    """The contact model's settings that do not go together, as (location, message)."""
+    from .contact_inputs import single_settings
+    try:
+        single_settings(contact_settings(body, contact))
+    except ValueError as exc:
+        message = str(exc)
+        where = {"body_": "body", "floor_": "contact", "breakage": "body"}
+        for prefix, section in where.items():
+            if message.startswith(prefix):
+                field = message.split()[0]
+                name = field if section == "contact" else field.removeprefix("body_")
+                return [((section, name), message)]
+        return [(("contact",), message)]
+    return []
 
 
 #: Most drops a study may ask for, over all its stages.

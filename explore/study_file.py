@@ -16,6 +16,7 @@ from ruamel.yaml import YAML
 from ruamel.yaml.error import MarkedYAMLError
 
 from hopscape import sim
+from hopscape.sim.materials import materials
 from hopscape.sim.impact import LAW_TABLE
 
 from .errors import InputError, shown
@@ -50,7 +51,8 @@ def template_text(name):
                       + (" (can create energy)" if law.creates_energy else "") for law in LAW_TABLE)
     return string.Template(text).substitute(
         shapes=" | ".join(sim.SHAPES), laws=laws, metric_kinds=" | ".join(METRIC_KINDS),
-        references=" | ".join(sim.REFERENCES)).replace("name: NAME", f"name: {name}")
+        references=" | ".join(sim.REFERENCES),
+        materials=" | ".join(materials())).replace("name: NAME", f"name: {name}")
 
 
 def _position(data, loc):

@@ -56,8 +56,9 @@ import numpy as np
 from ._memory import keep_freed_memory
 from .flight import GRAVITY, floor_gravity
 from .geometry import contact_offset_at, curvature_bound, depth, depth_range
-from .impact import ENERGY_CREATING, LAWS, impulse_matrix, law_codes, routh_impact
-from .limits import FINITE, FLOOR_ANGLE, FRICTION, RESTITUTION
+from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_matrix, law_codes, routh_impact,
+                     speed_restitution, table_restitution)
+from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -139,14 +140,33 @@ class Contact:
     law : str or sequence of str
         A name of :data:`sim.impact.LAW_TABLE` (``"energetic"``, the
         default, never creates energy).
+    speed_exponent : float or array
+        ``p`` of restitution as a power law of the normal impact speed,
+        ``e = restitution (v_n / reference_speed)^(-p)`` kept within [0, 1]
+        (:func:`sim.impact.speed_restitution`); 0, the default, keeps
+        ``restitution`` at every speed. [-]
+    reference_speed : float or array
+        Normal impact speed at which the restitution is ``restitution``. [m/s]
+    restitution_table : sequence of (float, float), optional
+        Measured ``(normal impact speed [m/s], restitution)`` pairs, speeds
+        rising; when given, every impact's restitution is read from it
+        (:func:`sim.impact.table_restitution`) instead of ``restitution``
+        and its speed law.
     """
 
     restitution: float | np.ndarray = 0.8
     friction: float | np.ndarray = 0.3
     law: str | tuple = LAWS[0]
+    speed_exponent: float | np.ndarray = 0.0
+    reference_speed: float | np.ndarray = 1.0
+    restitution_table: tuple | None = None
 
     def __post_init__(self):
         RESTITUTION.check("restitution", self.restitution)
+        SPEED_EXPONENT.check("speed_exponent", self.speed_exponent)
+        REFERENCE_SPEED.check("reference_speed", self.reference_speed)
+        if self.restitution_table is not None:
+            check_restitution_table(self.restitution_table)
         FRICTION.check("friction", self.friction)
         law_codes(self.law, np.size(self.law) if not isinstance(self.law, str) else 1)
 
@@ -305,7 +325,7 @@ def _broadcast(shape, release, contact):
     arrays = np.broadcast_arrays(
         shape.mass, shape.inertia, *shape.profile, centre_y, release.angle, release.spin,
         release.vx, release.vy, contact.restitution, contact.friction, release.floor_angle, gravity,
-        gravity_along, np.sqrt(GRAVITY / gravity))
+        gravity_along, np.sqrt(GRAVITY / gravity), contact.speed_exponent, contact.reference_speed)
     n = arrays[0].size
     # views, not copies: a scalar broadcast to a million drops costs nothing
     arrays = [np.asarray(a, dtype=float).reshape(n) for a in arrays]
@@ -364,7 +384,8 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     points = tuple(point for point in ("bottom", "top") if point in peaks)
     keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
-    mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch = arrays
+    (mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch,
+     exponent, reference_speed) = arrays
     # an angle of many turns is that angle within one turn (fmod is exact);
     # angles within a turn are left untouched, bit for bit
     many_turns = np.abs(th0) > 2 * np.pi
@@ -390,9 +411,11 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         _run_chunk(sl, k, settle_fraction, mass[sl], inertia[sl], (hl[sl], hw[sl], rl[sl], rw[sl]),
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
-                   count[sl], points)
+                   count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table)
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
-                     "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle}
+                     "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle,
+                     "speed_exponent": exponent, "reference_speed": reference_speed,
+                     "restitution_table": contact.restitution_table}
     return DropResult(mass, inertia, (hl, hw, rl, rw), release_state, status, count, out)
 
 
@@ -418,6 +441,8 @@ class _Flying:
     restitution: np.ndarray  # [-]
     friction: np.ndarray  # [-]
     law: np.ndarray  # sim.impact.LAW_CODE
+    speed_exponent: np.ndarray  # p of sim.impact.speed_restitution [-]
+    reference_speed: np.ndarray  # [m/s]
     curvature_bound: np.ndarray  # sim.geometry.curvature_bound [m]
     d_low: np.ndarray  # sim.geometry.depth_range [m]
     d_high: np.ndarray
@@ -445,7 +470,7 @@ class _Flying:
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
 
-def _strike(live, along, across):
+def _strike(live, along, across, restitution_table=None):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -462,7 +487,12 @@ def _strike(live, along, across):
     k_tt, k_nn, k_tn = impulse_matrix(m_i, in_i, r_x, r_y)
     u_t = v_x - w * r_y
     u_n = v_y + w * r_x
-    p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, live.restitution, live.friction, live.law)
+    restitution = live.restitution
+    if restitution_table is not None:
+        restitution = table_restitution(u_n, restitution_table)
+    elif np.any(live.speed_exponent):
+        restitution = speed_restitution(restitution, u_n, live.speed_exponent, live.reference_speed)
+    p_n, p_t, slip = routh_impact(u_t, u_n, k_tt, k_nn, k_tn, restitution, live.friction, live.law)
     v_x2 = v_x + p_t / m_i
     v_y2 = v_y + p_n / m_i
     w2 = w + (r_x * p_n - r_y * p_t) / in_i
@@ -478,13 +508,16 @@ def _strike(live, along, across):
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
-               e, mu, laws, gravity, out, status, count, points=("bottom", "top")):
+               e, mu, laws, gravity, out, status, count, points=("bottom", "top"), speed_law=None,
+               restitution_table=None):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
     are gathered only when some drop leaves: in most chunks none does
     before its last impact, so nothing is gathered at all.
 
+    ``speed_law`` is ``(speed_exponent, reference_speed)`` per drop
+    (:class:`Contact`; None: restitution independent of speed).
     ``gravity`` is ``(g_n, g_t, stretch)`` per drop (:class:`_Flying`). On
     an inclined floor the flight normal to the floor, ``y + vy t - g_n
     t^2 / 2`` with ``theta + omega t``, is exactly the flight of a level
@@ -500,11 +533,14 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
     tilted = bool(np.any(g_t != 0))
     d_low, d_high = depth_range(*profile)
     rest_energy = mass * g_n * d_low
+    if speed_law is None:
+        speed_law = (np.zeros(n), np.ones(n))
     live = _Flying(
         index=np.arange(n), time=np.zeros(n), x=np.zeros(n), y=y0.copy(), vx=vx0.copy(), vy=vy0.copy(),
         theta=th0.copy(), spin=om0.copy(), mass=mass, inertia=inertia, half_long=profile[0],
         half_wide=profile[1], round_long=profile[2], round_wide=profile[3], restitution=e, friction=mu,
-        law=laws, curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
+        law=laws, speed_exponent=speed_law[0], reference_speed=speed_law[1],
+        curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
         gravity=g_n, gravity_along=g_t, stretch=stretch, rest_energy=rest_energy,
         excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * g_n * y0
                            - rest_energy),
@@ -562,7 +598,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             live.x += 0.5 * live.gravity_along * tau ** 2
             live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across)
+        record, separating, ke_after = _strike(live, along, across, restitution_table)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)

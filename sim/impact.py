@@ -137,6 +137,55 @@ def law_codes(law, size):
     return codes
 
 
+def speed_restitution(restitution, normal_speed, exponent, reference_speed):
+    """Restitution as a power law of the normal impact speed,
+    ``e = e_ref (v_n / v_ref)^(-p)``, kept within [0, 1]. [-]
+
+    Measured tablet restitution falls roughly with the fourth root of the
+    impact speed (p ~ 1/4; Bharadwaj, Smith & Hancock, Int. J. Pharm.
+    402:50-56, 2010; docs/physics.md section 9). ``exponent`` 0 gives
+    ``e_ref`` at every speed, bit for bit.
+
+    Parameters
+    ----------
+    restitution : array_like
+        ``e_ref``, the restitution at ``reference_speed``. [-]
+    normal_speed : array_like
+        Normal approach speed of the contact point, ``|u_n|``. [m/s]
+    exponent : array_like
+        ``p`` (:data:`sim.limits.SPEED_EXPONENT`). [-]
+    reference_speed : array_like
+        ``v_ref`` > 0. [m/s]
+    """
+    e = np.asarray(restitution, dtype=float)
+    p = np.asarray(exponent, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        scaled = e * (np.abs(normal_speed) / reference_speed) ** (-p)
+    return np.where(p == 0, e, np.minimum(np.nan_to_num(scaled, nan=1.0, posinf=1.0), 1.0))
+
+
+def table_restitution(normal_speed, table):
+    """Restitution read from a measured table of ``(normal impact speed
+    [m/s], restitution [-])`` pairs: linear between the points, the end
+    values beyond them (no extrapolation of a measurement). [-]"""
+    speeds, values = np.asarray(table, dtype=float).T
+    return np.interp(np.abs(normal_speed), speeds, values)
+
+
+def check_restitution_table(table):
+    """``table`` as an ``(n, 2)`` float array; ValueError unless it holds at
+    least two ``(speed > 0, restitution in [0, 1])`` pairs with rising speeds."""
+    from .limits import REFERENCE_SPEED, RESTITUTION
+    pairs = np.asarray(table, dtype=float)
+    if pairs.ndim != 2 or pairs.shape[1] != 2 or len(pairs) < 2:
+        raise ValueError("restitution_table must hold at least two (normal speed [m/s], restitution) pairs")
+    REFERENCE_SPEED.check("restitution_table speed", pairs[:, 0])
+    RESTITUTION.check("restitution_table restitution", pairs[:, 1])
+    if np.any(np.diff(pairs[:, 0]) <= 0):
+        raise ValueError("restitution_table speeds must rise from pair to pair")
+    return pairs
+
+
 def impulse_matrix(mass, inertia, r_x, r_y):
     """Entries ``K_tt, K_nn, K_tn`` of the contact compliance matrix. [1/kg]"""
     return 1.0 / mass + r_y ** 2 / inertia, 1.0 / mass + r_x ** 2 / inertia, -r_x * r_y / inertia

@@ -119,3 +119,14 @@ MASS = Interval(0.0, math.inf, closed="right", unit="kg")
 #: Inclination of the floor: gravity must keep a component into the floor
 #: (``g cos(alpha) > 0``) for a flight to end.
 FLOOR_ANGLE = Interval(-math.pi / 2, math.pi / 2, closed="neither", unit="rad")
+#: Exponent p of restitution as a power law of the normal impact speed,
+#: ``e = e_ref (v_n / v_ref)^(-p)`` (0: restitution independent of speed;
+#: about 1/4 for tablets, Bharadwaj, Smith & Hancock, Int. J. Pharm.
+#: 402:50, 2010).
+SPEED_EXPONENT = Interval(0.0, 1.0, unit="-")
+#: The normal impact speed at which the restitution is ``e_ref``.
+REFERENCE_SPEED = Interval(0.0, math.inf, closed="neither", unit="m/s")
+#: Vogel & Peukert's material parameters of the impact-breakage master
+#: curve (Powder Technol. 129:101, 2003): f_Mat and W_m,min.
+F_MAT = Interval(0.0, math.inf, unit="kg/(J m)")
+W_MIN = Interval(0.0, math.inf, unit="J/kg")
