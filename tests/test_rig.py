@@ -217,3 +217,25 @@ def test_plan_on_quick_gives_finite_plausible_numbers(tmp_path, capsys):
     assert plan["drops for +-5 points at any probability"] == 381
     assert 0 < plan["largest peak force"] < 100
     assert (tmp_path / "rig-plan.png").is_file()
+
+
+@pytest.mark.slow
+def test_plan_fills_the_run_reports_section(small_run, tmp_path, capsys):
+    # a copy of the shared run: the plan writes into its run folder
+    import shutil
+    run = tmp_path / "run"
+    shutil.copytree(small_run, run)
+    page = run / "report.html"
+    assert "No rig plan yet" in page.read_text()
+    code = main(["plan", str(small_run.parent / "small.yaml"), "--run", str(run), "--drops", "200"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    text = page.read_text()
+    assert "No rig plan yet" not in text and text.count("<h2 id=rig-plan>") == 1
+    assert 'src="rig-plan.png"' in text and (run / "rig-plan.png").is_file()
+    # no materials in this study: no contact numbers, said so; the rest is there
+    plan = pd.read_csv(run / PLAN_FILE).set_index("item")["value"]
+    assert np.isnan(plan["shortest contact"]) and "no materials" in out
+    assert plan["camera frame rate"] > 0 and plan["drops for +-5 points at any probability"] == 381
+    picks = pd.read_csv(run / "picks.csv")
+    assert f"pick 1: aspect ratio {picks['aspect_ratio'][0]:.4g}" in out
