@@ -102,12 +102,15 @@ def cmd_plan(args):
     report_warnings(study.warnings, args.strict)
     if args.out is not None and args.out.exists() and not args.out.is_dir():
         raise InputError(f"--out {args.out} is a file; the plan goes into a folder (nothing was written)")
+    if args.fov_width is not None and args.fov_width > 2.0:   # legal, but a lab drop rarely needs it
+        report_warnings([f"--fov-width {args.fov_width:g} m is wider than a drop rig's camera usually sees; "
+                         "the option is in metres (millimetres typed?)"], args.strict)
     study = _with_materials(study, args)
     options = RigOptions(fov_width=args.fov_width, sensor_pixels=args.sensor_pixels, target=args.target,
                          drops=args.drops)
     plans = []
     for label, values, runner in _conditions(study, args):
-        plans.append(rig_plan(at_condition(study, values), label, values, options,
+        plans.append(rig_plan(at_condition(study, values), label, options,
                               runner_up=None if runner is None else at_condition(study, runner)))
     out = args.out or args.run or Path("runs") / study.name
     out.mkdir(parents=True, exist_ok=True)

@@ -20,8 +20,8 @@ from .contact_inputs import single_settings
 from .contact_report import edge_tension
 from .plan import robust_frame
 from .quantities import radians_within_one_turn
-from .rig_camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, body_reach, camera_rate,
-                         drop_extent, fastest_point_speed, longest_exposure)
+from .rig_camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, SENSOR_PIXELS, body_reach,
+                         camera_rate, drop_extent, fastest_point_speed, longest_exposure)
 from .rig_release import GoalAt, release_tolerances
 from .rig_repeats import drops_to_estimate, drops_to_tell_apart
 from .study import COLUMN, Study, contact_settings
@@ -35,7 +35,7 @@ class RigOptions:
     """What the user states about the rig (None: the default)."""
 
     fov_width: float | None = None   # [m] field of view's width; default: the drop's extent x FIELD_MARGIN
-    sensor_pixels: int = 1024        # [px] across the sensor
+    sensor_pixels: int = SENSOR_PIXELS   # [px] across the sensor
     target: float | None = None      # [-] goal probability to keep; default the study's picks target
     drops: int = 2000                # [-] Monte Carlo drops per evaluation
 
@@ -138,7 +138,8 @@ def _force(plan, study, loads):
         return
     force, pressure = np.nanmax(loads["peak_force"]), np.nanmax(loads["peak_pressure"])
     plan.add("force", "largest peak force", force, "N", "over the condition's drops and impacts")
-    plan.add("force", "largest peak pressure", pressure * 1e-6, "MPa", "Hertz, elastic")
+    plan.add("force", "largest peak pressure", pressure * 1e-6, "MPa",
+             "Hertz, elastic: where the material yields the real pressure is lower; a screen, test real parts")
     from hopscape.sim.materials import material
     name = study.body.material
     found = material(name) if name else None
@@ -154,7 +155,7 @@ def _force(plan, study, loads):
                                   "and guard the drop zone (fragments fly).")
 
 
-def rig_plan(study: Study, label, values, options: RigOptions, runner_up=None) -> RigPlan:
+def rig_plan(study: Study, label, options: RigOptions, runner_up=None) -> RigPlan:
     """The plan at one condition.
 
     Parameters
@@ -163,8 +164,6 @@ def rig_plan(study: Study, label, values, options: RigOptions, runner_up=None) -
         The study fixed at the condition (:func:`explore.rig_conditions.at_condition`).
     label : str
         The condition in words.
-    values : dict
-        The condition (for the table). [study units]
     options : RigOptions
     runner_up : Study, optional
         The study fixed at the runner-up condition: the repeats that tell

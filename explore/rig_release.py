@@ -17,6 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from hopscape.sim import GRAVITY
+
 from .metrics import simulate_frame
 from .plan import grid_frame, robust_frame
 from .study import COLUMN, Study
@@ -146,7 +148,7 @@ def search_limits(goal: GoalAt, reach):
     impact speed of a fall from the mean height, ``2 sqrt(2 g h) / reach``.
     """
     height = goal.mean("height")
-    return {"angle": 45.0, "height": height, "spin": 2 * np.sqrt(2 * 9.81 * height) / reach}
+    return {"angle": 45.0, "height": height, "spin": 2 * np.sqrt(2 * GRAVITY * height) / reach}
 
 
 def release_tolerances(goal: GoalAt, target, reach):

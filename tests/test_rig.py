@@ -239,3 +239,12 @@ def test_plan_fills_the_run_reports_section(small_run, tmp_path, capsys):
     assert plan["camera frame rate"] > 0 and plan["drops for +-5 points at any probability"] == 381
     picks = pd.read_csv(run / "picks.csv")
     assert f"pick 1: aspect ratio {picks['aspect_ratio'][0]:.4g}" in out
+
+
+def test_a_field_of_view_in_millimetres_is_warned_and_strict_refuses_it(tmp_path, capsys):
+    # 50 "m" of field: legal, but surely millimetres; --strict makes it bad input
+    code = main(["plan", str(QUICK), "--at", "angle=30,aspect_ratio=4", "--fov-width", "50", "--strict",
+                 "--out", str(tmp_path)])
+    err = capsys.readouterr().err
+    assert code == 2 and "--fov-width 50 m" in err and "(--strict)" in err
+    assert not (tmp_path / PLAN_FILE).exists()
