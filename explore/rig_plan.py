@@ -195,7 +195,7 @@ def rig_plan(study: Study, label, options: RigOptions, runner_up=None) -> RigPla
         unit, scale = {"angle": ("deg", 1), "height": ("mm", 1e3), "spin": ("rad/s", 1), "together": ("-", 1)}[b.name]
         item = ("largest common fraction of the three, together" if b.name == "together" else
                 f"largest {b.name} tolerance alone (+-)")
-        how = b.words or (f"goal {b.p_low:.2%} here, {b.p_high:.2%} at {b.high * scale:.4g}; target {target:.0%}")
+        how = b.words(scale, "" if unit == "-" else unit) or (f"goal {b.p_low:.2%} here, {b.p_high:.2%} at {b.high * scale:.4g}; target {target:.0%}")
         plan.add("release", item, b.low * scale, unit, how)
     p = goal.probability(tol.angle, tol.height, tol.spin)
     plan.add("repeats", "goal probability at the study's tolerance", p, "-",

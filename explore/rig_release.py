@@ -85,12 +85,12 @@ class Bracket:
     p_high: float       # ... at high [-] (NaN with high)
     limit: float        # the top of the search range [unit]
 
-    @property
-    def words(self):
+    def words(self, scale=1.0, unit=""):
+        """What a bracket at an end of the range means, or '' (values x ``scale``, in ``unit``)."""
         if self.low == 0 and self.p_low != self.p_low:
             return "not met even with an exact release"
         if self.high != self.high:
-            return f"met up to the whole range searched ({self.limit:.3g})"
+            return f"met up to the whole range searched ({self.limit * scale:.3g} {unit})".replace(" )", ")")
         return ""
 
 
