@@ -25,9 +25,9 @@ def register(sub):
                        "drops needed, and the largest contact forces. Writes plan.csv and rig-plan.png, and the "
                        "rig plan section of the run's report.html.")
     p.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
-    p.add_argument("--pick", type=_positive_int("--pick"), default=1,
-                   help="rank of the pick in the run's picks.csv (default 1, the best); the next rank is the "
-                        "runner-up it is compared with")
+    p.add_argument("--pick", default="1", metavar="RANK[,RANK...]|all",
+                   help="rank(s) of the picks in the run's picks.csv, or all (default 1, the best); each is "
+                        "compared with the next rank, its runner-up")
     p.add_argument("--at", default=None, metavar="NAME=VALUE,...",
                    help="a drop condition instead of a pick, in the study file's units, e.g. "
                         "--at angle=30,aspect_ratio=4 (every swept quantity needs a value)")
@@ -80,13 +80,18 @@ def _conditions(study, args):
         values = parse_at(args.at, study)
         return [(f"given: {condition_words(values)}", values, None)]
     picks = read_picks(args.run or Path("runs") / study.name, study)
-    ranks = [p["rank"] for p in picks]
-    if args.pick not in ranks:
-        raise InputError(f"--pick must be one of the run's ranks {ranks[0]}-{ranks[-1]}, got {args.pick}")
-    chosen = picks[ranks.index(args.pick)]
-    other = next((p for p in picks if p["rank"] == args.pick + 1), None)
-    return [(f"pick {args.pick}: {condition_words(chosen['values'])}", chosen["values"],
-             None if other is None else other["values"])]
+    by_rank = {p["rank"]: p for p in picks}
+    wanted = list(by_rank) if args.pick.strip().lower() == "all" else []
+    for text in ([] if wanted else args.pick.split(",")):
+        try:
+            wanted.append(int(text))
+        except ValueError:
+            wanted.append(text.strip())
+        if wanted[-1] not in by_rank:
+            raise InputError(f"--pick must be ranks of the run's picks ({min(by_rank)}-{max(by_rank)}) or all, "
+                             f"got {text.strip()!r}")
+    return [(f"pick {rank}: {condition_words(by_rank[rank]['values'])}", by_rank[rank]["values"],
+             by_rank[rank + 1]["values"] if rank + 1 in by_rank else None) for rank in dict.fromkeys(wanted)]
 
 
 def cmd_plan(args):

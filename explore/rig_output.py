@@ -80,7 +80,8 @@ def plan_picture(plans, path, study_name):
         for i, plan in enumerate(drawn):
             duration = FRAMES_IN_CONTACT / plan.camera.rate * 1e6
             ax.axhline(duration, color=colours[i % len(colours)], lw=1.8,
-                       label=f"the plan's camera, {plan.camera.rate:,.0f} frames/s: {FRAMES_IN_CONTACT} frames in "
+                       label=f"{plan.label.split(':')[0]}'s camera, {plan.camera.rate:,.0f} frames/s: "
+                             f"{FRAMES_IN_CONTACT} frames in "
                              f"{duration:.0f} us")
         ax.legend(fontsize=7, loc="upper left", frameon=False)
     else:

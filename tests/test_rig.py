@@ -248,3 +248,15 @@ def test_a_field_of_view_in_millimetres_is_warned_and_strict_refuses_it(tmp_path
     err = capsys.readouterr().err
     assert code == 2 and "--fov-width 50 m" in err and "(--strict)" in err
     assert not (tmp_path / PLAN_FILE).exists()
+
+
+@pytest.mark.parametrize("pick", ["9", "x", "1,0"])
+def test_a_pick_the_run_does_not_have_is_bad_input(tmp_path, capsys, pick):
+    run = tmp_path / "run"
+    run.mkdir()
+    pd.DataFrame({"rank": [1, 2], "aspect_ratio": [5.8, 5.8], "angle_deg": [49.5, 51.0],
+                  "goal_probability": [0.9, 0.8]}).to_csv(run / "picks.csv", index=False)
+    code = main(["plan", str(QUICK), "--run", str(run), "--pick", pick])
+    err = capsys.readouterr().err
+    assert code == 2 and err.count("\n") == 1
+    assert "--pick must be ranks of the run's picks (1-2) or all" in err and repr(pick.split(",")[-1]) in err
