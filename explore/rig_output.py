@@ -48,10 +48,12 @@ def write_plan_csv(plans, path):
 
 
 def plan_picture(plans, path, study_name):
-    """Contact duration against impact angle, with the frame-rate lines.
+    """Two panels: contact duration against impact angle, and the flights
+    the study counts against their bounce, each with its frame-rate lines.
 
-    A contact above the line of a frame rate gets at least five frames at
-    that rate; the plan's own rate is drawn bold. Returns the path.
+    A contact above a rate's line gets at least five frames at that rate, a
+    flight above it at least ten; each plan's own rate is drawn bold.
+    Returns the path.
     """
     import matplotlib
 
@@ -59,10 +61,10 @@ def plan_picture(plans, path, study_name):
     import matplotlib.pyplot as plt
 
     from .figures import OKABE_ITO, save_figure
-    from .rig_camera import FRAMES_IN_CONTACT
+    from .rig_camera import FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT
 
     colours = [OKABE_ITO[k] for k in ("blue", "orange", "green", "purple", "sky")]
-    fig, ax = plt.subplots(figsize=(9, 5.2), constrained_layout=True)
+    fig, (ax, right) = plt.subplots(1, 2, figsize=(13, 5.4), width_ratios=(3, 2), constrained_layout=True)
     drawn = [p for p in plans if p.contact_time is not None and p.contact_time.size]
     for i, plan in enumerate(drawn):
         ax.scatter(plan.impact_angle, plan.contact_time * 1e6, s=5, alpha=0.35, lw=0,
@@ -72,17 +74,12 @@ def plan_picture(plans, path, study_name):
         high = max(float(np.max(p.contact_time)) for p in drawn) * 1e6
         bottom = min(low, FRAMES_IN_CONTACT / max(p.camera.rate for p in drawn) * 1e6) * 0.8
         ax.set_ylim(bottom, high * 1.15)
-        for rate in COMMON_RATES:
-            duration = FRAMES_IN_CONTACT / rate * 1e6
-            if bottom < duration < high * 1.15:
-                ax.axhline(duration, color="0.55", lw=0.8, ls=":")
-                ax.text(91, duration, f"{rate:,.0f} /s", fontsize=7, va="bottom", ha="left", color="0.35")
+        _rate_lines(ax, FRAMES_IN_CONTACT, 1e6, bottom, high * 1.15, 91)
         for i, plan in enumerate(drawn):
             duration = FRAMES_IN_CONTACT / plan.camera.rate * 1e6
             ax.axhline(duration, color=colours[i % len(colours)], lw=1.8,
                        label=f"{plan.label.split(':')[0]}'s camera, {plan.camera.rate:,.0f} frames/s: "
-                             f"{FRAMES_IN_CONTACT} frames in "
-                             f"{duration:.0f} us")
+                             f"{FRAMES_IN_CONTACT} frames in {duration:.0f} us")
         ax.legend(fontsize=7, loc="upper left", frameon=False)
     else:
         ax.text(45, 0.5, "no contact durations: give the body's and the floor's materials\n"
@@ -93,9 +90,40 @@ def plan_picture(plans, path, study_name):
     ax.set_xlabel("impact angle: body axis to the floor at the impact [deg] (0 lying flat, 90 upright)")
     ax.set_ylabel("contact duration [us]")
     ax.grid(alpha=0.3)
-    ax.set_title(f"{study_name}: which frame rate resolves every contact? A contact above a rate's line gets at "
-                 f"least {FRAMES_IN_CONTACT} frames at that rate", fontsize=9.5, loc="left")
+    ax.set_title(f"does the camera resolve every contact? ({FRAMES_IN_CONTACT} frames above a rate's line)",
+                 fontsize=9.5, loc="left")
+    flights = [p for p in plans if p.flight_time is not None and p.flight_time.size]
+    for i, plan in enumerate(flights):
+        jitter = (np.random.default_rng(0).random(plan.flight_bounce.size) - 0.5) * 0.5   # only spreads the dots
+        right.scatter(plan.flight_bounce + jitter + 0.1 * i, plan.flight_time * 1e3, s=5, alpha=0.35, lw=0,
+                      color=colours[i % len(colours)])
+    if flights:
+        low = min(min(float(np.min(p.flight_time)) for p in flights),
+                  FRAMES_IN_FLIGHT / max(p.camera.rate for p in flights)) * 1e3
+        high = max(float(np.max(p.flight_time)) for p in flights) * 1e3
+        right.set_yscale("log")
+        right.set_ylim(low * 0.5, high * 1.5)
+        _rate_lines(right, FRAMES_IN_FLIGHT, 1e3, low * 0.5, high * 1.5, None)
+        for i, plan in enumerate(flights):
+            right.axhline(FRAMES_IN_FLIGHT / plan.camera.rate * 1e3, color=colours[i % len(colours)], lw=1.8)
+    right.set_xlabel("bounce the flight follows, as the study groups impacts [-]")
+    right.set_ylabel("flight between bounces [ms]")
+    right.grid(alpha=0.3, which="both")
+    right.set_title(f"can the rebound be measured? ({FRAMES_IN_FLIGHT} frames above a rate's line)", fontsize=9.5,
+                    loc="left")
+    fig.suptitle(f"{study_name}: the frame rate the rig's camera needs (bold: the plan's camera)", fontsize=11)
     return save_figure(fig, path)[0]
+
+
+def _rate_lines(ax, frames, scale, low, high, text_x):
+    """Dotted lines of :data:`COMMON_RATES` at ``frames / rate`` (x ``scale``), labelled."""
+    for rate in COMMON_RATES:
+        duration = frames / rate * scale
+        if low < duration < high:
+            ax.axhline(duration, color="0.55", lw=0.8, ls=":")
+            ax.text(text_x if text_x is not None else 1.0, duration, f"{rate:,.0f} /s", fontsize=7, va="bottom",
+                    ha="left" if text_x is not None else "right", color="0.35",
+                    transform=ax.transData if text_x is not None else ax.get_yaxis_transform())
 
 
 def section_html(folder):

@@ -48,6 +48,8 @@ class RigPlan:
     rows: list = field(default_factory=list)    # dicts: section, item, value, unit, how
     impact_angle: np.ndarray | None = None      # [deg] per Hertzian impact, axis to floor, 0..90
     contact_time: np.ndarray | None = None      # [s] per Hertzian impact
+    flight_bounce: np.ndarray | None = None     # [-] per flight the study counts: the bounce it follows
+    flight_time: np.ndarray | None = None       # [s] ... and its length
     camera: object = None                       # rig_camera.CameraRate
     notes: list = field(default_factory=list)
 
@@ -96,6 +98,9 @@ def _camera(plan, study, result, loads, options):
     shortest_contact = float(loads["contact_time"][finite].min()) if finite is not None and finite.any() else np.nan
     cam = camera_rate(result, shortest_contact, study.run.merge_window)
     plan.camera = cam
+    counted = np.isfinite(result.flight) & (result.flight >= study.run.merge_window) & (result.flight > 0)
+    plan.flight_bounce = sim.group_bounces(result, study.run.merge_window).index[counted]
+    plan.flight_time = result.flight[counted]
     if finite is not None and finite.any():
         theta = np.degrees(result.theta[finite])
         plan.impact_angle = np.abs((theta + 90.0) % 180.0 - 90.0)   # axis to floor, 0 flat .. 90 upright
