@@ -153,9 +153,11 @@ def section_html(folder):
             parts.append(f"<h3>{html.escape(str(condition))}</h3><div class=wide><table><tr><th>part</th><th>what"
                          f"</th><th>value</th><th>unit</th><th>how</th></tr>{body}</table></div>")
         if (folder / PLAN_PICTURE).is_file():
-            parts.append(f'<figure><img src="{PLAN_PICTURE}" alt="contact duration against impact angle">'
-                         "<figcaption>Contact duration of every Hertzian impact at the condition(s), against the "
-                         "impact angle, with the frame rates that give five frames in a contact.</figcaption>"
+            parts.append(f'<figure><img src="{PLAN_PICTURE}" alt="contact durations and flights against frame rates">'
+                         "<figcaption>Left: contact duration of every Hertzian impact at the condition(s), against "
+                         "the impact angle, with the frame rates that give five frames in a contact. Right: the "
+                         "flights between the bounces the study counts, with the rates that give ten frames in a "
+                         "flight.</figcaption>"
                          "</figure>")
     parts += [f"<div class=box><b>Safety.</b> {html.escape(SAFETY)}</div>", _END]
     return "\n".join(parts)
