@@ -260,3 +260,23 @@ def test_a_pick_the_run_does_not_have_is_bad_input(tmp_path, capsys, pick):
     err = capsys.readouterr().err
     assert code == 2 and err.count("\n") == 1
     assert "--pick must be ranks of the run's picks (1-2) or all" in err and repr(pick.split(",")[-1]) in err
+
+
+@pytest.mark.slow
+def test_plan_on_a_handling_line_study_gives_finite_plausible_numbers(tmp_path, capsys):
+    # pill-lip: size-0 class capsules (7.6 mm across) 30-60 mm onto a 10 deg chute
+    study = QUICK.parent / "pill-lip.yaml"
+    code = main(["plan", str(study), "--at", "angle=15,floor_angle=10", "--drops", "300",
+                 "--body-material", "hard_gelatin", "--floor-material", "stainless_steel", "--out", str(tmp_path)])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    plan = pd.read_csv(tmp_path / PLAN_FILE).set_index("item")["value"]
+    assert np.isfinite(plan.drop(["drops per condition to tell them apart"], errors="ignore")).all()
+    # Hertz contact of a gelatin shell on steel at ~1 m/s: tens of microseconds (docs/physics.md section 9)
+    assert 10 < plan["shortest contact"] < 300
+    # a fall of at most 60 mm plus 5 mm of tolerance: sqrt(2 g 0.065) = 1.13 m/s at the centre; spin after
+    # the impacts adds at the ends, but not more than doubles it
+    assert 0.5 < plan["fastest speed of any point"] < 2 * 1.13 + 0.5
+    assert plan["field of view needed: height"] > 30            # [mm] it starts 30-60 mm up
+    assert plan["field of view needed: width"] > 21.6            # [mm] at least its own length
+    assert 0 <= plan["largest angle tolerance alone (+-)"] <= 45
