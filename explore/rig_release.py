@@ -24,8 +24,9 @@ from .plan import grid_frame, robust_frame
 from .study import COLUMN, Study
 from .under_tolerance import goal_view, tolerance_effect
 
-#: Bisection steps: the tolerance is bracketed within 1/4096 of its search range.
-STEPS = 12
+#: Bisection steps: the tolerance is bracketed within 1/65536 of its search range
+#: (the range is wide, so that an answer near its bottom is still resolved).
+STEPS = 16
 
 QUANTITIES_TOLERATED = ("angle", "height", "spin")
 
@@ -94,7 +95,7 @@ class Bracket:
         return ""
 
 
-def largest_tolerance(goal_at, target, name, limit, scale=None, steps=STEPS):
+def largest_tolerance(goal_at, target, name, limit, steps=STEPS):
     """Bisection for the largest tolerance that keeps the goal at ``target``.
 
     Parameters

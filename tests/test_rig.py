@@ -17,7 +17,7 @@ from hopscape.rig_camera import (body_reach, camera_rate, drop_extent, fastest_p
 from hopscape.rig_conditions import at_condition
 from hopscape.rig_output import PLAN_FILE, plan_text, section_html, update_report
 from hopscape.rig_plan import RigPlan
-from hopscape.rig_release import GoalAt, largest_tolerance
+from hopscape.rig_release import STEPS, GoalAt, largest_tolerance
 from hopscape.rig_repeats import drops_to_estimate, drops_to_tell_apart, wilson_half_width
 from hopscape.safety import SAFETY
 from hopscape.study import load_study
@@ -119,7 +119,7 @@ def test_bisection_brackets_a_known_crossing():
     # p(x) = 1 - x / 10 crosses 0.75 at x = 2.5 (by hand)
     found = largest_tolerance(lambda x: 1 - x / 10, 0.75, "angle", 10.0)
     assert found.low <= 2.5 < found.high
-    assert found.high - found.low == pytest.approx(10.0 / 2 ** 12, rel=1e-12)
+    assert found.high - found.low == pytest.approx(10.0 / 2 ** STEPS, rel=1e-12)
     assert largest_tolerance(lambda x: 0.5, 0.75, "angle", 10.0).low == 0.0        # missed even exactly
     assert np.isnan(largest_tolerance(lambda x: 0.9, 0.75, "angle", 10.0).high)    # met over the whole range
 
