@@ -139,6 +139,10 @@ def section_html(folder):
         parts.append("<p>No rig plan yet: <code>hopscape plan STUDY</code> writes the camera, release precision, "
                      "repeats and forces the rig needs at the picks into this section.</p>")
     else:
+        picks = folder / "picks.csv"
+        if picks.is_file() and picks.stat().st_mtime > csv.stat().st_mtime:
+            parts.append("<div class=box><b>Out of date.</b> This plan was made before the run's latest picks; "
+                         "make it again with <code>hopscape plan STUDY</code>.</div>")
         frame = pd.read_csv(csv, keep_default_na=False)
         frame["value"] = [_value(float(v) if v != "" else np.nan, u) for v, u in zip(frame["value"], frame["unit"])]
         parts.append("<p>What the rig must achieve at the condition(s) below: the camera (frame rate, exposure, "

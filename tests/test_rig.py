@@ -280,3 +280,17 @@ def test_plan_on_a_handling_line_study_gives_finite_plausible_numbers(tmp_path, 
     assert plan["field of view needed: height"] > 30            # [mm] it starts 30-60 mm up
     assert plan["field of view needed: width"] > 21.6            # [mm] at least its own length
     assert 0 <= plan["largest angle tolerance alone (+-)"] <= 45
+
+
+def test_a_plan_older_than_the_picks_is_marked_out_of_date(tmp_path):
+    import os
+    plan = RigPlan("pick 1: angle 30 deg")
+    plan.add("camera", "camera frame rate", 83000.0, "1/s")
+    plan.table().to_csv(tmp_path / PLAN_FILE, index=False)
+    (tmp_path / "picks.csv").write_text("rank\n1\n")
+    earlier = (tmp_path / PLAN_FILE).stat().st_mtime - 10
+    os.utime(tmp_path / "picks.csv", (earlier, earlier))   # the run, then the plan
+    assert "Out of date" not in section_html(tmp_path)
+    later = (tmp_path / PLAN_FILE).stat().st_mtime + 10
+    os.utime(tmp_path / "picks.csv", (later, later))   # a newer run
+    assert "Out of date" in section_html(tmp_path)
