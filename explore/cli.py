@@ -19,9 +19,8 @@ from .cli_text import STRICT_HELP, report_warnings
 from .defaults import IMPACTS
 from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
 from .files import refuse_overwriting_input
+from .safety import SAFETY
 
-SAFETY = ("Safety: drops from height, heavy, sharp or brittle parts (glass, tablets that shatter) "
-          "can injure; wear eye protection, guard the drop zone, and follow your local safety rules.")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -388,7 +387,7 @@ def cmd_drop(args):
                                        f"Contact force of each impact: {args.body_material or 'body'} on "
                                        f"{args.floor_material or 'floor'}" + frames))
         print("pictures: " + ", ".join(str(p) for p in paths))
-    print("\n" + SAFETY)
+    print("\nSafety: " + SAFETY)
     return EXIT_OK
 
 

@@ -1,4 +1,4 @@
-"""Study commands: ``run``, ``check`` and ``new``."""
+"""Study commands: ``run``, ``check``, ``new`` and ``plan`` (in :mod:`explore.rig_command`)."""
 from __future__ import annotations
 
 import json
@@ -24,7 +24,7 @@ RUN_RECORD = "run.json"
 
 
 def register(sub):
-    """Add the ``run``, ``check`` and ``new`` commands and their handlers.
+    """Add the ``run``, ``check``, ``new`` and ``plan`` commands and their handlers.
 
     Parameters
     ----------
@@ -47,7 +47,8 @@ def register(sub):
     new = sub.add_parser("new", help="write a commented study template")
     new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
     new.add_argument("--out", type=Path, default=None)
-    HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new)
+    from .rig_command import register as register_plan
+    HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new, plan=register_plan(sub))
 
 
 def find_study(text):

@@ -19,13 +19,11 @@ from .robust_map import tolerance_text
 from .sensitivity import METHODS
 from .study import COLUMN, QUANTITIES, Study
 from .files import write_text
+from .safety import SAFETY
 
 #: The page, inside the run folder.
 REPORT_FILE = "report.html"
 
-SAFETY = ("Drops from height and heavy, sharp or brittle parts (glass, coated tablets that shatter) can injure "
-          "people nearby: wear eye protection, guard the drop zone, keep hands clear of release jigs, and follow "
-          "your site's safety rules, which take precedence over anything here.")
 
 _CSS = ("""body{font-family:system-ui,sans-serif;max-width:1100px;margin:2em auto;padding:0 1em;color:#222}
 h1{margin-bottom:0}.sub{color:#555;margin-top:.2em}table{border-collapse:collapse;margin:.6em 0}
@@ -244,6 +242,8 @@ def write_report(outcome, art, seconds) -> Path:
         if len(chaotic):
             parts.append(f"<div class=box><b>Warning.</b> {len(chaotic)} of these picks sit in a chaotic region: "
                          "release errors often change the outcome. Prefer a calmer pick or a tighter rig.</div>")
+    from .rig_output import section_html
+    parts.append(section_html(folder))   # the rig plan, once `hopscape plan` has made one
     # counts
     counts = []
     for stage in outcome.tables:
