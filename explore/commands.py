@@ -1,4 +1,4 @@
-"""Study commands: ``run``, ``check``, ``new`` and ``plan`` (in :mod:`explore.rig_command`)."""
+"""Study commands: ``run``, ``check``, ``new`` and ``plan`` (in :mod:`explore.rig.command`)."""
 from __future__ import annotations
 
 import json
@@ -47,7 +47,7 @@ def register(sub):
     new = sub.add_parser("new", help="write a commented study template")
     new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
     new.add_argument("--out", type=Path, default=None)
-    from .rig_command import register as register_plan
+    from .rig.command import register as register_plan
     HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new, plan=register_plan(sub))
 
 

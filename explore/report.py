@@ -242,7 +242,7 @@ def write_report(outcome, art, seconds) -> Path:
         if len(chaotic):
             parts.append(f"<div class=box><b>Warning.</b> {len(chaotic)} of these picks sit in a chaotic region: "
                          "release errors often change the outcome. Prefer a calmer pick or a tighter rig.</div>")
-    from .rig_output import section_html
+    from .rig.output import section_html
     parts.append(section_html(folder))   # the rig plan, once `hopscape plan` has made one
     # counts
     counts = []

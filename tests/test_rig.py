@@ -12,13 +12,13 @@ from scipy.stats import binomtest, norm
 
 from hopscape import sim
 from hopscape.cli import main
-from hopscape.rig_camera import (body_reach, camera_rate, drop_extent, fastest_point_speed, frames_rate,
+from hopscape.rig.camera import (body_reach, camera_rate, drop_extent, fastest_point_speed, frames_rate,
                                  longest_exposure)
-from hopscape.rig_conditions import at_condition
-from hopscape.rig_output import PLAN_FILE, plan_text, section_html, update_report
-from hopscape.rig_plan import RigPlan
-from hopscape.rig_release import STEPS, GoalAt, largest_tolerance
-from hopscape.rig_repeats import drops_to_estimate, drops_to_tell_apart, wilson_half_width
+from hopscape.rig.conditions import at_condition
+from hopscape.rig.output import PLAN_FILE, plan_text, section_html, update_report
+from hopscape.rig.plan import RigPlan
+from hopscape.rig.release import STEPS, GoalAt, largest_tolerance
+from hopscape.rig.repeats import drops_to_estimate, drops_to_tell_apart, wilson_half_width
 from hopscape.safety import SAFETY
 from hopscape.study import load_study
 

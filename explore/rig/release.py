@@ -19,10 +19,10 @@ import numpy as np
 
 from hopscape.sim import GRAVITY
 
-from .metrics import simulate_frame
-from .plan import grid_frame, robust_frame
-from .study import COLUMN, Study
-from .under_tolerance import goal_view, tolerance_effect
+from ..metrics import simulate_frame
+from ..plan import grid_frame, robust_frame
+from ..study import COLUMN, Study
+from ..under_tolerance import goal_view, tolerance_effect
 
 #: Bisection steps: the tolerance is bracketed within 1/65536 of its search range
 #: (the range is wide, so that an answer near its bottom is still resolved).
@@ -37,7 +37,7 @@ class GoalAt:
     Parameters
     ----------
     study : Study
-        The study fixed at the condition (:func:`explore.rig_conditions.at_condition`).
+        The study fixed at the condition (:func:`explore.rig.conditions.at_condition`).
     drops : int
         Monte Carlo drops per evaluation (the part-to-part scatter of the
         distributed quantities is drawn once, then re-dropped with errors).

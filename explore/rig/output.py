@@ -10,9 +10,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .files import write_csv, write_text
-from .report_text import table
-from .safety import SAFETY
+from ..files import write_csv, write_text
+from ..report_text import table
+from ..safety import SAFETY
 
 #: The plan's files, in the folder ``hopscape plan`` writes to (the run folder by default).
 PLAN_FILE, PLAN_PICTURE = "plan.csv", "rig-plan.png"
@@ -60,8 +60,8 @@ def plan_picture(plans, path, study_name):
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from .figures import OKABE_ITO, save_figure
-    from .rig_camera import FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT
+    from ..figures import OKABE_ITO, save_figure
+    from .camera import FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT
 
     colours = [OKABE_ITO[k] for k in ("blue", "orange", "green", "purple", "sky")]
     fig, (ax, right) = plt.subplots(1, 2, figsize=(13, 5.4), width_ratios=(3, 2), constrained_layout=True)

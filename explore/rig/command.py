@@ -6,8 +6,8 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
-from .cli_text import STRICT_HELP, report_warnings
-from .errors import InputError
+from ..cli_text import STRICT_HELP, report_warnings
+from ..errors import InputError
 
 
 def register(sub):
@@ -15,8 +15,8 @@ def register(sub):
     from hopscape.sim.limits import Interval
     from hopscape.sim.materials import materials
 
-    from .cli import _number, _positive_int
-    from .rig_camera import SENSOR_PIXELS
+    from ..cli import _number, _positive_int
+    from .camera import SENSOR_PIXELS
 
     p = sub.add_parser("plan", help="the rig plan at a pick: camera, release precision, repeats, forces",
                        description="What the rig must achieve at one of the study's picks (from its run's "
@@ -64,8 +64,8 @@ def _with_materials(study, args):
     if args.floor_material is not None:
         contact = contact.model_copy(update={"floor_material": args.floor_material.strip().lower(),
                                              "floor_modulus": None, "floor_poisson": None})
-    from .contact_inputs import single_settings
-    from .study import contact_settings
+    from ..contact_inputs import single_settings
+    from ..study import contact_settings
     try:
         single_settings(contact_settings(body, contact))
     except ValueError as exc:
@@ -75,7 +75,7 @@ def _with_materials(study, args):
 
 def _conditions(study, args):
     """[(label, values, runner-up values or None)] of the plan."""
-    from .rig_conditions import condition_words, parse_at, read_picks
+    from .conditions import condition_words, parse_at, read_picks
     if args.at is not None:
         values = parse_at(args.at, study)
         return [(f"given: {condition_words(values)}", values, None)]
@@ -96,11 +96,11 @@ def _conditions(study, args):
 
 def cmd_plan(args):
     """``hopscape plan``: print the plan, write plan.csv, rig-plan.png and the report's section."""
-    from .commands import find_study
-    from .rig_conditions import at_condition
-    from .rig_output import PLAN_FILE, PLAN_PICTURE, plan_picture, plan_text, update_report, write_plan_csv
-    from .rig_plan import RigOptions, rig_plan
-    from .study import load_study
+    from ..commands import find_study
+    from .conditions import at_condition
+    from .output import PLAN_FILE, PLAN_PICTURE, plan_picture, plan_text, update_report, write_plan_csv
+    from .plan import RigOptions, rig_plan
+    from ..study import load_study
 
     path = find_study(args.study)
     study = load_study(path)

@@ -9,8 +9,8 @@ import numpy as np
 
 from hopscape.sim.limits import number_text
 
-from .errors import InputError, shown
-from .study import COLUMN, QUANTITIES, Quantity, Study
+from ..errors import InputError, shown
+from ..study import COLUMN, QUANTITIES, Quantity, Study
 
 
 def at_condition(study: Study, values) -> Study:

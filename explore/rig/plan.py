@@ -16,15 +16,15 @@ from hopscape import sim
 from hopscape.sim.contact_load import impact_loads
 from hopscape.sim.hertz import rim_edge_default
 
-from .contact_inputs import single_settings
-from .contact_report import edge_tension
-from .plan import robust_frame
-from .quantities import radians_within_one_turn
-from .rig_camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, SENSOR_PIXELS, body_reach,
+from ..contact_inputs import single_settings
+from ..contact_report import edge_tension
+from ..plan import robust_frame
+from ..quantities import radians_within_one_turn
+from .camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, SENSOR_PIXELS, body_reach,
                          camera_rate, drop_extent, fastest_point_speed, longest_exposure)
-from .rig_release import GoalAt, release_tolerances
-from .rig_repeats import drops_to_estimate, drops_to_tell_apart
-from .study import COLUMN, Study, contact_settings
+from .release import GoalAt, release_tolerances
+from .repeats import drops_to_estimate, drops_to_tell_apart
+from ..study import COLUMN, Study, contact_settings
 
 #: The precision the repeats are planned for: +-5 percentage points at 95 %.
 HALF_WIDTH, CONFIDENCE = 0.05, 0.95
@@ -50,7 +50,7 @@ class RigPlan:
     contact_time: np.ndarray | None = None      # [s] per Hertzian impact
     flight_bounce: np.ndarray | None = None     # [-] per flight the study counts: the bounce it follows
     flight_time: np.ndarray | None = None       # [s] ... and its length
-    camera: object = None                       # rig_camera.CameraRate
+    camera: object = None                       # camera.CameraRate
     notes: list = field(default_factory=list)
 
     def add(self, section, item, value, unit, how=""):
@@ -166,7 +166,7 @@ def rig_plan(study: Study, label, options: RigOptions, runner_up=None) -> RigPla
     Parameters
     ----------
     study : Study
-        The study fixed at the condition (:func:`explore.rig_conditions.at_condition`).
+        The study fixed at the condition (:func:`explore.rig.conditions.at_condition`).
     label : str
         The condition in words.
     options : RigOptions

@@ -17,7 +17,7 @@ import math
 import numpy as np
 from scipy.stats import norm
 
-from .under_tolerance import wilson_interval
+from ..under_tolerance import wilson_interval
 
 #: Most drops a plan searches over; beyond it the answer is "more than this". [-]
 MOST_DROPS = 1_000_000
