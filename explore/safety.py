@@ -1,6 +1,6 @@
 """The safety caution every command and page shows, worded once.
 
-``hopscape drop``, ``hopscape plan`` and ``report.html`` print this same
+``hopscape drop``, ``track``, ``fit``, ``plan`` and ``report.html`` print this same
 text, so a change of wording reaches them all.
 """
 from __future__ import annotations

@@ -16,9 +16,8 @@ import numpy as np
 
 from ..cli_text import STRICT_HELP, report_warnings
 from ..errors import InputError
+from ..safety import SAFETY
 
-SAFETY = ("Safety: drop rigs throw parts; wear eye protection, keep glass and brittle parts behind a guard, "
-          "and follow your local safety rules first.")
 
 
 def register(sub, handlers):
@@ -183,7 +182,7 @@ def cmd_fit(args):
         print(f"written to {args.out}: fit.json, impacts.csv and pictures")
     if "study" in result:
         print(f"study with the fitted contact: {result['study']}")
-    print("\n" + SAFETY)
+    print("\nSafety: " + SAFETY)
     return 0
 
 

@@ -50,7 +50,7 @@ def register(sub, handlers):
 
 def cmd_track(args):
     """``hopscape track``: track the body, write the table, say what to pass to the fit."""
-    from ..cli import SAFETY
+    from ..safety import SAFETY
     from .frames import open_frames
     from .track import COLUMNS, Region, to_metres, track_pixels
 
@@ -101,7 +101,7 @@ def cmd_track(args):
                  f"as seen on screen); for the fit pass --scale PX_PER_M --y-down --floor-y {floor}")
     _write(table[list(COLUMNS)], args.out)
     print(f"track written to {args.out} in {units}")
-    print("\n" + SAFETY)
+    print("\nSafety: " + SAFETY)
 
 
 def _bar(iterable, total, words):
