@@ -46,6 +46,16 @@ def test_hertz_restitution_depends_on_alpha_times_speed_only():
     assert hertz_restitution(0.0, 2.0) == pytest.approx(1.0, abs=1e-6)  # no damping: elastic
 
 
+@pytest.mark.parametrize("e", [0.1, 0.3, 0.55, 0.9])
+def test_calibrated_damping_factor_gives_the_fitted_restitution(e):
+    # the factor handed on first: checked by the export's own independent
+    # integration (solve_ivp), where the published closed forms miss at
+    # moderate restitution (Hunt & Crossley: 0.66 for 0.5; docs/physics.md section 7)
+    out = compliant_parameters(e, 0.7)["hertz_damping_factor"]
+    assert out["calibrated"]["check_restitution"] == pytest.approx(e, abs=2e-3)
+    assert abs(out["hunt_crossley"]["check_restitution"] - e) > abs(out["calibrated"]["check_restitution"] - e)
+
+
 def test_every_export_names_its_source_and_check():
     out = compliant_parameters(0.6, 0.5)
     for part in out["hertz_damping_factor"].values():

@@ -10,7 +10,9 @@ approach speed ``v`` of the contact point:
   Lankarani & Nikravesh (J. Mech. Des. 112:369, 1990)
   ``3 (1 - e^2) / (4 v)``, and Flores, Machado, Silva & Martins
   (Multibody Syst. Dyn. 25:357, 2011) ``8 (1 - e) / (5 e v)``; the first
-  two hold for ``e`` near 1, the third over the whole range.
+  two hold for ``e`` near 1, the third over most of the range; and the
+  factor calibrated numerically, which hits ``e`` everywhere (the contact
+  model's own, :mod:`hopscape.sim.damping`).
 - Linear spring-dashpot: the damping ratio
   ``zeta = -ln(e) / sqrt(pi^2 + ln(e)^2)`` (the free damped oscillator
   over half a period; e.g. Tsuji, Tanaka & Ishida, Powder Technol. 71:239,
@@ -28,16 +30,22 @@ from pathlib import Path
 import numpy as np
 from scipy.integrate import solve_ivp
 
+from hopscape.sim.damping import CLOSED_FORMS, damping_for_restitution
+
 from ..errors import InputError
 from ..files import write_text
 
-#: Damping-factor relations for Hunt-Crossley damping: name -> (alpha(e, v) [s/m], source).
+#: Damping factors of Hunt-Crossley damping: name -> (alpha(e, v) [s/m], source). The
+#: three published closed forms are the contact model's own (:mod:`hopscape.sim.damping`);
+#: ``calibrated`` is the factor the contact model uses, found numerically so
+#: that one integrated impact gives ``e`` at any restitution (docs/physics.md
+#: section 7): the one to hand on.
 HUNT_CROSSLEY = {
-    "hunt_crossley": (lambda e, v: 3 * (1 - e) / (2 * v), "Hunt & Crossley, J. Appl. Mech. 42:440, 1975"),
-    "lankarani_nikravesh": (lambda e, v: 3 * (1 - e ** 2) / (4 * v),
-                            "Lankarani & Nikravesh, J. Mech. Des. 112:369, 1990"),
-    "flores": (lambda e, v: 8 * (1 - e) / (5 * e * v), "Flores, Machado, Silva & Martins, Multibody Syst. Dyn. "
-               "25:357, 2011"),
+    "calibrated": (damping_for_restitution, "numerical calibration of the restitution of F = k d^1.5 (1 + alpha "
+                   "d') against alpha v (hopscape, docs/physics.md section 7)"),
+    "hunt_crossley": (CLOSED_FORMS["hunt_crossley"], "Hunt & Crossley, J. Appl. Mech. 42:440, 1975"),
+    "lankarani_nikravesh": (CLOSED_FORMS["lankarani_nikravesh"], "Lankarani & Nikravesh, J. Mech. Des. 112:369, 1990"),
+    "flores": (CLOSED_FORMS["flores"], "Flores, Machado, Silva & Martins, Multibody Syst. Dyn. 25:357, 2011"),
 }
 
 
