@@ -22,21 +22,14 @@ from .batch_contract import DIMENSIONS, INPUT_COLUMNS, NUMBERS, OUTPUT_COLUMNS  
 from .contact_inputs import contact_settings
 from .defaults import IMPACTS
 from .errors import InputError
+from . import files
 from .files import atomic_write
 from .plausibility import drop_warnings
 from .quantities import QUANTITIES, radians_within_one_turn
 
 def read_table(path):
-    """Read a CSV or Parquet table (chosen by the file ending)."""
-    path = Path(path)
-    if not path.exists():
-        raise InputError(f"{path}: no such file")
-    try:
-        if path.suffix.lower() in (".parquet", ".pq"):
-            return pd.read_parquet(path)
-        return pd.read_csv(path)
-    except Exception as exc:  # unreadable file: one line, no traceback
-        raise InputError(f"{path}: cannot read the table ({type(exc).__name__}: {str(exc).splitlines()[0]})")
+    """Read a batch table, CSV or Parquet (chosen by the file ending)."""
+    return files.read_table(path, "table")
 
 
 def write_table(frame, path):

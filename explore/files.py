@@ -118,3 +118,34 @@ def folder_lock(folder):
     finally:
         del _held[folder]
         handle.close()                       # closing releases the flock
+
+
+def read_table(path, what="table"):
+    """A CSV or Parquet file (chosen by its ending) as a DataFrame.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+    what : str
+        What the file holds, for messages (``table``, ``track``).
+
+    Raises
+    ------
+    InputError
+        One line: a missing file, or why it cannot be read.
+    """
+    import pandas as pd
+
+    path = Path(path)
+    if not path.is_file():
+        raise InputError(f"{path}: no such {what} file" if what != "table" else f"{path}: no such file")
+    kind = "Parquet" if path.suffix.lower() in (".parquet", ".pq") else "CSV"
+    try:
+        if kind == "Parquet":
+            return pd.read_parquet(path)
+        # exports of spreadsheets and tracking tools often write ", " between cells
+        return pd.read_csv(path, skipinitialspace=True)
+    except Exception as exc:  # noqa: BLE001 - any unreadable file: one line, no traceback
+        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise InputError(f"{path}: cannot read the {what} as {kind} ({first})") from None
+

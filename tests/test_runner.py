@@ -235,15 +235,22 @@ def test_kill_9_mid_run_then_resume_gives_the_uninterrupted_table(mid_reference,
     assert_same_tables(outcome.tables, mid_reference.tables)
 
 
-@pytest.mark.slow
-def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
-    # the default backend of the study: two loky worker processes (asked for
-    # outright: the study alone is small enough to run in one process)
+def _start_mid_run(tmp_path):
+    """``hopscape run`` of MID on two loky workers (asked for outright: the
+    study alone is small enough to run in one process), as a process."""
     study_path = write_study(tmp_path, MID, "mid.yaml")
     folder = tmp_path / "run"
     proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
                                                   "--jobs", "2"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    return proc, folder
+
+
+@pytest.mark.slow
+def test_ctrl_c_exits_130_and_keeps_finished_parts(mid_reference, tmp_path):
+    # the default backend of the study: two loky worker processes (asked for
+    # outright: the study alone is small enough to run in one process)
+    proc, folder = _start_mid_run(tmp_path)
     try:
         _wait_for_first_part(proc, folder)
         workers = psutil.Process(proc.pid).children(recursive=True)
@@ -505,11 +512,7 @@ def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, mid_reference,
     # worker behind, and what is on disk resumes. (Once in 22 tries an
     # earlier version hung in joblib's abort for over a minute; the
     # tries here cover the phases where it could.)
-    study_path = write_study(tmp_path, MID, "mid.yaml")
-    folder = tmp_path / "run"
-    proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
-                                                  "--jobs", "2"],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    proc, folder = _start_mid_run(tmp_path)
     try:
         if moment.startswith("first part"):
             _wait_for_first_part(proc, folder)

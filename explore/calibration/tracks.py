@@ -24,12 +24,12 @@ row 1, the first frame row 2.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from ..errors import InputError, shown
+from ..files import read_table
 
 #: The contract's column names and their units.
 TRACK_COLUMNS = {"time": "s", "frame": "-", "x": "m", "y": "m", "angle": "deg",
@@ -90,24 +90,9 @@ def parse_columns(text):
     return mapping
 
 
-def read_table_file(path):
-    """A CSV or Parquet file as a table of text-or-number cells; InputError when unreadable."""
-    path = Path(path)
-    if not path.is_file():
-        raise InputError(f"{path}: no such track file")
-    try:
-        if path.suffix.lower() in (".parquet", ".pq"):
-            return pd.read_parquet(path)
-        return pd.read_csv(path, skipinitialspace=True)
-    except (ValueError, OSError, UnicodeDecodeError, pd.errors.ParserError) as exc:
-        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-        kind = "Parquet" if path.suffix.lower() in (".parquet", ".pq") else "CSV"
-        raise InputError(f"{path}: cannot read the track as {kind} ({first})") from None
-
-
 def read_track(path, *, fps=None, scale=None, y_down=False, floor_y=None, columns=None):
     """Read a track file (CSV or Parquet); see :func:`track_from_table`."""
-    return track_from_table(read_table_file(path), str(path), fps=fps, scale=scale, y_down=y_down,
+    return track_from_table(read_table(path, "track"), str(path), fps=fps, scale=scale, y_down=y_down,
                             floor_y=floor_y, columns=columns)
 
 
