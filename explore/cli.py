@@ -357,13 +357,14 @@ def cmd_drop(args):
         print("\n" + NO_MATERIALS)
     else:
         from hopscape.sim.materials import material
-        strength, poisson = None, args.body_poisson
-        if args.body_material is not None:
-            found = _user_value_errors(lambda: material(args.body_material))
-            strength = (found.strength, found.strength_kind)
-            poisson = found.poisson if poisson is None else poisson
+        sides = []
+        for which in ("body", "floor"):
+            name, poisson = getattr(args, f"{which}_material"), getattr(args, f"{which}_poisson")
+            found = _user_value_errors(lambda: material(name)) if name is not None else None
+            sides.append((which, found.strength if found else None, found.strength_kind if found else "",
+                          poisson if poisson is not None else (found.poisson if found else None)))
         sharp = bool(np.all(shape.round_long == 0) and np.all(shape.round_wide == 0))
-        print("\n" + contact_text(result, loads, sharp_rim=sharp, strength=strength, poisson=poisson))
+        print("\n" + contact_text(result, loads, sharp_rim=sharp, sides=sides))
     if args.csv is not None:
         from .batch import write_table
         write_table(impact_table(result, merge_window, loads=loads), args.csv)

@@ -25,7 +25,43 @@ def edge_tension(peak_pressure, poisson):
     return (1 - 2 * np.asarray(poisson)) * np.asarray(peak_pressure) / 3
 
 
-def contact_text(result, loads, sharp_rim=False, strength=None, poisson=None, drop=0):
+def strength_cautions(pressure, sides):
+    """One caution per side whose Hertz edge tension exceeds its strength figure.
+
+    Both solids carry the same contact pressure; each is stretched at the
+    edge of the contact circle by ``(1 - 2 nu) p0 / 3`` with its own
+    Poisson's ratio, so a glass plate under a steel part can crack where
+    the part does not.
+
+    Parameters
+    ----------
+    pressure : array_like
+        Peak contact pressures. [Pa]
+    sides : sequence of (str, float or None, str, float or None)
+        ``(which, strength [Pa], strength kind, poisson [-])`` per solid,
+        e.g. ``("body", 2e6, "tensile", 0.3)``; a missing figure is skipped.
+
+    Returns
+    -------
+    list of str
+    """
+    pressure = np.asarray(pressure, dtype=float)
+    if not np.any(np.isfinite(pressure)):
+        return []
+    out = []
+    for which, strength, kind, poisson in sides:
+        if strength is None or not np.isfinite(strength) or poisson is None:
+            continue
+        worst = float(edge_tension(np.nanmax(pressure), poisson))
+        if worst > strength:
+            out.append(f"caution: Hertz's tensile stress at the contact edge in the {which}, (1 - 2 nu) p0 / 3 = "
+                       f"{worst / 1e6:.1f} MPa, exceeds the {which} material's strength figure {strength / 1e6:.1f} "
+                       f"MPa ({kind}): chipping or ring cracks at the contact are possible. A screen only: test "
+                       "real parts, and guard the drop zone (fragments fly).")
+    return out
+
+
+def contact_text(result, loads, sharp_rim=False, sides=(), drop=0):
     """The contact table of one drop and its notes, as text.
 
     Parameters
@@ -36,10 +72,9 @@ def contact_text(result, loads, sharp_rim=False, strength=None, poisson=None, dr
     sharp_rim : bool
         Whether the body's rim is sharp (a flat-ended cylinder): then a rim
         impact's numbers are a guide only.
-    strength : tuple, optional
-        ``(value [Pa], kind)`` of the body material's strength figure.
-    poisson : float, optional
-        The body's Poisson's ratio, for :func:`edge_tension`.
+    sides : sequence, optional
+        The body's and the floor's strength figures, as in
+        :func:`strength_cautions`.
     """
     n = int(result.count[drop])
     rows = []
@@ -59,14 +94,7 @@ def contact_text(result, loads, sharp_rim=False, strength=None, poisson=None, dr
         out.append("note: a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact; its numbers use the "
                    "edge radius given (--rim-edge-radius, default 5% of the smaller of radius and half length) and "
                    "are a guide only.")
-    pressure = loads["peak_pressure"][drop, :n]
-    if strength is not None and np.isfinite(strength[0]) and poisson is not None and np.any(np.isfinite(pressure)):
-        worst = float(edge_tension(np.nanmax(pressure), poisson))
-        if worst > strength[0]:
-            out.append(f"caution: Hertz's tensile stress at the contact edge, (1 - 2 nu) p0 / 3 = {worst / 1e6:.1f} "
-                       f"MPa, exceeds the body material's strength figure {strength[0] / 1e6:.1f} MPa "
-                       f"({strength[1]}): chipping or ring cracks at the contact are possible. A screen only: "
-                       "test real parts, and guard the drop zone (fragments fly).")
+    out += strength_cautions(loads["peak_pressure"][drop, :n], sides)
     return "\n".join(out)
 
 

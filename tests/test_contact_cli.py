@@ -186,3 +186,25 @@ def test_sharp_rims_are_flagged_as_not_hertzian(tmp_path, capsys):
     assert "1 row(s) (first: drop 0): a flat-ended cylinder's rim is a sharp edge, not a Hertzian contact" in err
     table = pd.read_csv(tmp_path / "out.csv")
     assert (table.loc[table["drop"] == 0, "struck"] == "rim").any()
+
+
+def test_the_floor_is_screened_for_cracks_as_well_as_the_body(capsys):
+    # both solids carry the same pressure p0; each is stretched at the edge
+    # of the contact circle by (1 - 2 nu) p0 / 3 with its own nu (Johnson,
+    # Contact Mechanics 1985, section 4.2; as recalled): a steel part on a
+    # glass plate (nu 0.22, strength figure 45 MPa in the materials table)
+    # can crack the plate, and steel has no strength figure of its own
+    from hopscape.contact_report import strength_cautions
+    from hopscape.sim.materials import material
+    glass = material("soda_lime_glass")
+    p0 = 2.0e9
+    lines = strength_cautions([p0, np.nan], [("body", None, "", 0.3),
+                                             ("floor", glass.strength, glass.strength_kind, glass.poisson)])
+    assert len(lines) == 1 and "in the floor" in lines[0]
+    assert f"{(1 - 2 * 0.22) * p0 / 3 / 1e6:.1f} MPa" in lines[0]
+    # below the figure: no caution
+    assert strength_cautions([0.5 * 3 * glass.strength / (1 - 2 * glass.poisson)],
+                             [("floor", glass.strength, "", glass.poisson)]) == []
+    assert main(["drop", "--body-material", "steel", "--floor-material", "soda_lime_glass", "--no-plots"]) == 0
+    out = capsys.readouterr().out
+    assert "tensile stress at the contact edge in the floor" in out and "in the body" not in out

@@ -17,7 +17,7 @@ from hopscape.sim.contact_load import impact_loads
 from hopscape.sim.hertz import rim_edge_default
 
 from ..contact_inputs import single_settings
-from ..contact_report import edge_tension
+from ..contact_report import edge_tension, strength_cautions
 from ..plan import robust_frame
 from ..quantities import radians_within_one_turn
 from .camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, SENSOR_PIXELS, body_reach,
@@ -146,18 +146,21 @@ def _force(plan, study, loads):
     plan.add("force", "largest peak pressure", pressure * 1e-6, "MPa",
              "Hertz, elastic: where the material yields the real pressure is lower; a screen, test real parts")
     from hopscape.sim.materials import material
-    name = study.body.material
-    found = material(name) if name else None
-    poisson = study.body.poisson if study.body.poisson is not None else (found.poisson if found else None)
-    if poisson is not None:
+    sides = []
+    for which, name, poisson in (("body", study.body.material, study.body.poisson),
+                                 ("floor", study.contact.floor_material, study.contact.floor_poisson)):
+        found = material(name) if name else None
+        poisson = poisson if poisson is not None else (found.poisson if found else None)
+        if poisson is None:
+            continue
         tension = float(edge_tension(pressure, poisson))
-        plan.add("force", "tensile stress at the contact edge", tension * 1e-6, "MPa", "(1 - 2 nu) p0 / 3, Johnson")
+        plan.add("force", f"tensile stress at the contact edge, {which}", tension * 1e-6, "MPa",
+                 "(1 - 2 nu) p0 / 3, Johnson")
         if found is not None and np.isfinite(found.strength):
-            plan.add("force", "body material's strength figure", found.strength * 1e-6, "MPa", found.strength_kind)
-            if tension > found.strength:
-                plan.notes.append("the tensile stress at the contact edge exceeds the body material's strength "
-                                  "figure: chipping or ring cracks are possible. A screen only: test real parts, "
-                                  "and guard the drop zone (fragments fly).")
+            plan.add("force", f"{which} material's strength figure", found.strength * 1e-6, "MPa",
+                     found.strength_kind)
+            sides.append((which, found.strength, found.strength_kind, poisson))
+    plan.notes += strength_cautions(pressure, sides)
 
 
 def rig_plan(study: Study, label, options: RigOptions, runner_up=None) -> RigPlan:
