@@ -248,3 +248,12 @@ def test_stage_streams_keep_their_numbers():
     # the numbers every earlier study's draws were made with
     assert _STREAM == {"grid": 1, "robust": 2, "sobol": 3, "morris": 4}
     assert STAGES == ("grid", "robust", *METHODS) and len(set(_STREAM.values())) == len(STAGES)
+
+
+def test_the_command_line_parser_loads_no_heavy_package():
+    # every command's options are built for every call (`hopscape check`
+    # included): registering fit, track and plan must not load SciPy,
+    # pandas, OpenCV or matplotlib (the calibration package once cost 1 s here)
+    loaded = loaded_modules("hopscape.cli; hopscape.cli.build_parser()")
+    assert "hopscape" in loaded and "argparse" in loaded
+    assert not {"scipy", "pandas", "cv2", "matplotlib", "SALib", "pyarrow"} & loaded

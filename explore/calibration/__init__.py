@@ -16,10 +16,25 @@ the contact), :mod:`.estimate` (least squares and intervals), :mod:`.fit`
 :mod:`.pictures`, :mod:`.export` (compliant-contact parameters, studies),
 :mod:`.synthetic` (engine drops filmed), :mod:`.command` (the CLI).
 """
-from .export import compliant_parameters, fitted_study
-from .fit import Calibration, bounce_table, fit_tracks, summary
-from .synthetic import SyntheticDrop, synthetic_track
-from .tracks import TRACK_COLUMNS, Track, read_track, track_from_table
+import importlib
 
-__all__ = ["Calibration", "SyntheticDrop", "TRACK_COLUMNS", "Track", "bounce_table", "compliant_parameters",
-           "fit_tracks", "fitted_study", "read_track", "summary", "synthetic_track", "track_from_table"]
+#: Where each public name lives; imported on first use (PEP 562), so that
+#: registering ``hopscape fit`` on the command line loads no SciPy.
+_WHERE = {"compliant_parameters": ".export", "fitted_study": ".export", "Calibration": ".fit",
+          "bounce_table": ".fit", "fit_tracks": ".fit", "summary": ".fit", "SyntheticDrop": ".synthetic",
+          "synthetic_track": ".synthetic", "TRACK_COLUMNS": ".tracks", "Track": ".tracks",
+          "read_track": ".tracks", "track_from_table": ".tracks"}
+
+__all__ = sorted(_WHERE)
+
+
+def __getattr__(name):
+    if name not in _WHERE:
+        raise AttributeError(f"module 'hopscape.calibration' has no attribute {name!r}")
+    value = getattr(importlib.import_module(_WHERE[name], __name__), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_WHERE))
