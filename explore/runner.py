@@ -217,11 +217,23 @@ def prepare_folder(study: Study, folder: Path, source_text: str, fresh=False):
     Raises
     ------
     InputError
-        When the folder holds results of another study or result parts of
-        unknown origin (and ``fresh`` is off).
+        When the folder holds results of another study (and ``fresh`` is
+        off), or is not a run folder at all: it exists, holds files and no
+        ``fingerprint.json`` (its files are left alone, ``fresh`` or not).
     """
     folder = Path(folder)
     stamp = folder / "fingerprint.json"
+    if folder.is_dir() and not stamp.exists():
+        # a run writes (and --fresh removes) maps/, picks.csv, report.html ...:
+        # in a folder it did not make, those may be the user's own files
+        from .files import LOCK_FILE
+        theirs = sorted(p.name for p in folder.iterdir() if p.name != LOCK_FILE)
+        only_parts = theirs == ["results"] and all(p.name.startswith(("part-", ".part-"))
+                                                   for p in (folder / "results").iterdir())
+        if theirs and not only_parts:   # result parts alone: of unknown origin, handled below
+            shown_names = ", ".join(theirs[:3]) + (", ..." if len(theirs) > 3 else "")
+            raise InputError(f"{folder} is not a hopscape run folder (it holds {shown_names}); give a new or empty "
+                             "folder with --out (nothing was changed)")
     if fresh and folder.exists():
         for name in _earlier_outputs():
             path = folder / name

@@ -534,3 +534,20 @@ def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, mid_reference,
     _, alive = psutil.wait_procs(workers, timeout=10)
     assert not [p for p in alive if p.status() != psutil.STATUS_ZOMBIE]
     assert_same_tables(run_text(MID, folder).tables, mid_reference.tables)
+
+
+@pytest.mark.parametrize("fresh", [False, True])
+def test_a_folder_that_is_not_a_run_folder_is_left_alone(tmp_path, fresh):
+    # a run writes (and --fresh removes) maps/, picks.csv, report.html: in a
+    # folder it did not make those may be the user's own files
+    (tmp_path / "maps").mkdir()
+    (tmp_path / "maps" / "my-photo.png").write_bytes(b"x")
+    (tmp_path / "picks.csv").write_text("mine\n")
+    (tmp_path / "notes.txt").write_text("mine\n")
+    with pytest.raises(InputError, match=r"is not a hopscape run folder \(it holds maps, notes.txt, picks.csv\); "
+                                         r"give a new or empty folder with --out \(nothing was changed\)"):
+        run_text(SMALL, tmp_path, fresh=fresh)
+    assert (tmp_path / "maps" / "my-photo.png").read_bytes() == b"x"
+    assert (tmp_path / "picks.csv").read_text() == "mine\n"
+    assert sorted(p.name for p in tmp_path.iterdir() if not p.name.startswith(".")) == ["maps", "notes.txt",
+                                                                                          "picks.csv"]
