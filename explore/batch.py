@@ -89,6 +89,20 @@ def _row_errors(frame, law):
     return errors, kinds, laws, settings
 
 
+def _refuse_near_misses(columns):
+    """A column that is not a batch column but spells one nearly (``lenght``) is a
+    typo, not an extra column to carry along: refused, since the column it
+    meant would silently take its default (a 24 mm pin simulated as a ball)."""
+    import difflib
+
+    absent = [c for c in INPUT_COLUMNS if c not in columns]
+    typos = [(str(c), close[0]) for c in columns if c not in INPUT_COLUMNS
+             for close in [difflib.get_close_matches(str(c), absent, n=1, cutoff=0.8)] if close]
+    if typos:
+        raise InputError("; ".join(f"column {c!r} is not a batch column: did you mean {meant!r}?" for c, meant in typos)
+                         + " (columns far from every batch column are carried along and ignored)")
+
+
 def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
               progress=None, warn=None, restitution_table=None):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
@@ -104,6 +118,7 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
     frame = frame.copy()
+    _refuse_near_misses(frame.columns)
     missing = [c for c, (_, default) in INPUT_COLUMNS.items() if default is None and c not in frame
                and not (c == "law")]
     if missing:

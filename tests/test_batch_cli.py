@@ -382,3 +382,20 @@ def test_a_body_that_stays_in_contact_makes_no_bounce(capsys, tmp_path):
                           sim.Release(0.3, math.radians(30)), sim.Contact(0.0, 0.3), impacts=3)
     bounces = sim.group_bounces(result)
     assert bounces.count.tolist() == [0] and bounces.index[0, 0] == 0
+
+
+def test_a_misspelled_column_is_refused_not_ignored(tmp_path, capsys):
+    # 'lenght' for 'length': ignoring it would simulate the pin as a ball
+    # (length 0 by default) and exit 0
+    path = tmp_path / "drops.csv"
+    path.write_text("shape,lenght,radius,density,height,angle,restitution,friction\n"
+                    "capsule,0.018,0.003,1150,0.05,30,0.8,0.3\n")
+    assert main(["batch", str(path), "--out", str(tmp_path / "out.csv")]) == 2
+    err = capsys.readouterr().err
+    assert "column 'lenght' is not a batch column: did you mean 'length'?" in err
+    assert not (tmp_path / "out.csv").exists()
+    # a column far from every batch column (an id of the user's) is still carried along
+    path.write_text("part_id,shape,length,radius,density,height,angle,restitution,friction\n"
+                    "A7,capsule,0.018,0.003,1150,0.05,30,0.8,0.3\n")
+    assert main(["batch", str(path), "--out", str(tmp_path / "out.csv")]) == 0
+    assert "ignoring column(s) part_id" in capsys.readouterr().err
