@@ -125,3 +125,14 @@ def test_into_a_study_that_cannot_take_the_fit(track_file, tmp_path, text, words
     err = capsys.readouterr().err
     assert f"hopscape: error: {study}: {words}" in err and err.count("\n") == 1
     assert not (tmp_path / "bad-fitted.yaml").exists()
+
+
+def test_millimetres_typed_as_metres_are_named_before_the_track_is_blamed(capsys):
+    # a 2 mm radius typed as 2: every frame then sits "below the floor", and
+    # that error alone pointed at --floor-y and --scale
+    from pathlib import Path
+    demo = Path(__file__).resolve().parents[1] / "docs" / "demo" / "pin-bench-2000fps.csv"
+    assert main(["fit", str(demo), "--shape", "capsule", "--radius", "2", "--length", "16"]) == 2
+    err = capsys.readouterr().err
+    assert "--radius: 2 m is outside the usual" in err and "is it in millimetres?" in err
+    assert "--length: 16 m is outside the usual" in err

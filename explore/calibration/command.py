@@ -138,6 +138,12 @@ def cmd_fit(args):
             raise InputError(f"--into {args.into}: no such study file")
         export.study_target(args.into)  # refused before the fit, not after
     shape = _shape(args)
+    # millimetres typed as metres make every frame "below the floor": say so first, as drop does
+    from ..cli import _further_dimensions
+    from ..plausibility import drop_warnings
+    sizes = {name: getattr(args, name, None) for name in ("length", "radius", "density", *_further_dimensions())}
+    report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
+                     drop_warnings(shape, {k: v for k, v in sizes.items() if v is not None})), args.strict)
     columns = track_io.parse_columns(args.columns)
     tracks = [track_io.read_track(path, fps=args.fps, scale=args.scale, y_down=args.y_down, floor_y=args.floor_y,
                                   columns=columns) for path in args.tracks]
