@@ -311,10 +311,18 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
     write_csv(frame, base.with_suffix(".csv"))
     value_words, event_words = metric_words(study)
     is_flag = METRIC_KINDS[study.metric.kind].is_flag
+    # as on the maps: for a study that avoids the event, the line is how
+    # often the goal is met, so that up is good for seek and avoid alike
+    avoid = study.metric.goal == "avoid"
+    probability, band = ((1 - frame["event_probability"], (1 - frame["event_high"], 1 - frame["event_low"])) if avoid
+                         else (frame["event_probability"], (frame["event_low"], frame["event_high"])))
+    probability_words = (f"probability it does not happen: {event_words}" if avoid
+                         else f"probability: {event_words}")
+    axis_words = "probability it does not happen [-]" if avoid else "probability of the event [-]"
     fig, ax = plt.subplots(figsize=(8, 4.8), constrained_layout=True)
     if is_flag:
         ax2 = ax
-        ax.set_ylabel("probability of the event [-]")
+        ax.set_ylabel(axis_words)
     else:
         ax.fill_between(frame[col], frame["p10_value"], frame["p90_value"], color=OKABE_ITO["sky"], alpha=0.4,
                         label="10-90 % of drops (other quantities)")
@@ -327,12 +335,11 @@ def curve(study: Study, table: pd.DataFrame, x, folder: Path, formats=("png",)):
         ax.set_ylabel(wrap(value_words, 45), fontsize=8)
         ax.set_ylim(bottom=0)
         ax2 = ax.twinx()
-        ax2.set_ylabel("probability of the event [-]", color=OKABE_ITO["green"])
-    ax2.fill_between(frame[col], frame["event_low"], frame["event_high"], color=OKABE_ITO["green"], alpha=0.18,
-                     lw=0)
-    ax2.plot(frame[col], frame["event_probability"], color=OKABE_ITO["green"], lw=1.6)
+        ax2.set_ylabel(axis_words, color=OKABE_ITO["green"])
+    ax2.fill_between(frame[col], *band, color=OKABE_ITO["green"], alpha=0.18, lw=0)
+    ax2.plot(frame[col], probability, color=OKABE_ITO["green"], lw=1.6)
     ax2.set_ylim(0, 1.02)
-    ax.plot([], [], color=OKABE_ITO["green"], lw=1.6, label=f"probability: {event_words}")
+    ax.plot([], [], color=OKABE_ITO["green"], lw=1.6, label=probability_words)
     ax.fill_between([], [], [], color=OKABE_ITO["green"], alpha=0.18, label="95 % Wilson interval")
     ax.set_xlabel(label(x))
     fig.text(0.01, 0.005, wrap(f"Metric: {value_words}. {energy_note(study)}", 130), fontsize=7, va="bottom")

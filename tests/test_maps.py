@@ -271,3 +271,26 @@ def test_report_says_where_drops_start_inside_the_floor(low_run):
     assert f"({inside.sum():,} of {box.sum():,})" in text
     report = (folder / "report.html").read_text(encoding="utf-8")
     assert f"({inside.sum():,} of {box.sum():,}) start inside the floor" in report
+
+
+def test_an_avoid_studys_curve_shows_how_often_the_goal_is_met(low_run, tmp_path, monkeypatch):
+    # as its map: for a study that avoids the event, the green line is
+    # 1 - P(event) and says so, so up is good on both pictures of a report
+    import hopscape.maps as maps
+    folder, study = low_run
+    assert study.metric.goal == "avoid"
+    grid = read_parts(folder)["grid"]
+    drawn = {}
+
+    def keep(fig, base, formats):
+        ax = fig.axes[0]
+        drawn["labels"] = [t.get_text() for t in ax.get_legend().get_texts()]
+        drawn["lines"] = [line.get_ydata() for axis in fig.axes for line in axis.get_lines() if len(line.get_ydata())]
+        return []
+
+    monkeypatch.setattr(maps, "save_figure", keep)
+    maps.curve(study, grid, "angle", tmp_path)
+    curve = pd.read_csv(tmp_path / "curve-angle.csv")
+    assert any(t.startswith("probability it does not happen: ") for t in drawn["labels"])
+    expected = 1 - curve["event_probability"].to_numpy()
+    assert any(len(line) == len(expected) and np.allclose(line, expected, equal_nan=True) for line in drawn["lines"])
