@@ -162,6 +162,12 @@ def build_parser():
 
     parser = _Parser(prog="hopscape", description="Design exploration for rigid shapes that can "
                      "rebound above their release height.")
+    from importlib.metadata import PackageNotFoundError, version
+    try:
+        installed = version("hopscape")
+    except PackageNotFoundError:   # run from a source tree that was never installed
+        installed = "unknown (not installed)"
+    parser.add_argument("--version", action="version", version=f"hopscape {installed}")
     sub = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
 
     # --- drop --------------------------------------------------------

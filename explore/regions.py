@@ -181,6 +181,11 @@ def safe_regions(cells: pd.DataFrame, keys, ok_column="meets_target", x=None):
     return pd.DataFrame(rows, columns=columns + ["text"])
 
 
+def _share(share):
+    """``38%``, or ``<1%`` for a region too small to round to a whole percent."""
+    return f"{share:.0%}" if share >= 0.005 else "<1%"
+
+
 def region_sentences(regions: pd.DataFrame, limit=3, smallest=4):
     """One sentence per safe region, for the report and the terminal.
 
@@ -209,7 +214,7 @@ def region_sentences(regions: pd.DataFrame, limit=3, smallest=4):
         text = {kind: list(rows.loc[rows["kind"] == kind, "text"]) for kind in ("largest block", "extent", "strip")}
         size = rows["cells"].iloc[0]
         line = (f"Region {rows['region'].iloc[0]} ({size} cell{'' if size == 1 else 's'}, "
-                f"{rows['share'].iloc[0]:.0%} of the grid): ")
+                f"{_share(rows['share'].iloc[0])} of the grid): ")
         if text["largest block"]:
             line += f"{text['largest block'][0]} as one block, within {text['extent'][0]}"
         else:

@@ -303,3 +303,9 @@ def test_readme_example_runs_as_written(tmp_path, monkeypatch):
     assert run.table()["stage"].value_counts().to_dict() == count_drops(run.study)
     assert run.report == Path("runs/quick-first-look/report.html") and run.report.exists()
     assert names["impacts"]["drop"].unique().tolist() == [0, 1, 2]
+
+
+def test_version_is_the_installed_one(capsys):
+    from importlib.metadata import version
+    assert main(["--version"]) == 0
+    assert capsys.readouterr().out.strip() == f"hopscape {version('hopscape')}"

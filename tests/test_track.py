@@ -205,7 +205,7 @@ def _refused(argv, capsys):
 
 def test_missing_video(tmp_path, capsys):
     line = _refused(["track", str(tmp_path / "none.avi"), "--out", str(tmp_path / "t.csv")], capsys)
-    assert "VIDEO: no such file or folder" in line and "none.avi" in line
+    assert line.endswith("none.avi: no such video file or folder of frames")
 
 
 def test_unreadable_video(tmp_path, capsys):

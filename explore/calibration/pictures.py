@@ -71,7 +71,8 @@ def track_against_model(calibration, number, comparison, path):
     bottom.plot(t, np.degrees(comparison.next_angle), color=OKABE_ITO["orange"], lw=1.6)
     bottom.plot(t, np.degrees(comparison.whole_angle), "--", color=OKABE_ITO["blue"], lw=1.1)
     for ax in (top, bottom):
-        ax.axvline(comparison.follows_until * 1e3, color=OKABE_ITO["red"], lw=1, alpha=0.7)
+        # dotted black: the palette's vermillion reads as the orange model line
+        ax.axvline(comparison.follows_until * 1e3, color=OKABE_ITO["black"], ls=":", lw=1.2)
         ax.grid(alpha=0.3)
     top.set_ylabel("centre height [mm]")
     bottom.set_ylabel("axis angle [deg]")
@@ -79,7 +80,7 @@ def track_against_model(calibration, number, comparison, path):
     top.legend(loc="upper right", fontsize=8)
     top.set_title(f"{_label(track)}: does the fitted model reproduce the drop? Orange: each flight predicted from the "
                   f"one before;\nblue dashed: one run from the first flight, following the track until "
-                  f"{comparison.follows_until * 1e3:.0f} ms (red line; later impacts are chaotic)", fontsize=9.5)
+                  f"{comparison.follows_until * 1e3:.0f} ms (dotted line; later impacts are chaotic)", fontsize=9.5)
     return save_figure(fig, path)
 
 

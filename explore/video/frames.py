@@ -122,7 +122,7 @@ def open_frames(path, fps=None):
     """
     path = Path(path)
     if not path.exists():
-        raise InputError(f"VIDEO: no such file or folder: {path}")
+        raise InputError(f"{path}: no such video file or folder of frames")
     if path.is_dir():
         return _open_folder(path, fps)
     return _open_video(path, fps)
