@@ -172,7 +172,7 @@ def build_parser():
 
     # --- drop --------------------------------------------------------
     d = sub.add_parser("drop", help="simulate one drop, print its impacts and bounces, draw pictures")
-    d.add_argument("--shape", default="capsule", choices=list(sim.SHAPES))
+    d.add_argument("--shape", default="capsule", choices=list(sim.SHAPES), help="body shape (default capsule)")
     d.add_argument("--length", type=_finite("--length"), default=None,
                    help=f"[m] {per_shape('length')} (default 0.014)")
     d.add_argument("--radius", type=_finite("--radius"), default=None,
@@ -233,7 +233,7 @@ def build_parser():
     n = sub.add_parser("bench", help="time the kernel on the benchmark population")
     n.add_argument("--drops", type=_positive_int("--drops", 1, BENCH_DROPS), default=200_000, help="drops to time (default 200000)")
     n.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=1, help="worker processes (default 1)")
-    n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported")
+    n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported (default 3)")
     n.add_argument("--json", action="store_true", help="print one JSON object")
 
     from . import commands  # noqa: F401  (study commands register themselves)

@@ -37,16 +37,17 @@ def register(sub):
     run.add_argument("--fresh", action="store_true", help="discard earlier results in the run folder")
     from .cli import _declared_int
     run.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=None, help="override run.jobs")
-    run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None)
+    run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None,
+                     help="override run.backend: worker processes (loky), threads, this process only, or Dask")
     run.add_argument("--scheduler", default=None, help="address of a Dask scheduler (implies --backend dask)")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.add_argument("--strict", action="store_true", help=STRICT_HELP)
     check = sub.add_parser("check", help="validate a study file and say what it will run")
-    check.add_argument("study")
+    check.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
     check.add_argument("--strict", action="store_true", help=STRICT_HELP)
     new = sub.add_parser("new", help="write a commented study template")
     new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
-    new.add_argument("--out", type=Path, default=None)
+    new.add_argument("--out", type=Path, default=None, help="where to write the template (default studies/NAME.yaml)")
     from .rig.command import register as register_plan
     HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new, plan=register_plan(sub))
 

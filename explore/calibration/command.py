@@ -33,7 +33,7 @@ def register(sub, handlers):
                        "counter-clockwise], or the axis ends x1, y1, x2, y2. Empty cells: tracking lost. An "
                        "optional quality column is ignored.")
     f.add_argument("tracks", nargs="+", type=Path, help="track files of the same body on the same floor")
-    f.add_argument("--shape", default="capsule", choices=list(sim.SHAPES))
+    f.add_argument("--shape", default="capsule", choices=list(sim.SHAPES), help="the filmed body's shape (default capsule)")
     f.add_argument("--radius", type=_finite("--radius"), required=True, help=f"[m] {per_shape('radius')}")
     f.add_argument("--length", type=_finite("--length"), default=None, help=f"[m] {per_shape('length')}")
     for name in _further_dimensions():
