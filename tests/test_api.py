@@ -309,3 +309,12 @@ def test_version_is_the_installed_one(capsys):
     from importlib.metadata import version
     assert main(["--version"]) == 0
     assert capsys.readouterr().out.strip() == f"hopscape {version('hopscape')}"
+
+
+def test_every_option_of_every_command_says_what_it_does():
+    import argparse
+    parser = build_parser()
+    commands = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    silent = [f"{name} {action.dest}" for name, sub in commands.choices.items() for action in sub._actions
+              if not isinstance(action, argparse._HelpAction) and not action.help]
+    assert silent == []
