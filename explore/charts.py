@@ -156,15 +156,18 @@ def convergence_chart(conv_table, path, title="Convergence of Sobol indices"):
     Returns
     -------
     matplotlib.figure.Figure
-        One panel per parameter (in the table's order), x axis log2 of the
+        One panel per parameter (largest total index first, as the
+        ranking), x axis log2 of the
         base sample count, whiskers the confidence intervals. Each panel
         has its own y range, from at most 0 to at least 0.1, so that small
         indices still show whether their intervals narrow.
     """
     _need_columns(conv_table, CONVERGENCE_COLUMNS, "conv_table")
     path = _chart_path(path)
-    names = list(dict.fromkeys(conv_table["parameter"]))
     levels = np.sort(conv_table["base_samples"].unique())
+    # panels in the ranking's order (total index at the most samples, largest first)
+    final = conv_table[conv_table["base_samples"] == levels[-1]].set_index("parameter")["ST"]
+    names = sorted(dict.fromkeys(conv_table["parameter"]), key=lambda name: -np.nan_to_num(final.get(name, 0.0)))
     columns = min(len(names), 4)
     rows = math.ceil(len(names) / columns)
     fig = Figure(figsize=(2.9 * columns + 0.6, 2.5 * rows + 1.1), layout="constrained")
