@@ -121,10 +121,18 @@ def robustness(study: Study, cells: pd.DataFrame, x, y, folder: Path, picks=None
             legend.append(plt.Line2D([], [], ls="", marker="x", color=OKABE_ITO["green"],
                                      label=f"chaotic: outcome flips in more than {chaos:.0%} of drops"))
         if picks is not None and len(picks):
+            # picks often sit in neighbouring cells: a dot on each cell, its
+            # number set off in a direction that turns with the rank, on a leader
             for _, row in picks.iterrows():
-                left.annotate(str(row["rank"]), (row[COLUMN[x]], row[COLUMN[y]]), ha="center", va="center",
-                              fontsize=7, fontweight="bold", color="black",
-                              bbox={"boxstyle": "circle,pad=0.1", "fc": "white", "ec": "black", "lw": 0.6})
+                turn = np.radians(45 + 72 * (int(row["rank"]) - 1))
+                where = (row[COLUMN[x]], row[COLUMN[y]])
+                left.plot(*where, "o", ms=3, color="black")
+                left.annotate(str(row["rank"]), where, xytext=(16 * np.cos(turn), 16 * np.sin(turn)),
+                              textcoords="offset points", ha="center", va="center", fontsize=7,
+                              fontweight="bold", color="black",
+                              bbox={"boxstyle": "circle,pad=0.1", "fc": "white", "ec": "black", "lw": 0.6},
+                              arrowprops={"arrowstyle": "-", "lw": 0.6, "color": "black", "shrinkA": 0,
+                                          "shrinkB": 2})
             legend.append(plt.Line2D([], [], ls="", marker="o", mfc="white", mec="black", label="picks, by rank"))
         for ax in (left, right):
             ax.set_ylabel(label(y))
