@@ -510,8 +510,8 @@ def test_ctrl_c_ends_the_run_within_seconds_at_any_moment(moment, mid_reference,
     # written: the run ends with exit 130 within 10 s every time, leaves no
     # worker behind, and what is on disk resumes. (Once in 22 tries an
     # earlier version hung in joblib's abort for over a minute; the
-    # tries here cover the phases where it could. benchmarks are no place
-    # for this: a harness sending Ctrl-C at random moments ran 200 times.)
+    # tries here cover the phases where it could; by hand, Ctrl-C sent at
+    # random moments, with and without a CPU load, was tried over 200 times.)
     proc, folder = _start_mid_run(tmp_path)
     try:
         if moment.startswith("first part"):
