@@ -123,7 +123,7 @@ def flat_words(z) -> str:
                                                     else f"probability {level:.2f} everywhere")
 
 
-def _cells(study: Study, table: pd.DataFrame, keys):
+def _cells(table: pd.DataFrame, keys):
     cols = [COLUMN[k] for k in keys]
     # probabilities count the drops that were simulated: a drop that would
     # start inside the floor has no outcome, neither event nor its absence
@@ -202,7 +202,7 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
         Wilson interval ``event_low``, ``event_high`` [-].
     """
     folder.mkdir(parents=True, exist_ok=True)
-    cells = _cells(study, table, [x, y])
+    cells = _cells(table, [x, y])
     per_cell = int(cells["drops"].min())
     base = folder / f"map-{x}-{y}"
     write_csv(cells, base.with_suffix(".csv"))

@@ -150,7 +150,7 @@ def _picks_words(study):
             f"All columns are in <a href=\"{PICKS_FILE}\">{PICKS_FILE}</a>.</p>")
 
 
-def _regions_text(study, regions, folder):
+def _regions_text(study, regions):
     """The safe regions in sentences, or one sentence when there is none."""
     link = f'<a href="{SAFE_REGIONS_FILE}">{SAFE_REGIONS_FILE}</a>'
     if not len(regions):
@@ -224,7 +224,7 @@ def write_report(outcome, art, seconds) -> Path:
         parts += ["<h2>Robustness to release errors</h2>", _figures(art.robustness, folder)]
     if art.safe_regions is not None:
         parts += ["<h3>Where the goal holds under the tolerance</h3>",
-                  _regions_text(study, art.safe_regions, folder)]
+                  _regions_text(study, art.safe_regions)]
     if art.ranking is not None:
         method = METHODS[art.method]
         parts += [f"<h2>Which quantities matter ({html.escape(method.title)})</h2>", _table(art.ranking),

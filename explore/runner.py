@@ -314,7 +314,7 @@ def _end_with(parent):
 
 
 @contextlib.contextmanager
-def _backend(study, jobs, backend, scheduler):
+def _backend(jobs, backend, scheduler):
     if backend == "dask":
         try:
             from dask.distributed import Client, LocalCluster
@@ -439,7 +439,7 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                 bar.update(rows)
                 simulated += rows
         else:
-            with _backend(study, jobs, backend, scheduler):
+            with _backend(jobs, backend, scheduler):
                 # the backend comes from parallel_config for dask and loky (an
                 # explicit Parallel(backend=...) would drop the initializer)
                 kwargs = {} if backend in ("dask", "loky") else {"backend": backend}

@@ -152,7 +152,7 @@ def test_dask_workers_started_here_get_the_allocator_setting():
     from hopscape.runner import _backend
     from hopscape.sim._memory import MMAP_THRESHOLD, TRIM_THRESHOLD
 
-    with _backend(parse_study(SMALL), 2, "dask", None):
+    with _backend(2, "dask", None):
         seen = get_client().run(lambda: (os.environ.get("MALLOC_MMAP_THRESHOLD_"),
                                          os.environ.get("MALLOC_TRIM_THRESHOLD_")))
     assert len(seen) == 2
