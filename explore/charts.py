@@ -22,7 +22,7 @@ from matplotlib.figure import Figure
 
 from ._arguments import SensitivityError, fail
 from .figures import OKABE_ITO, save_figure
-from .sensitivity import CONVERGENCE_COLUMNS, SOBOL_COLUMNS
+from .sensitivity._columns import CONVERGENCE_COLUMNS, SOBOL_COLUMNS
 
 __all__ = ["ranking_chart", "convergence_chart", "CHART_SUFFIXES", "INDEX_DISPLAY_RANGE"]
 

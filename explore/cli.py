@@ -17,9 +17,11 @@ from pathlib import Path
 # a Ctrl-C while they load ends with "interrupted" and exit 130 like any other
 from .cli_text import STRICT_HELP, report_warnings
 from .defaults import IMPACTS
-from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError, shown
+from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, InputError
 from .files import refuse_overwriting_input
 from .safety import SAFETY
+from .options import (contact_options, declared_int, finite, further_dimensions, law_help, merge_window_of,
+                      merge_window_options, positive_int, table_option)
 
 
 
@@ -30,111 +32,9 @@ class _Parser(argparse.ArgumentParser):
         raise InputError(message if self.prog == "hopscape" else f"{self.prog.split()[-1]}: {message}")
 
 
-def _number(kind, allowed=None):
-    """An option's converter: a number (``kind`` float or int) in ``allowed``
-    (a :class:`hopscape.sim.limits.Interval`; any finite number if None)."""
-    from hopscape.sim.limits import FINITE, number_text
-    allowed = FINITE if allowed is None else allowed
-    words = "a whole number" if kind is int else "a number"
-
-    def convert(text):
-        try:
-            value = kind(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"must be {words}, got {shown(text)}")
-        if not allowed.contains(value):
-            raise argparse.ArgumentTypeError(f"must be {allowed.describe()}, got {number_text(value)}")
-        return value
-    return convert
-
-
-def _finite(name):
-    """An option's converter: any finite number."""
-    return _number(float)
-
-
-def _positive_int(name, low=1, high=None):
-    """An option's converter: a whole number in [low, high]."""
-    from hopscape.sim.limits import Interval
-    return _number(int, Interval(low, float("inf") if high is None else high))
-
-
-def _declared_int(name, field):
-    """A whole-number option bounded like the study file's ``RunSettings`` field."""
-    from .study import RunSettings, declared_range
-    allowed = declared_range((RunSettings, field))
-    return _positive_int(name, int(allowed.low), int(allowed.high))
-
-
 #: Most drops ``hopscape bench`` times at once (its result is held in memory:
 #: 10^6 drops peak near 500 MB).
 BENCH_DROPS = 2_000_000
-
-
-def _merge_window_options(parser):
-    """``--merge-ms`` or ``--fps``: which impacts make one visible bounce."""
-    window = parser.add_mutually_exclusive_group()
-    window.add_argument("--merge-ms", type=_finite("--merge-ms"), default=None,
-                        help="[ms] impacts closer than this make one visible bounce (default 10: what a camera at "
-                             "100 frames per second merges)")
-    window.add_argument("--fps", type=_finite("--fps"), default=None,
-                        help="[1/s] your camera's frame rate, instead of --merge-ms: impacts closer than one frame "
-                             "interval make one visible bounce")
-
-
-def _merge_window(args):
-    """The bounce-grouping window of ``--merge-ms`` or ``--fps`` [s], bounded like the study file's."""
-    from .study import bounce_window
-
-    return bounce_window(args.merge_ms, args.fps, names=("--merge-ms", "--fps"))
-
-
-def _law_help():
-    """One clause per impact law, from :data:`sim.impact.LAW_TABLE`."""
-    from hopscape.sim.impact import LAW_TABLE
-    return "; ".join(f"{law.name}: {law.description}" for law in LAW_TABLE)
-
-
-def _further_dimensions():
-    """Dimensions some shape declares besides length and radius (their own options)."""
-    from hopscape import sim
-    return [name for name in dict.fromkeys(d.name for cls in sim.SHAPES.values() for d in cls.dimensions)
-            if name not in ("length", "radius")]
-
-
-def _contact_options(parser):
-    """The contact model's options of ``drop`` (the batch table's columns of the same names)."""
-    from hopscape.sim.limits import REFERENCE_SPEED, SPEED_EXPONENT
-    from .batch_contract import CONTACT_COLUMNS, INPUT_COLUMNS
-    for name, allowed in (("speed_exponent", SPEED_EXPONENT), ("reference_speed", REFERENCE_SPEED)):
-        words, default = INPUT_COLUMNS[name]
-        parser.add_argument(f"--{name.replace('_', '-')}", type=_number(float, allowed), default=default,
-                            help=f"[{words.partition(', ')[0]}] {words.partition(', ')[2]} (default {default:g})")
-    for name, words in CONTACT_COLUMNS.items():
-        unit, _, rest = words.partition(", ") if not name.endswith("_material") else ("", "", words)
-        parser.add_argument(f"--{name.replace('_', '-')}", default=None,
-                            type=None if name.endswith("_material") else _finite(name),
-                            help=(f"[{unit}] {rest}" if unit else rest).replace("%", "%%"))
-
-
-def _restitution_table(text):
-    """An option's converter: ``speed:restitution,speed:restitution,...``
-    (at least two pairs, speeds rising) as a tuple of pairs."""
-    from hopscape.sim.impact import check_restitution_table
-    try:
-        pairs = tuple(tuple(float(x) for x in pair.split(":")) for pair in text.split(","))
-        return tuple(map(tuple, check_restitution_table(pairs).tolist()))
-    except ValueError as exc:
-        reason = str(exc) if "restitution_table" in str(exc) else "pairs must read speed:restitution"
-        raise argparse.ArgumentTypeError(f"{reason.replace('restitution_table ', '')} (e.g. 0.5:0.9,1:0.8,3:0.6; "
-                                         f"got {shown(text)})")
-
-
-def _table_option(parser, rows=""):
-    parser.add_argument("--restitution-table", type=_restitution_table, default=None,
-                        help="measured restitution against normal impact speed, speed:restitution pairs [m/s:-] "
-                             "with speeds rising, e.g. 0.5:0.9,1:0.8,3:0.6; linear between them, the end values "
-                             "beyond; replaces the restitution" + rows + " and its speed law")
 
 
 def _contact_loads(args, shape, result):
@@ -173,37 +73,37 @@ def build_parser():
     # --- drop --------------------------------------------------------
     d = sub.add_parser("drop", help="simulate one drop, print its impacts and bounces, draw pictures")
     d.add_argument("--shape", default="capsule", choices=list(sim.SHAPES), help="body shape (default capsule)")
-    d.add_argument("--length", type=_finite("--length"), default=None,
+    d.add_argument("--length", type=finite("--length"), default=None,
                    help=f"[m] {per_shape('length')} (default 0.014)")
-    d.add_argument("--radius", type=_finite("--radius"), default=None,
+    d.add_argument("--radius", type=finite("--radius"), default=None,
                    help=f"[m] {per_shape('radius')} (default 0.0035)")
-    for name in _further_dimensions():
-        d.add_argument(f"--{name.replace('_', '-')}", type=_finite(f"--{name}"), default=None,
+    for name in further_dimensions():
+        d.add_argument(f"--{name.replace('_', '-')}", type=finite(f"--{name}"), default=None,
                        help=f"[m] {per_shape(name)} (default: the shape's own)")
-    d.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
+    d.add_argument("--aspect-ratio", type=finite("--aspect-ratio"), default=None,
                    help="overall length / diameter, instead of --length (uses --radius)")
-    d.add_argument("--density", type=_finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
-    d.add_argument("--mass", type=_finite("--mass"), default=None, help="[kg] total mass, instead of --density")
-    d.add_argument("--restitution", type=_finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
-    d.add_argument("--friction", type=_finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
-    d.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
-    _contact_options(d)
-    _table_option(d)
-    d.add_argument("--height", type=_finite("--height"), default=0.3, help="[m] release height (default 0.3)")
+    d.add_argument("--density", type=finite("--density"), default=1200.0, help="[kg/m^3] (default 1200)")
+    d.add_argument("--mass", type=finite("--mass"), default=None, help="[kg] total mass, instead of --density")
+    d.add_argument("--restitution", type=finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
+    d.add_argument("--friction", type=finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
+    d.add_argument("--law", default="energetic", choices=sim.LAWS, help=law_help())
+    contact_options(d)
+    table_option(d)
+    d.add_argument("--height", type=finite("--height"), default=0.3, help="[m] release height (default 0.3)")
     d.add_argument("--height-of", default="centre", choices=["centre", "bottom"],
                    help="which point --height is measured to (default centre)")
-    d.add_argument("--angle", type=_finite("--angle"), default=30.0,
+    d.add_argument("--angle", type=finite("--angle"), default=30.0,
                    help="[deg] from horizontal to the axis, counter-clockwise (default 30)")
-    d.add_argument("--spin", type=_finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
-    d.add_argument("--vx", type=_finite("--vx"), default=0.0, help="[m/s] (default 0)")
-    d.add_argument("--vy", type=_finite("--vy"), default=0.0, help="[m/s] (default 0)")
-    d.add_argument("--floor-angle", type=_finite("--floor-angle"), default=0.0,
+    d.add_argument("--spin", type=finite("--spin"), default=0.0, help="[rad/s] counter-clockwise (default 0)")
+    d.add_argument("--vx", type=finite("--vx"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--vy", type=finite("--vy"), default=0.0, help="[m/s] (default 0)")
+    d.add_argument("--floor-angle", type=finite("--floor-angle"), default=0.0,
                    help="[deg] floor inclination, positive where the floor falls towards +x, "
                    f"{QUANTITIES['floor_angle'].allowed.describe()} (default 0: level); height, angle, vx and "
                    "vy are then in floor coordinates, heights normal to the floor")
-    d.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=IMPACTS,
+    d.add_argument("--impacts", type=declared_int("--impacts", "impacts"), default=IMPACTS,
                    help=f"impacts to follow (default {IMPACTS}, as in batch and studies)")
-    _merge_window_options(d)
+    merge_window_options(d)
     d.add_argument("--reference", default="centre", choices=sim.REFERENCES,
                    help="point whose height the rebound ratio compares (default centre)")
     d.add_argument("--csv", type=Path, default=None, help="write the impact table to this CSV file")
@@ -221,28 +121,29 @@ def build_parser():
                        "of mass. Output: one row per drop and impact (see README, 'Batch tables').")
     b.add_argument("drops", type=Path, help="input table, one row per drop (.csv or .parquet)")
     b.add_argument("--out", type=Path, required=True, help="output table (.csv or .parquet)")
-    b.add_argument("--impacts", type=_declared_int("--impacts", "impacts"), default=IMPACTS,
+    b.add_argument("--impacts", type=declared_int("--impacts", "impacts"), default=IMPACTS,
                    help=f"impacts per drop (default {IMPACTS}, as in drop and studies)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
-                   help="law for rows without a law column value (default energetic): " + _law_help())
-    _merge_window_options(b)
-    _table_option(b, " column of every row")
+                   help="law for rows without a law column value (default energetic): " + law_help())
+    merge_window_options(b)
+    table_option(b, " column of every row")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
 
     # --- bench -------------------------------------------------------
     n = sub.add_parser("bench", help="time the kernel on the benchmark population")
-    n.add_argument("--drops", type=_positive_int("--drops", 1, BENCH_DROPS), default=200_000, help="drops to time (default 200000)")
-    n.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=1, help="worker processes (default 1)")
-    n.add_argument("--repeat", type=_positive_int("--repeat"), default=3, help="timed runs; the best is reported (default 3)")
+    n.add_argument("--drops", type=positive_int("--drops", 1, BENCH_DROPS), default=200_000, help="drops to time (default 200000)")
+    n.add_argument("--jobs", type=declared_int("--jobs", "jobs"), default=1, help="worker processes (default 1)")
+    n.add_argument("--repeat", type=positive_int("--repeat"), default=3, help="timed runs; the best is reported (default 3)")
     n.add_argument("--json", action="store_true", help="print one JSON object")
 
     from . import commands  # noqa: F401  (study commands register themselves)
     commands.register(sub)
-    # the calibration commands: film -> track -> fit
+    # the rig and calibration commands: plan -> film -> track -> fit
+    from .rig.command import register as register_plan
     from .video.command import register as register_track
     from .calibration.command import register as register_fit
-    register_track(sub, commands.HANDLERS)
-    register_fit(sub, commands.HANDLERS)
+    for register in (register_plan, register_track, register_fit):
+        register(sub, commands.HANDLERS)
     return parser
 
 
@@ -301,7 +202,7 @@ def cmd_drop(args):
     from .quantities import QUANTITIES
     from .report_text import drop_report
 
-    merge_window = _merge_window(args)
+    merge_window = merge_window_of(args)
     # where the outputs go is checked before anything is simulated
     if args.csv is not None:
         refuse_overwriting_input(args.csv, option="--csv")
@@ -313,7 +214,7 @@ def cmd_drop(args):
         if args.aspect_ratio is not None and args.length is not None:
             raise ValueError("give --length or --aspect-ratio, not both")
         length = 0.014 if args.length is None else args.length
-        further = {name: getattr(args, name) for name in _further_dimensions()}
+        further = {name: getattr(args, name) for name in further_dimensions()}
         cls = sim.SHAPES[args.shape]
         if args.aspect_ratio is not None:
             shape = cls.from_aspect_ratio(args.aspect_ratio, 2 * radius, args.density)
@@ -341,7 +242,7 @@ def cmd_drop(args):
              "friction": args.friction, "length": args.length, "radius": args.radius,
              "body_modulus": args.body_modulus, "floor_modulus": args.floor_modulus,
              "speed_exponent": args.speed_exponent, "reference_speed": args.reference_speed,
-             **{name: getattr(args, name) for name in _further_dimensions()}}
+             **{name: getattr(args, name) for name in further_dimensions()}}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in given.items() if v is not None})), args.strict)
     # materials are checked before anything is simulated
@@ -402,7 +303,7 @@ def cmd_batch(args):
     """``hopscape batch``: many drops from a table, one output row per drop and impact."""
     from .batch import read_table, run_batch, write_table
 
-    merge_window = _merge_window(args)
+    merge_window = merge_window_of(args)
     refuse_overwriting_input(args.out, args.drops)
     frame = read_table(args.drops)
     if frame.empty:

@@ -1,4 +1,4 @@
-"""Study commands: ``run``, ``check``, ``new`` and ``plan`` (in :mod:`explore.rig.command`)."""
+"""Study commands: ``run``, ``check`` and ``new``."""
 from __future__ import annotations
 
 import json
@@ -19,8 +19,6 @@ HANDLERS = {}
 #: example studies here (kernel, metrics, Parquet, analysis and plots).
 ESTIMATE_RATE = 35_000
 
-#: Drop counts and time taken of the last run, inside the run folder.
-RUN_RECORD = "run.json"
 
 
 def register(sub):
@@ -35,8 +33,8 @@ def register(sub):
     run.add_argument("study", help="study file, or a name found as studies/NAME.yaml")
     run.add_argument("--out", type=Path, default=None, help="run folder (default runs/<name>)")
     run.add_argument("--fresh", action="store_true", help="discard earlier results in the run folder")
-    from .cli import _declared_int
-    run.add_argument("--jobs", type=_declared_int("--jobs", "jobs"), default=None, help="override run.jobs")
+    from .options import declared_int
+    run.add_argument("--jobs", type=declared_int("--jobs", "jobs"), default=None, help="override run.jobs")
     run.add_argument("--backend", choices=["loky", "threading", "sequential", "dask"], default=None,
                      help="override run.backend: worker processes (loky), threads, this process only, or Dask")
     run.add_argument("--scheduler", default=None, help="address of a Dask scheduler (implies --backend dask)")
@@ -48,8 +46,7 @@ def register(sub):
     new = sub.add_parser("new", help="write a commented study template")
     new.add_argument("name", help="study name; writes studies/NAME.yaml unless --out is given")
     new.add_argument("--out", type=Path, default=None, help="where to write the template (default studies/NAME.yaml)")
-    from .rig.command import register as register_plan
-    HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new, plan=register_plan(sub))
+    HANDLERS.update(run=cmd_run, check=cmd_check, new=cmd_new)
 
 
 def find_study(text):
@@ -191,7 +188,7 @@ def _run_and_report(args, study, path, out):
     from .analysis import analyse
     from .answer import answer_lines
     from .report import write_report
-    from .runner import run_study
+    from .runner import RUN_RECORD, run_study
 
     start = time.perf_counter()
     outcome = run_study(study, out, path.read_text(encoding="utf-8"), fresh=args.fresh, jobs=args.jobs,

@@ -86,6 +86,9 @@ class RunOutcome:
     notes: list = field(default_factory=list)   # parts rejected and computed again, one line each
 
 
+#: The record of a run's counts and times, beside its report (written by ``hopscape run``).
+RUN_RECORD = "run.json"
+
 #: Column naming the stage of every row of a result part (and of the tables
 #: :func:`run_study` returns): ``grid``, ``robust``, ``sobol`` or ``morris``.
 STAGE_COLUMN = "stage"
@@ -185,7 +188,6 @@ def _earlier_outputs():
     """Every file and folder a run writes in its folder, except the study file (rewritten each time)."""
     # imported here: chunk workers import this module and need neither the analysis nor plotting
     from .analysis import output_names
-    from .commands import RUN_RECORD
     from .report import REPORT_FILE
 
     return ("results", "fingerprint.json", *output_names(), REPORT_FILE, RUN_RECORD)

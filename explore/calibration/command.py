@@ -24,7 +24,7 @@ def register(sub, handlers):
     """Add the ``fit`` command to the command line's sub-parsers and its handler to ``handlers``."""
     from hopscape import sim
 
-    from ..cli import _finite, _further_dimensions, _law_help, _positive_int
+    from ..options import finite, further_dimensions, law_help, positive_int
     from ..batch_contract import per_shape
 
     f = sub.add_parser("fit", help="calibrate restitution and friction from filmed drops (tracks)",
@@ -34,26 +34,26 @@ def register(sub, handlers):
                        "optional quality column is ignored.")
     f.add_argument("tracks", nargs="+", type=Path, help="track files of the same body on the same floor")
     f.add_argument("--shape", default="capsule", choices=list(sim.SHAPES), help="the filmed body's shape (default capsule)")
-    f.add_argument("--radius", type=_finite("--radius"), required=True, help=f"[m] {per_shape('radius')}")
-    f.add_argument("--length", type=_finite("--length"), default=None, help=f"[m] {per_shape('length')}")
-    for name in _further_dimensions():
-        f.add_argument(f"--{name.replace('_', '-')}", type=_finite(f"--{name}"), default=None,
+    f.add_argument("--radius", type=finite("--radius"), required=True, help=f"[m] {per_shape('radius')}")
+    f.add_argument("--length", type=finite("--length"), default=None, help=f"[m] {per_shape('length')}")
+    for name in further_dimensions():
+        f.add_argument(f"--{name.replace('_', '-')}", type=finite(f"--{name}"), default=None,
                        help=f"[m] {per_shape(name)} (default: the shape's own)")
-    f.add_argument("--aspect-ratio", type=_finite("--aspect-ratio"), default=None,
+    f.add_argument("--aspect-ratio", type=finite("--aspect-ratio"), default=None,
                    help="overall length / diameter, instead of --length")
-    f.add_argument("--density", type=_finite("--density"), default=1200.0,
+    f.add_argument("--density", type=finite("--density"), default=1200.0,
                    help="[kg/m^3] (default 1200; the fit does not depend on it, the energies do)")
-    f.add_argument("--mass", type=_finite("--mass"), default=None, help="[kg] total mass, instead of --density")
-    f.add_argument("--law", default="energetic", choices=sim.LAWS, help=_law_help())
-    f.add_argument("--fps", type=_finite("--fps"), default=None, help="[1/s] frame rate, for tracks with frame only")
-    f.add_argument("--scale", type=_finite("--scale"), default=None, help="[pixels per metre] for pixel tracks")
+    f.add_argument("--mass", type=finite("--mass"), default=None, help="[kg] total mass, instead of --density")
+    f.add_argument("--law", default="energetic", choices=sim.LAWS, help=law_help())
+    f.add_argument("--fps", type=finite("--fps"), default=None, help="[1/s] frame rate, for tracks with frame only")
+    f.add_argument("--scale", type=finite("--scale"), default=None, help="[pixels per metre] for pixel tracks")
     f.add_argument("--y-down", action="store_true", help="image rows grow downwards (y and angle mirrored)")
-    f.add_argument("--floor-y", type=_finite("--floor-y"), default=None,
+    f.add_argument("--floor-y", type=finite("--floor-y"), default=None,
                    help="the floor line, in the track's own units (pixels with --scale)")
     f.add_argument("--columns", default=None, help="map the track's column names: time=t,x=X,... ")
-    f.add_argument("--bootstrap", type=_positive_int("--bootstrap", 0, 100_000), default=200,
+    f.add_argument("--bootstrap", type=positive_int("--bootstrap", 0, 100_000), default=200,
                    help="resamples over bounces for the bootstrap interval (default 200; 0: none)")
-    f.add_argument("--seed", type=_positive_int("--seed", 0), default=0, help="seed of the bootstrap (default 0)")
+    f.add_argument("--seed", type=positive_int("--seed", 0), default=0, help="seed of the bootstrap (default 0)")
     f.add_argument("--out", type=Path, default=None, help="folder for fit.json, impacts.csv and the pictures")
     f.add_argument("--into", type=Path, default=None,
                    help="a study file: write NAME-fitted.yaml beside it with the fitted contact")
@@ -66,7 +66,7 @@ def _shape(args):
     from hopscape import sim
     from hopscape.sim.limits import MASS
 
-    from ..cli import _further_dimensions
+    from ..options import further_dimensions
 
     try:
         if args.aspect_ratio is not None and args.length is not None:
@@ -75,7 +75,7 @@ def _shape(args):
         if args.aspect_ratio is not None:
             shape = cls.from_aspect_ratio(args.aspect_ratio, 2 * args.radius, args.density)
         else:
-            further = {name: getattr(args, name) for name in _further_dimensions()}
+            further = {name: getattr(args, name) for name in further_dimensions()}
             shape = sim.make_shape(args.shape, length=args.length or 0.0, radius=args.radius, density=args.density,
                                    **further)
         if args.mass is not None:
@@ -139,9 +139,9 @@ def cmd_fit(args):
         export.study_target(args.into)  # refused before the fit, not after
     shape = _shape(args)
     # millimetres typed as metres make every frame "below the floor": say so first, as drop does
-    from ..cli import _further_dimensions
+    from ..options import further_dimensions
     from ..plausibility import drop_warnings
-    sizes = {name: getattr(args, name, None) for name in ("length", "radius", "density", *_further_dimensions())}
+    sizes = {name: getattr(args, name, None) for name in ("length", "radius", "density", *further_dimensions())}
     report_warnings((f"--{name.replace('_', '-')}: {message}" for name, _, message in
                      drop_warnings(shape, {k: v for k, v in sizes.items() if v is not None})), args.strict)
     columns = track_io.parse_columns(args.columns)

@@ -10,12 +10,12 @@ from ..cli_text import STRICT_HELP, report_warnings
 from ..errors import InputError
 
 
-def register(sub):
-    """Add the ``plan`` command; returns its handler."""
+def register(sub, handlers):
+    """Add the ``plan`` command to the sub-parsers and its handler to ``handlers``."""
     from hopscape.sim.limits import Interval
     from hopscape.sim.materials import materials
 
-    from ..cli import _number, _positive_int
+    from ..options import number, positive_int
     from .camera import SENSOR_PIXELS
 
     p = sub.add_parser("plan", help="the rig plan at a pick: camera, release precision, repeats, forces",
@@ -32,13 +32,13 @@ def register(sub):
                    help="a drop condition instead of a pick, in the study file's units, e.g. "
                         "--at angle=30,aspect_ratio=4 (every swept quantity needs a value)")
     p.add_argument("--run", type=Path, default=None, help="run folder holding picks.csv (default runs/<name>)")
-    p.add_argument("--fov-width", type=_number(float, Interval(0.0, 100.0, closed="right")), default=None,
+    p.add_argument("--fov-width", type=number(float, Interval(0.0, 100.0, closed="right")), default=None,
                    help="[m] width of the camera's field of view (default: the drop's extent x 1.2)")
-    p.add_argument("--sensor-pixels", type=_positive_int("--sensor-pixels", 16, 100_000), default=SENSOR_PIXELS,
+    p.add_argument("--sensor-pixels", type=positive_int("--sensor-pixels", 16, 100_000), default=SENSOR_PIXELS,
                    help=f"[px] pixels across the sensor's width (default {SENSOR_PIXELS})")
-    p.add_argument("--target", type=_number(float, Interval(0.0, 1.0, closed="neither")), default=None,
+    p.add_argument("--target", type=number(float, Interval(0.0, 1.0, closed="neither")), default=None,
                    help="[-] goal probability the release must keep (default: the study's picks target)")
-    p.add_argument("--drops", type=_positive_int("--drops", 100, 200_000), default=2000,
+    p.add_argument("--drops", type=positive_int("--drops", 100, 200_000), default=2000,
                    help="simulated drops per Monte Carlo evaluation (default 2000)")
     names = ", ".join(materials())
     p.add_argument("--body-material", default=None, help=f"body material, for contact durations and forces "
@@ -47,7 +47,7 @@ def register(sub):
     p.add_argument("--out", type=Path, default=None, help="folder for plan.csv and rig-plan.png (default: the run "
                    "folder, whose report.html then shows the plan)")
     p.add_argument("--strict", action="store_true", help=STRICT_HELP)
-    return cmd_plan
+    handlers.update(plan=cmd_plan)
 
 
 def _with_materials(study, args):

@@ -29,13 +29,11 @@ from .._arguments import SensitivityError, fail, integer
 from . import _checks, _saltelli
 from ._checks import DEFAULT_RESAMPLES, DEFAULT_SEED
 from ._method import Method, Picture, Table
+from ._columns import CONVERGENCE_COLUMNS, SECOND_ORDER_COLUMNS, SOBOL_COLUMNS
 
 __all__ = ["SobolPlan", "sobol_plan", "sobol_analyze", "sobol_convergence", "METHOD",
            "SOBOL_COLUMNS", "SECOND_ORDER_COLUMNS", "CONVERGENCE_COLUMNS"]
 
-SOBOL_COLUMNS = ("parameter", "S1", "S1_conf", "ST", "ST_conf", "rank")
-SECOND_ORDER_COLUMNS = ("parameter_1", "parameter_2", "S2", "S2_conf")
-CONVERGENCE_COLUMNS = ("base_samples", "parameter", "S1", "S1_conf", "ST", "ST_conf")
 
 
 def _power_of_two(field_name, value, minimum=2):

@@ -19,10 +19,10 @@ MOSTLY_FOUND = 0.2
 def register(sub, handlers):
     """Add the ``track`` command to the command line's sub-parsers and its
     handler to ``handlers`` (command name -> function)."""
-    from ..cli import _number
+    from ..options import number
     from hopscape.sim.limits import Interval
 
-    positive = _number(float, Interval(0.0, float("inf"), closed="neither"))
+    positive = number(float, Interval(0.0, float("inf"), closed="neither"))
     t = sub.add_parser("track", help="track a filmed drop (video file or PNG frames) into a track table",
                        description="Finds the body in every frame (median background, threshold at half its "
                        "contrast, largest blob, image moments) and writes one row per frame: frame, time [s], "
@@ -36,7 +36,7 @@ def register(sub, handlers):
     scale.add_argument("--body-length", type=positive, default=None, metavar="M",
                        help="[m] the body's overall length: the scale from its median length in the frames "
                        "(its ends found to a fraction of a pixel); write metres, y up")
-    t.add_argument("--floor-y", type=_number(float), default=None, metavar="PX",
+    t.add_argument("--floor-y", type=number(float), default=None, metavar="PX",
                    help="[pixels] row of the floor line; with a scale, y = 0 there (default: the frame's "
                    "bottom edge)")
     t.add_argument("--fps", type=positive, default=None,
