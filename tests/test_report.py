@@ -216,3 +216,22 @@ def test_no_energy_bound_is_claimed_for_a_study_on_a_slope(tmp_path):
     page = page_of(tmp_path)
     assert "Energy bound: none here. On an inclined floor" in page
     assert "rebound ratio is at most 1" not in page
+
+
+def test_the_best_pick_says_when_a_surer_pick_has_less_room(small_run):
+    # picks are ranked by margin first (README, "Recommended drop
+    # conditions"): when a later pick meets the goal more often, the answer
+    # says so instead of leaving the reader to wonder
+    import pandas as pd
+    from types import SimpleNamespace
+
+    from hopscape.answer import answer_lines
+    study = parse_study(SMALL)
+    picks = pd.read_csv(small_run / "picks.csv")
+    picks["meets_target"] = True
+    picks["goal_probability"] = [0.9, 0.95, 1.0, 0.8, 0.7][:len(picks)]
+    art = SimpleNamespace(picks=picks, safe_regions=None, ranking=None)
+    best = dict(answer_lines(study, art))["best pick"]
+    assert "pick 2 meets the goal more often, 95%, with less room" in best
+    picks["goal_probability"] = sorted(picks["goal_probability"], reverse=True)
+    assert "meets the goal more often" not in dict(answer_lines(study, art))["best pick"]
