@@ -151,6 +151,24 @@ def _cells(table: pd.DataFrame, keys):
     return out
 
 
+#: Below this many drops per cell the map's level lines are drawn through
+#: 3 x 3 neighbourhood means: a share from 16 drops moves by +-0.12 (one
+#: standard error at p = 1/2), enough to scatter a 0.5 line into islands.
+SMOOTH_BELOW = 100
+
+
+def neighbourhood_mean(z):
+    """Mean of each cell and its up to 8 neighbours, empty cells left out (NaN where all are)."""
+    from scipy import ndimage
+
+    z = np.asarray(z, dtype=float)
+    known = np.isfinite(z)
+    total = ndimage.uniform_filter(np.where(known, z, 0.0), size=3, mode="constant")
+    count = ndimage.uniform_filter(known.astype(float), size=3, mode="constant")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(count > 0, total / count, np.nan)
+
+
 #: A map cell where more than this share of the drops would start inside the
 #: floor is drawn as such, not as a result: the few drops left say little.
 MOSTLY_INSIDE = 0.5
@@ -231,17 +249,23 @@ def regime_map(study: Study, table: pd.DataFrame, x, y, folder: Path, formats=("
     # metric judged on a height limit, which the ratio lines say nothing about
     if len(xs) > 1 and len(ys) > 1 and not flat(z) and not kind.uses_limit and not kind.needs:
         _, _, ratio = grid_of(cells, x, y, "mean_best_later_ratio")
+        _, _, first = grid_of(cells, x, y, "beats_first_probability")
+        if per_cell < SMOOTH_BELOW:
+            # with few drops per cell a level line follows each cell's noise
+            # (islands everywhere): draw it through 3 x 3 neighbourhood means
+            ratio, first = neighbourhood_mean(ratio), neighbourhood_mean(first)
         if np.nanmin(ratio) < study.metric.threshold < np.nanmax(ratio):
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="white", linewidths=2.2)
             ax.contour(xs, ys, ratio, levels=[study.metric.threshold], colors="black", linewidths=1.0)
             legend.append(plt.Line2D([], [], color="black", lw=1.5,
                                      label=f"mean best later bounce = {study.metric.threshold:g} x release height"))
-        _, _, first = grid_of(cells, x, y, "beats_first_probability")
         if np.nanmin(first) < 0.5 < np.nanmax(first):
             ax.contour(xs, ys, first, levels=[0.5], colors="white", linewidths=2.0, linestyles="--")
             ax.contour(xs, ys, first, levels=[0.5], colors="black", linewidths=1.0, linestyles="--")
             legend.append(plt.Line2D([], [], color="black", lw=1.2, ls="--",
                                      label="a later bounce beats the first (half the drops)"))
+        if per_cell < SMOOTH_BELOW and legend:
+            legend.append(plt.Line2D([], [], ls="", label=f"lines through 3 x 3 cell means ({per_cell} drops per cell)"))
     if np.isnan(z).any():
         legend.append(matplotlib.patches.Patch(color="0.85", label="no value: landing exactly flat or on a face "
                                                "(a line or area contact, not Hertzian), or more than half the drops "

@@ -294,3 +294,15 @@ def test_an_avoid_studys_curve_shows_how_often_the_goal_is_met(low_run, tmp_path
     assert any(t.startswith("probability it does not happen: ") for t in drawn["labels"])
     expected = 1 - curve["event_probability"].to_numpy()
     assert any(len(line) == len(expected) and np.allclose(line, expected, equal_nan=True) for line in drawn["lines"])
+
+
+def test_neighbourhood_mean_by_hand():
+    from hopscape.maps import neighbourhood_mean
+    z = np.array([[0.0, 1.0, np.nan], [1.0, 1.0, 0.0]])
+    got = neighbourhood_mean(z)
+    # cell (0, 0): itself and its 3 neighbours (0, 1), (1, 0), (1, 1)
+    assert got[0, 0] == pytest.approx((0 + 1 + 1 + 1) / 4)
+    # cell (0, 2) is empty but its neighbours are not: (0, 1), (1, 1), (1, 2)
+    assert got[0, 2] == pytest.approx((1 + 1 + 0) / 3)
+    assert got[1, 1] == pytest.approx((0 + 1 + 1 + 1 + 0) / 5)
+    assert np.isnan(neighbourhood_mean(np.full((2, 2), np.nan))).all()
