@@ -552,11 +552,11 @@ def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_a
     # within the integration's accuracy (damping never adds energy)
     record["energy_gain"][pairs] = ke > ke_before * (1 + 1e-6)
     ke_after[pairs] = ke
-    # the end nearer the floor decides whether the body leaves it
+    # the body leaves the floor when either end separates (an end still
+    # approaching is a few micrometres up: the search finds it next)
     s, c = np.sin(before[2]), np.cos(before[2])
-    ends = [corner_offset(s, c, profile, side, across[pairs], profile[2] != profile[3]) for side in (1.0, -1.0)]
-    lower = ends[0][1] <= ends[1][1]
-    separating[pairs] = vy + spin * np.where(lower, ends[0][0], ends[1][0])
+    ends = [corner_offset(s, c, profile, side, across[pairs], profile[2] != profile[3])[0] for side in (1.0, -1.0)]
+    separating[pairs] = np.maximum(vy + spin * ends[0], vy + spin * ends[1])
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,

@@ -23,14 +23,15 @@ drops through the contact with both ends' compliant contacts: Hertz's force
 ``K delta^(3/2) (1 + chi delta_dot)`` (Johnson 1985, eq. 4.22; Hunt &
 Crossley 1975), ``chi`` calibrated per end on touching to the impact's
 restitution (:mod:`sim.damping`), and Coulomb friction regularised as
-``-mu F tanh(u_t / v_reg)``. Vectorised over the affected drops (gravity's impulse over those microseconds left
-out, as in every impact of the engine): a
+``-mu F tanh(u_t / v_reg)``. Vectorised over the affected drops: a
 fixed-step classical Runge-Kutta method (as :mod:`sim.compliant`), a step
-of ``t_c / STEPS_PER_DURATION`` per drop, until neither end presses nor
-approaches. The velocities at that step's end are the impact's outcome;
-like every impact of the engine it is instantaneous: the next flight
-starts from the pose at first touch (the contact's micrometres of travel
-left out), exact again.
+of ``t_c / STEPS_PER_DURATION`` per drop, until no end presses; an end
+still approaching then touches after a flight, which the kernel's search
+finds as any contact (those contacts no longer overlap). The velocities
+then are the impact's outcome. Like every impact of the engine it is
+instantaneous: gravity's impulse over the microseconds is left out and
+the next flight starts from the pose at first touch (the contact's
+micrometres of travel left out), exact again.
 
 The effective modulus ``E*`` is the user's (``Contact.contact_modulus``);
 without one the engine uses :data:`DEFAULT_CONTACT_MODULUS`, hard gelatin
@@ -48,7 +49,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .geometry import FLAT_TOLERANCE, corner_offset
+from .geometry import FLAT_TOLERANCE, round_support
 from .hertz import equivalent_radius, hertz_duration, principal_radii
 
 #: The default material pair: hard gelatin body on a steel floor
@@ -60,11 +61,10 @@ DEFAULT_PAIR = ("hard_gelatin", "steel")
 DEFAULT_CONTACT_MODULUS = 3.3664366e9
 #: Runge-Kutta steps per Hertz duration (tests/test_pair_contact.py
 #: checks the outcome against a dense integration). [-]
-STEPS_PER_DURATION = 100
-#: The contact is followed for at most this many Hertz durations; an end
-#: still approaching then (a slow rock onto it) is left to the next
-#: flight's search, as any contact. [-]
-LONGEST_CONTACT = 6.0
+STEPS_PER_DURATION = 40
+#: The contact is followed for at most this many Hertz durations (a
+#: contact still pressed then keeps the single impulse: not seen). [-]
+LONGEST_CONTACT = 3.0
 #: ``v_reg`` of the regularised friction, as a share of the impact's
 #: normal speed: slip slower than this is treated as partial sticking
 #: (more where the step needs it, :func:`friction_regularisation`). [-]
@@ -159,15 +159,20 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     from .damping import scaled_damping  # SciPy's interpolants: loaded when a pair first occurs
     y = np.array(state, dtype=float)
     rounded = profile[2] != profile[3]
-    ends = (1.0, -1.0)
 
     def pieces(s_state):
+        """Per end ``(gap, u_n, u_t, r_x, r_y)``: :func:`sim.geometry.corner_offset`
+        at along = +1 and -1, sharing the terms that do not depend on it."""
         # as the kernel's contact offset: a body within 1e-12 of flat is flat
         s, c = (v * (np.abs(v) >= FLAT_TOLERANCE) for v in (np.sin(s_state[2]), np.cos(s_state[2])))
+        ellipse, ellipse_slope = round_support(s, c, profile[2], profile[3], rounded)
+        long_x, long_y = profile[0] * c, profile[0] * s
+        wide_x = ellipse_slope - profile[1] * s * across
+        wide_y = profile[1] * c * across + ellipse
+        y_c, v_x, v_y, w = s_state[1], s_state[3], s_state[4], s_state[5]
         out = []
-        for side in ends:
-            r_x, r_y = corner_offset(s, c, profile, side, across, rounded)
-            out.append((s_state[1] + r_y, s_state[4] + s_state[5] * r_x, s_state[3] - s_state[5] * r_y, r_x, r_y))
+        for r_x, r_y in ((-(long_x + wide_x), -(long_y + wide_y)), (long_x - wide_x, long_y - wide_y)):
+            out.append((y_c + r_y, v_y + w * r_x, v_x - w * r_y, r_x, r_y))
         return out
 
     first = pieces(y)
@@ -189,6 +194,7 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
         f_x = f_y = torque = 0.0
         for (gap, u_n, u_t, r_x, r_y), chi_end in zip(pieces(s_state), chi):
             pressed = np.maximum(-gap, 0.0)
+            # an end not yet calibrated (touching within this step) takes its speed now
             damping = np.where(np.isnan(chi_end), c_scaled / np.maximum(-u_n, 1e-12), chi_end)
             normal = np.maximum(stiffness * pressed * np.sqrt(pressed) * (1.0 - damping * u_n), 0.0)
             tangential = -friction * normal * np.tanh(u_t / v_reg)
@@ -200,6 +206,7 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     n = y.shape[1]
     ids = np.arange(n)
     time = np.zeros(n)
+    pressed = np.zeros(n, bool)  # whether an end has pressed yet (first touch may be a nanometre off)
     final = np.full_like(y, np.nan)
     duration = np.full(n, np.nan)
     for _ in range(int(STEPS_PER_DURATION * LONGEST_CONTACT) + 1):
@@ -217,8 +224,11 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
             chi[i] = np.where(touching, c_scaled / np.maximum(-u_n, 1e-12), chi[i])
             chi[i] = np.where((gap >= 0) & (u_n >= 0), np.nan, chi[i])
         free = (now[0][0] >= 0) & (now[1][0] >= 0)
-        leaving = (now[0][1] >= 0) & (now[1][1] >= 0)
-        done = free & (leaving | (time > LONGEST_CONTACT * t_c))
+        pressed = pressed | ~free
+        # once no end presses the contact is over: an end still approaching
+        # then touches after a flight, which the kernel's search finds (the
+        # contacts no longer overlap, so that impact is a single one)
+        done = free & pressed
         if done.any():
             final[:, ids[done]] = y[:, done]
             duration[ids[done]] = time[done]
@@ -226,9 +236,9 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
                 break
             # carry on with the drops still in contact only
             keep = np.flatnonzero(~done)
-            (y, step, stiffness, c_scaled, v_reg, mass, inertia, friction, across, time, t_c,
+            (y, step, stiffness, c_scaled, v_reg, mass, inertia, friction, across, time, pressed,
              ids) = (a[..., keep] for a in (y, step, stiffness, c_scaled, v_reg, mass, inertia, friction,
-                                             across, time, t_c, ids))
+                                             across, time, pressed, ids))
             profile = tuple(p[keep] for p in profile)
             rounded = rounded[keep]
             chi = [c[keep] for c in chi]
