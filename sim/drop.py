@@ -60,7 +60,7 @@ from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_mat
                      speed_restitution, table_restitution)
 from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
 from .materials import MODULUS
-from .pair_contact import DEFAULT_CONTACT_MODULUS, overlapping_pairs, resolve_pairs
+from .pair_contact import DEFAULT_CONTACT_MODULUS, LOWEST_RESTITUTION, overlapping_pairs, resolve_pairs
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -79,6 +79,8 @@ CONTACT_SPEED = 1e-9
 VAULT_SHARE = 0.1
 
 REFERENCES = ("centre", "bottom", "top")
+#: The contact models of :func:`simulate`; the first is the default.
+MODELS = ("impulse", "compliant")
 
 
 @dataclass(frozen=True)
@@ -355,7 +357,8 @@ CHUNK_SIZE = 65536
 
 
 def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
-             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE, peaks=REFERENCES) -> DropResult:
+             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE, peaks=REFERENCES,
+             model: str = MODELS[0]) -> DropResult:
     """Drop every body and follow it through up to ``impacts`` impacts.
 
     Parameters
@@ -378,6 +381,14 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         that ends in sustained contact gets the heights where it lies. The
         searches are most of the flight peaks' cost, so a study that reads
         one point asks for that one only.
+    model : {"impulse", "compliant"}
+        ``impulse``: every impact by Routh's method (:mod:`sim.impact`),
+        both ends at once by the compliant two-contact impact
+        (:mod:`sim.pair_contact`). ``compliant``: every impact integrated
+        through the contact with Hertz's force, the calibrated damping and
+        regularised Coulomb friction at the body's ends (the same
+        :func:`sim.pair_contact.resolve_pairs`; flights stay exact); the
+        restitution is each end's contact's, whatever the ``law``.
 
     Raises
     ------
@@ -387,6 +398,8 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     """
     if int(impacts) < 1:
         raise ValueError(f"impacts must be >= 1, got {impacts}")
+    if model not in MODELS:
+        raise ValueError(f"model must be one of {', '.join(MODELS)}, got {model!r}")
     if chunk_size < 1:
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
     unknown = set(peaks) - set(REFERENCES)
@@ -423,7 +436,8 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
                    count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table,
-                   DEFAULT_CONTACT_MODULUS if contact.contact_modulus is None else float(contact.contact_modulus))
+                   DEFAULT_CONTACT_MODULUS if contact.contact_modulus is None else float(contact.contact_modulus),
+                   model == "compliant")
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
                      "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle,
                      "speed_exponent": exponent, "reference_speed": reference_speed,
@@ -482,7 +496,7 @@ class _Flying:
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
 
-def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS):
+def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS, compliant=False):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -517,23 +531,33 @@ def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT
               # it is the end at -L/2 on the axis
               "end": np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)}
     separating = v_y2 + w2 * r_x
-    pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2, modulus)
-    if pairs.size:
-        _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus)
+    if compliant:
+        _strike_both_ends(live, np.arange(live.mass.size), across, restitution, record, separating, ke_after,
+                          modulus, both=False)
+    else:
+        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2, modulus)
+        if pairs.size:
+            _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus)
     return record, separating, ke_after
 
 
-def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus):
+def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus, both=True):
     """Replace the single impulse of the drops ``pairs`` (indices into
     ``live``) by the compliant contact of both ends
     (:mod:`sim.pair_contact`), in ``record``, ``separating``, ``ke_after``
-    (the body's velocities after it)."""
+    (the body's velocities after it). ``both``: the impacts are pairs
+    (their end code becomes 0); False for the compliant model, where every
+    impact goes this way and keeps the end that struck first."""
+    restitution = np.broadcast_to(restitution, live.mass.shape)
+    # below the damping table's lowest restitution the contact is
+    # sustained, not an impact: the single impulse stays
+    pairs = pairs[restitution[pairs] >= LOWEST_RESTITUTION]
     mass, inertia = live.mass[pairs], live.inertia[pairs]
     profile = tuple(p[pairs] for p in live.profile)
     before = np.stack([live.x[pairs], live.y[pairs], live.theta[pairs], live.vx[pairs], live.vy[pairs],
                        live.spin[pairs]])
     after, duration = resolve_pairs(mass, inertia, profile, across[pairs], before,
-                                    np.broadcast_to(restitution, live.mass.shape)[pairs], live.friction[pairs],
+                                    restitution[pairs], live.friction[pairs],
                                     modulus)
     # a contact that outlasts the budget keeps its single impulse
     done = ~np.isnan(duration)
@@ -546,7 +570,8 @@ def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_a
     record["vx"][pairs], record["vy"][pairs], record["spin"][pairs] = vx, vy, spin
     record["impulse_normal"][pairs] = mass * (vy - before[4])
     record["impulse_tangential"][pairs] = mass * (vx - before[3])
-    record["end"][pairs] = 0
+    if both:
+        record["end"][pairs] = 0
     ke = 0.5 * mass * (vx ** 2 + vy ** 2) + 0.5 * inertia * spin ** 2
     ke_before = 0.5 * mass * (before[3] ** 2 + before[4] ** 2) + 0.5 * inertia * before[5] ** 2
     # within the integration's accuracy (damping never adds energy)
@@ -561,7 +586,7 @@ def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_a
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
                e, mu, laws, gravity, out, status, count, points=("bottom", "top"), speed_law=None,
-               restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS):
+               restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS, compliant=False):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
@@ -650,7 +675,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             live.x += 0.5 * live.gravity_along * tau ** 2
             live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across, restitution_table, modulus)
+        record, separating, ke_after = _strike(live, along, across, restitution_table, modulus, compliant)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)

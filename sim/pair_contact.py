@@ -75,6 +75,9 @@ COARSER = 4.0
 #: normal speed: slip slower than this is treated as partial sticking
 #: (more where the step needs it, :func:`friction_regularisation`). [-]
 REGULARISATION = 1e-3
+#: Lowest restitution the damping is calibrated for
+#: (:data:`sim.damping.LARGEST_DAMPING` gives 1e-3). [-]
+LOWEST_RESTITUTION = 1e-3
 #: Row signs of the two ends (along the axis) in :func:`resolve_pairs`.
 _SIDES = np.array([[1.0], [-1.0]])
 #: No contact this program meets lasts longer: drops whose other end is
@@ -184,7 +187,9 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     speed = -np.min(u_n, axis=0)
     c_scaled = scaled_damping(restitution)
     radius = _radius(y[2], profile)
-    stiffness = 4.0 / 3.0 * modulus * np.sqrt(radius)
+    # a body without a straight part (sphere, spheroid) has its two "ends"
+    # at one point: each carries half the stiffness
+    stiffness = np.where(profile[0] > 0, 1.0, 0.5) * 4.0 / 3.0 * modulus * np.sqrt(radius)
     k_nn = 1.0 / mass + np.min(r_x ** 2, axis=0) / inertia
     t_c = hertz_duration(1.0 / k_nn, speed, modulus, radius)
     step = t_c / STEPS_PER_DURATION
