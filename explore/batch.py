@@ -100,14 +100,13 @@ def _row_errors(frame, law):
 
 def _one_modulus(e_star, model):
     """The one ``E*`` [Pa] of the rows that give materials (None: none do,
-    or, for the impulse model, they differ: its near-flat landings then
-    take the engine's default pair)."""
+    or the impulse model, which needs none)."""
     given = np.unique(e_star[np.isfinite(e_star)])
-    if given.size > 1 and model == sim.MODELS[0]:
+    if model == sim.MODELS[0]:
         return None
     if given.size > 1:
         raise InputError(f"the rows name {given.size} different material pairs (E* {given[0]:.3g} to {given[-1]:.3g} "
-                         "Pa); --model compliant takes one pair per batch: split the table by material")
+                         f"Pa); --model {model} takes one pair per batch: split the table by material")
     return float(given[0]) if given.size else None
 
 

@@ -96,10 +96,11 @@ def _law_help():
 
 
 def _model_help():
-    return ("contact model: impulse (Routh's method per impact; both ends at once through the compliant "
-            "two-contact impact) or compliant (every impact integrated through the contact: Hertz force, "
-            "calibrated damping, regularised friction; E* from the materials, default hard gelatin on steel); "
-            "default impulse")
+    return ("contact model: impulse (Routh's method, one point per impact; the default), two-ends (the same, "
+            "but landings near flat, where both ends touch within one contact duration, resolved together by "
+            "the compliant two-contact impact: continuous through flat, about half as fast) or compliant (every "
+            "impact integrated through the contact: Hertz force, calibrated damping, regularised friction); "
+            "two-ends and compliant take E* from the materials, default hard gelatin on steel")
 
 
 def _further_dimensions():

@@ -27,7 +27,7 @@ def landing(tilt_deg, restitution, friction=0.3, impacts=3, contact_modulus=None
     release = sim.Release(height=CAPSULE.radius + CAPSULE.half_long * abs(np.sin(theta)) + 1e-9, angle=theta,
                           vx=1.0, vy=-1.0)
     return sim.simulate(CAPSULE, release, sim.Contact(restitution, friction, contact_modulus=contact_modulus),
-                        impacts=impacts)
+                        impacts=impacts, model="two-ends")
 
 
 def after_both_ends(result):
@@ -102,13 +102,12 @@ def test_flat_landing_at_low_restitution_does_not_chatter():
     assert result.vy[0, 0] == pytest.approx(0.2, abs=2e-3)
 
 
-def test_drops_without_a_pair_are_unchanged_bit_for_bit(monkeypatch):
-    # the same drops with the pair detection switched off: every drop that
-    # never had both ends at once (end 0) has the same bits, so resolving
-    # pairs touches no other drop of its chunk
+def test_drops_without_a_pair_are_unchanged_bit_for_bit():
+    # the same drops by the impulse engine alone: every drop that never had
+    # both ends at once (end 0) has the same bits, so resolving pairs
+    # touches no other drop of its chunk
     population = sim.bench.population(3000, seed=11)
-    with_pairs = sim.simulate(*population, impacts=3)
-    monkeypatch.setattr(sim.drop, "overlapping_pairs", lambda *args: np.zeros(0, dtype=np.intp))
+    with_pairs = sim.simulate(*population, impacts=3, model="two-ends")
     without = sim.simulate(*population, impacts=3)
     paired = np.any(with_pairs.end == 0, axis=1)
     assert 0 < paired.sum() < 0.02 * paired.size
@@ -155,7 +154,7 @@ def test_compliant_model_of_a_sphere_is_the_calibrated_restitution():
 
 
 def test_unknown_model_is_refused():
-    with pytest.raises(ValueError, match="model must be one of impulse, compliant"):
+    with pytest.raises(ValueError, match="model must be one of impulse, two-ends, compliant"):
         sim.simulate(CAPSULE, sim.Release(height=0.1, angle=0.3), sim.Contact(), model="soft")
 
 
