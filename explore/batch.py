@@ -5,6 +5,8 @@ The column names here are a contract other programs read; see
 """
 from __future__ import annotations
 
+import dataclasses
+
 from pathlib import Path
 
 import numpy as np
@@ -103,8 +105,20 @@ def _refuse_near_misses(columns):
                          + " (columns far from every batch column are carried along and ignored)")
 
 
+def _one_modulus(e_star, model):
+    """The one ``E*`` [Pa] of the rows that give materials (None: none do,
+    or the impulse model, which needs none)."""
+    given = np.unique(e_star[np.isfinite(e_star)])
+    if model == sim.MODELS[0]:
+        return None
+    if given.size > 1:
+        raise InputError(f"the rows name {given.size} different material pairs (E* {given[0]:.3g} to {given[-1]:.3g} "
+                         f"Pa); --model {model} takes one pair per batch: split the table by material")
+    return float(given[0]) if given.size else None
+
+
 def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
-              progress=None, warn=None, restitution_table=None):
+              progress=None, warn=None, restitution_table=None, model=sim.MODELS[0]):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
 
     Rows that cannot be simulated appear once, with ``impact`` empty and the
@@ -113,7 +127,9 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     about implausible values (:mod:`explore.plausibility`), one line per
     column and shape. ``restitution_table`` (``(speed [m/s], restitution)``
     pairs, :class:`sim.Contact`) replaces every row's restitution and
-    speed law.
+    speed law. ``model`` is :func:`sim.simulate`'s; its contact modulus is
+    the rows' one ``E*`` (for the compliant model rows with materials
+    must share one; without materials the engine's default pair).
     """
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
@@ -169,7 +185,8 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]),
                               speed_exponent=num["speed_exponent"][good], reference_speed=num["reference_speed"][good],
                               restitution_table=restitution_table)
-        result = sim.simulate(shapes, release, contact, impacts=impacts, chunk_size=chunk_size)
+        result = sim.simulate(shapes, release, dataclasses.replace(contact, contact_modulus=_one_modulus(e_star[good], model)),
+                              impacts=impacts, chunk_size=chunk_size, model=model)
         edge = rim_edge[good]
         loads = impact_loads(result, e_star[good], np.where(np.isnan(edge), rim_edge_default(shapes.profile), edge),
                              (breakage[0][good], breakage[1][good]))

@@ -21,7 +21,7 @@ from .errors import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_INTERRUPTED, EXIT_OK, Inp
 from .files import refuse_overwriting_input
 from .safety import SAFETY
 from .options import (contact_options, declared_int, finite, further_dimensions, law_help, merge_window_of,
-                      merge_window_options, positive_int, table_option)
+                      merge_window_options, model_help, positive_int, table_option)
 
 
 
@@ -87,6 +87,7 @@ def build_parser():
     d.add_argument("--restitution", type=finite("--restitution"), default=0.8, help=f"[-] {RESTITUTION.describe()} (default 0.8)")
     d.add_argument("--friction", type=finite("--friction"), default=0.3, help=f"[-] Coulomb, {FRICTION.describe()} (default 0.3)")
     d.add_argument("--law", default="energetic", choices=sim.LAWS, help=law_help())
+    d.add_argument("--model", default=sim.MODELS[0], choices=sim.MODELS, help=model_help())
     contact_options(d)
     table_option(d)
     d.add_argument("--height", type=finite("--height"), default=0.3, help="[m] release height (default 0.3)")
@@ -125,6 +126,8 @@ def build_parser():
                    help=f"impacts per drop (default {IMPACTS}, as in drop and studies)")
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + law_help())
+    b.add_argument("--model", default=sim.MODELS[0], choices=sim.MODELS,
+                   help=model_help() + "; one material pair per batch")
     merge_window_options(b)
     table_option(b, " column of every row")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
@@ -231,8 +234,9 @@ def cmd_drop(args):
         if args.restitution_table is not None and args.speed_exponent:
             raise ValueError("give --restitution-table or --speed-exponent, not both")
         contact = sim.Contact(args.restitution, args.friction, args.law, speed_exponent=args.speed_exponent,
-                              reference_speed=args.reference_speed, restitution_table=args.restitution_table)
-        return sim.simulate(shape, release, contact, impacts=args.impacts)
+                              reference_speed=args.reference_speed, restitution_table=args.restitution_table,
+                              contact_modulus=None if math.isnan(modulus) else modulus)
+        return sim.simulate(shape, release, contact, impacts=args.impacts, model=args.model)
 
     shape = _user_value_errors(body)
     # the unit warnings come first: they often explain an error that follows
@@ -249,7 +253,7 @@ def cmd_drop(args):
     from .contact_inputs import single_settings
     from .batch_contract import CONTACT_COLUMNS
     try:
-        single_settings({name: getattr(args, name) for name in CONTACT_COLUMNS})
+        modulus = single_settings({name: getattr(args, name) for name in CONTACT_COLUMNS})[0]
     except ValueError as exc:  # worded with the option names of this command
         message = str(exc)
         for name in CONTACT_COLUMNS:
@@ -315,7 +319,8 @@ def cmd_batch(args):
               file=sys.stderr)
     start = time.perf_counter()
     table = run_batch(frame, impacts=args.impacts, law=args.law, merge_within=merge_window,
-                      warn=lambda lines: report_warnings(lines, args.strict), restitution_table=args.restitution_table)
+                      warn=lambda lines: report_warnings(lines, args.strict), restitution_table=args.restitution_table,
+                      model=args.model)
     elapsed = time.perf_counter() - start
     write_table(table, args.out)
     failed = int((table["error"] != "").sum())

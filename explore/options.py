@@ -73,6 +73,15 @@ def law_help():
     return "; ".join(f"{law.name}: {law.description}" for law in LAW_TABLE)
 
 
+def model_help():
+    """The words of ``--model``: :data:`sim.drop.MODELS`, what each does."""
+    return ("contact model: impulse (Routh's method, one point per impact; the default), two-ends (the same, "
+            "but landings near flat, where both ends touch within one contact duration, resolved together by "
+            "the compliant two-contact impact: continuous through flat, about half as fast) or compliant (every "
+            "impact integrated through the contact: Hertz force, calibrated damping, regularised friction); "
+            "two-ends and compliant take E* from the materials, default hard gelatin on steel")
+
+
 def further_dimensions():
     """Dimensions some shape declares besides length and radius (their own options)."""
     from hopscape import sim

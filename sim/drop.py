@@ -55,10 +55,12 @@ import numpy as np
 
 from ._memory import keep_freed_memory
 from .flight import GRAVITY, floor_gravity
-from .geometry import contact_offset_at, curvature_bound, depth, depth_range
+from .geometry import contact_offset_at, corner_offset, curvature_bound, depth, depth_range
 from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_matrix, law_codes, routh_impact,
                      speed_restitution, table_restitution)
 from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
+from .materials import MODULUS
+from .pair_contact import DEFAULT_CONTACT_MODULUS, LOWEST_RESTITUTION, overlapping_pairs, resolve_pairs
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -77,6 +79,12 @@ CONTACT_SPEED = 1e-9
 VAULT_SHARE = 0.1
 
 REFERENCES = ("centre", "bottom", "top")
+#: The contact models of :func:`simulate`; the first is the default.
+#: ``two-ends`` is the impulse engine with near-flat landings resolved as
+#: both ends at once (:mod:`sim.pair_contact`): continuous through flat, but
+#: for now about half the impulse engine's speed on the benchmark
+#: population, so not yet the default.
+MODELS = ("impulse", "two-ends", "compliant")
 
 
 @dataclass(frozen=True)
@@ -152,6 +160,12 @@ class Contact:
         rising; when given, every impact's restitution is read from it
         (:func:`sim.impact.table_restitution`) instead of ``restitution``
         and its speed law.
+    contact_modulus : float, optional
+        Hertz's effective modulus ``E*`` of body and floor
+        (:func:`sim.materials.effective_modulus`); it sets which landings
+        count as both ends at once and how those are resolved
+        (:mod:`sim.pair_contact`; None: hard gelatin on steel,
+        :data:`sim.pair_contact.DEFAULT_CONTACT_MODULUS`). [Pa]
     """
 
     restitution: float | np.ndarray = 0.8
@@ -160,6 +174,7 @@ class Contact:
     speed_exponent: float | np.ndarray = 0.0
     reference_speed: float | np.ndarray = 1.0
     restitution_table: tuple | None = None
+    contact_modulus: float | None = None
 
     def __post_init__(self):
         RESTITUTION.check("restitution", self.restitution)
@@ -168,6 +183,8 @@ class Contact:
         if self.restitution_table is not None:
             check_restitution_table(self.restitution_table)
         FRICTION.check("friction", self.friction)
+        if self.contact_modulus is not None:
+            MODULUS.check("contact_modulus", self.contact_modulus)
         law_codes(self.law, np.size(self.law) if not isinstance(self.law, str) else 1)
 
 
@@ -344,7 +361,8 @@ CHUNK_SIZE = 65536
 
 
 def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
-             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE, peaks=REFERENCES) -> DropResult:
+             settle_fraction: float = 1e-4, chunk_size: int = CHUNK_SIZE, peaks=REFERENCES,
+             model: str = MODELS[0]) -> DropResult:
     """Drop every body and follow it through up to ``impacts`` impacts.
 
     Parameters
@@ -367,6 +385,17 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         that ends in sustained contact gets the heights where it lies. The
         searches are most of the flight peaks' cost, so a study that reads
         one point asks for that one only.
+    model : {"impulse", "two-ends", "compliant"}
+        ``impulse``: every impact by Routh's method (:mod:`sim.impact`),
+        one point at a time. ``two-ends``: the same, except that where the
+        other end would touch within the first end's contact duration
+        (landings near flat) both ends are resolved together by the
+        compliant two-contact impact (:mod:`sim.pair_contact`), so results
+        are continuous through flat. ``compliant``: every impact integrated
+        through the contact with Hertz's force, the calibrated damping and
+        regularised Coulomb friction at the body's ends (the same
+        :func:`sim.pair_contact.resolve_pairs`; flights stay exact); the
+        restitution is each end's contact's, whatever the ``law``.
 
     Raises
     ------
@@ -376,6 +405,8 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     """
     if int(impacts) < 1:
         raise ValueError(f"impacts must be >= 1, got {impacts}")
+    if model not in MODELS:
+        raise ValueError(f"model must be one of {', '.join(MODELS)}, got {model!r}")
     if chunk_size < 1:
         raise ValueError(f"chunk_size must be >= 1, got {chunk_size}")
     unknown = set(peaks) - set(REFERENCES)
@@ -411,7 +442,9 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         _run_chunk(sl, k, settle_fraction, mass[sl], inertia[sl], (hl[sl], hw[sl], rl[sl], rw[sl]),
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
-                   count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table)
+                   count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table,
+                   DEFAULT_CONTACT_MODULUS if contact.contact_modulus is None else float(contact.contact_modulus),
+                   model)
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
                      "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle,
                      "speed_exponent": exponent, "reference_speed": reference_speed,
@@ -470,7 +503,7 @@ class _Flying:
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
 
-def _strike(live, along, across, restitution_table=None):
+def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS, model=MODELS[0]):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -504,12 +537,63 @@ def _strike(live, along, across, restitution_table=None):
               # a piece with along = +1 lies A sin(theta) BELOW the centre:
               # it is the end at -L/2 on the axis
               "end": np.where(np.abs(along) < 0.5, 0, -np.sign(along)).astype(np.int8)}
-    return record, v_y2 + w2 * r_x, ke_after
+    separating = v_y2 + w2 * r_x
+    if model == "compliant":
+        _strike_both_ends(live, np.arange(live.mass.size), across, restitution, record, separating, ke_after,
+                          modulus, both=False)
+    elif model == "two-ends":
+        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2, modulus)
+        if pairs.size:
+            _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus)
+    return record, separating, ke_after
+
+
+def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus, both=True):
+    """Replace the single impulse of the drops ``pairs`` (indices into
+    ``live``) by the compliant contact of both ends
+    (:mod:`sim.pair_contact`), in ``record``, ``separating``, ``ke_after``
+    (the body's velocities after it). ``both``: the impacts are pairs
+    (their end code becomes 0); False for the compliant model, where every
+    impact goes this way and keeps the end that struck first."""
+    restitution = np.broadcast_to(restitution, live.mass.shape)
+    # below the damping table's lowest restitution the contact is
+    # sustained, not an impact: the single impulse stays
+    pairs = pairs[restitution[pairs] >= LOWEST_RESTITUTION]
+    mass, inertia = live.mass[pairs], live.inertia[pairs]
+    profile = tuple(p[pairs] for p in live.profile)
+    before = np.stack([live.x[pairs], live.y[pairs], live.theta[pairs], live.vx[pairs], live.vy[pairs],
+                       live.spin[pairs]])
+    after, duration = resolve_pairs(mass, inertia, profile, across[pairs], before,
+                                    restitution[pairs], live.friction[pairs],
+                                    modulus)
+    # a contact that outlasts the budget keeps its single impulse
+    done = ~np.isnan(duration)
+    pairs, after, before, mass, inertia = pairs[done], after[:, done], before[:, done], mass[done], inertia[done]
+    profile = tuple(p[done] for p in profile)
+    # the impact stays instantaneous, as every other in the engine: the
+    # contact's few microseconds of travel (micrometres) are left out, so
+    # the next flight starts from the pose at first touch
+    vx, vy, spin = after[3:]
+    record["vx"][pairs], record["vy"][pairs], record["spin"][pairs] = vx, vy, spin
+    record["impulse_normal"][pairs] = mass * (vy - before[4])
+    record["impulse_tangential"][pairs] = mass * (vx - before[3])
+    if both:
+        record["end"][pairs] = 0
+    ke = 0.5 * mass * (vx ** 2 + vy ** 2) + 0.5 * inertia * spin ** 2
+    ke_before = 0.5 * mass * (before[3] ** 2 + before[4] ** 2) + 0.5 * inertia * before[5] ** 2
+    # within the integration's accuracy (damping never adds energy)
+    record["energy_gain"][pairs] = ke > ke_before * (1 + 1e-6)
+    ke_after[pairs] = ke
+    # the body leaves the floor when either end separates (an end still
+    # approaching is a few micrometres up: the search finds it next)
+    s, c = np.sin(before[2]), np.cos(before[2])
+    ends = [corner_offset(s, c, profile, side, across[pairs], profile[2] != profile[3])[0] for side in (1.0, -1.0)]
+    separating[pairs] = np.maximum(vy + spin * ends[0], vy + spin * ends[1])
 
 
 def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0, vy0,
                e, mu, laws, gravity, out, status, count, points=("bottom", "top"), speed_law=None,
-               restitution_table=None):
+               restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS, model=MODELS[0]):
     """Simulate one chunk, writing into the views ``out``, ``status``, ``count``.
 
     The drops still in the air are kept as compact arrays (``live``), and
@@ -598,7 +682,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             live.x += 0.5 * live.gravity_along * tau ** 2
             live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across, restitution_table)
+        record, separating, ke_after = _strike(live, along, across, restitution_table, modulus, model)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)
