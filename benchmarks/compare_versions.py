@@ -19,7 +19,7 @@ import sys
 import tempfile
 import time
 
-from hopscape.cli import _positive_int  # the CLI's own check: a whole number >= 1
+from hopscape.options import positive_int  # the commands' own check: a whole number >= 1
 
 
 def load(checkout, name):
@@ -43,8 +43,8 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("first")
     parser.add_argument("second")
-    parser.add_argument("--drops", type=_positive_int(None), default=131072)
-    parser.add_argument("--repeat", type=_positive_int(None), default=15)
+    parser.add_argument("--drops", type=positive_int(None), default=131072)
+    parser.add_argument("--repeat", type=positive_int(None), default=15)
     args = parser.parse_args()
     for checkout in (args.first, args.second):
         if not os.path.isdir(os.path.join(checkout, "sim")):

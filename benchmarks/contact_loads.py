@@ -11,16 +11,16 @@ import argparse
 import time
 
 from hopscape import sim
-from hopscape.cli import _positive_int  # the CLI's own check: a whole number >= 1
+from hopscape.options import positive_int  # the commands' own check: a whole number >= 1
 from hopscape.sim import bench, contact_load, damping
 from hopscape.sim.materials import effective_modulus, material
 
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--drops", type=_positive_int("--drops"), default=131072)
-    parser.add_argument("--impacts", type=_positive_int("--impacts"), default=8)
-    parser.add_argument("--repeat", type=_positive_int("--repeat"), default=3)
+    parser.add_argument("--drops", type=positive_int("--drops"), default=131072)
+    parser.add_argument("--impacts", type=positive_int("--impacts"), default=8)
+    parser.add_argument("--repeat", type=positive_int("--repeat"), default=3)
     args = parser.parse_args()
     start = time.perf_counter()
     damping.contact_table()

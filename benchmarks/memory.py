@@ -19,14 +19,14 @@ import time
 import numpy as np
 
 from hopscape import sim
-from hopscape.cli import _positive_int  # the CLI's own check: a whole number >= 1
+from hopscape.options import positive_int  # the commands' own check: a whole number >= 1
 from hopscape.sim.bench import IMPACTS, population
 
 
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--drops", type=_positive_int(None), default=1_000_000)
-    parser.add_argument("--chunk-size", type=_positive_int(None), default=sim.drop.CHUNK_SIZE)
+    parser.add_argument("--drops", type=positive_int(None), default=1_000_000)
+    parser.add_argument("--chunk-size", type=positive_int(None), default=sim.drop.CHUNK_SIZE)
     parser.add_argument("--json", action="store_true")
     args = parser.parse_args()
     shape, release, contact = population(args.drops, seed=1)
