@@ -28,7 +28,6 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from scipy.interpolate import PchipInterpolator
 
 from .compliant import scaled_contacts
 
@@ -93,6 +92,8 @@ def _interpolants():
     table = contact_table()
     # e falls strictly with c: invert with a monotone interpolant
     order = np.argsort(table.restitution)
+    from scipy.interpolate import PchipInterpolator  # loaded on first use: most drops name no materials
+
     inverse = PchipInterpolator(table.restitution[order], table.log_damping[order], extrapolate=False)
     # the four columns in one interpolant: one interval search per point
     forward = PchipInterpolator(table.log_damping, np.stack([table.restitution, table.duration, table.indentation,
