@@ -111,10 +111,11 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
                               if COLUMN["speed_exponent"] in out else 0.0,
                               reference_speed=study.contact.reference_speed,
                               restitution_table=None if study.contact.restitution_table is None
-                              else tuple(study.contact.restitution_table))
+                              else tuple(study.contact.restitution_table),
+                              contact_modulus=float(e_star) if materials else None)
         # only the study's reference point's peaks are read: the others' searches are skipped
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1),
-                              peaks=(study.metric.reference,))
+                              peaks=(study.metric.reference,), model=study.run.model)
         b = sim.group_bounces(result, study.run.merge_window)
         ratios[idx] = np.nan_to_num(b.ratio[study.metric.reference], nan=0.0)
         heights[idx] = np.nan_to_num(b.height[study.metric.reference], nan=0.0)

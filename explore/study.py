@@ -422,6 +422,10 @@ class RunSettings(Strict):
     camera_fps: Optional[float] = Field(default=None, gt=0, le=1e7,
                                         description="instead of merge_ms: your camera's frame rate [1/s]; impacts "
                                                     "closer than one frame interval are one visible bounce")
+    model: Literal[tuple(sim.MODELS)] = Field(
+        default=sim.MODELS[0], description="contact model: impulse (the default), two-ends (near-flat landings as "
+        "both ends at once, about half as fast) or compliant (every impact integrated through the contact); "
+        "docs/physics.md section 7.1")
 
     @model_validator(mode="after")
     def _one_merge_window(self):
@@ -574,6 +578,8 @@ class Study(Strict):
                     data[section].pop(name)
         if "speed_exponent" not in data["contact"]:
             data["contact"].pop("reference_speed")
+        if data["run"]["model"] == sim.MODELS[0]:   # the default model keeps older studies' fingerprints
+            data["run"].pop("model")
         return data
 
     def fingerprint(self):

@@ -190,3 +190,29 @@ def test_batch_compliant_takes_one_material_pair(tmp_path, capsys):
     source.write_text(source.read_text().replace("nylon", "acrylic"))
     assert main(["batch", str(source), "--out", str(out), "--model", "compliant", "--impacts", "2"]) == 0
     assert len(pd.read_csv(out)) == 4
+
+
+def test_a_study_can_run_on_the_two_ends_model():
+    # run.model in a study file: the default keeps older studies' fingerprints
+    # (their run folders resume); two-ends changes the drops that land flat
+    # (released at exactly 0 deg, both ends touch at once) and few others
+    from conftest import PIN, PIN_ON_STEEL, grid, run_text, study_yaml
+    from hopscape.study import parse_study
+    base = {"name": "flat", "body": {**PIN, "aspect_ratio": 3.0, "density": 1150},
+            "contact": PIN_ON_STEEL, "release": {"height": 0.02, "angle": grid(0, 60, 7)},
+            "metric": {"kind": "ratio", "reference": "centre"},
+            "analyses": {"draws": 6, "robustness": False}, "run": {"jobs": 1, "impacts": 3, "seed": 4}}
+    impulse_text = study_yaml(base)
+    named = study_yaml({**base, "run": {**base["run"], "model": "impulse"}})
+    paired = study_yaml({**base, "run": {**base["run"], "model": "two-ends"}})
+    assert parse_study(named).fingerprint() == parse_study(impulse_text).fingerprint()
+    assert parse_study(paired).fingerprint() != parse_study(impulse_text).fingerprint()
+    import tempfile
+    from pathlib import Path
+    with tempfile.TemporaryDirectory() as a, tempfile.TemporaryDirectory() as b:
+        one = run_text(impulse_text, Path(a)).tables["grid"]
+        two = run_text(paired, Path(b)).tables["grid"]
+    changed = ~np.isclose(one["value"], two["value"], rtol=0, atol=1e-12)
+    flat = (one["angle_deg"] == 0).to_numpy()
+    assert changed[flat].all()
+    assert changed[~flat].mean() < 0.5
