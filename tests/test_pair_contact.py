@@ -216,3 +216,21 @@ def test_a_study_can_run_on_the_two_ends_model():
     flat = (one["angle_deg"] == 0).to_numpy()
     assert changed[flat].all()
     assert changed[~flat].mean() < 0.5
+
+
+@pytest.mark.slow
+def test_the_model_comparison_map_draws(tmp_path):
+    # docs/compare_models.py: the same drops by both models, mapped; on a
+    # small grid the first bounce agrees within 0.05 of the release height in
+    # most cells (the stiff limit above), and the picture is written
+    import subprocess
+    import sys
+    from pathlib import Path
+    root = Path(__file__).resolve().parents[1]
+    out = tmp_path / "m.png"
+    done = subprocess.run([sys.executable, str(root / "docs" / "compare_models.py"), "--out", str(out),
+                           "--angles", "6", "--ratios", "3"], capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0, done.stderr[-400:]
+    first = int(done.stdout.split("first bounce ")[1].split("%")[0])
+    assert first >= 70
+    assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
