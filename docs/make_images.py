@@ -1,7 +1,8 @@
 """Draw the README's pictures in docs/img/ again from the current code.
 
 Runs the README's own examples through the installed ``hopscape`` command
-(the one-drop example of the tour and ``studies/quick.yaml``) into a
+(the one-drop example of the tour and ``studies/quick.yaml``), and the
+scripts of their own in docs/ (the model comparison), into a
 temporary folder and copies the pictures the README shows, so they can
 never show an older version of the maps than the code draws. About half a
 minute on two cores:
@@ -28,6 +29,8 @@ DROP = ["drop", "--shape", "capsule", "--radius", "0.003", "--length", "0.024", 
 FROM_DROP = {"strobe.png": "strobe.png", "energy.png": "energy.png", "bounces.png": "bounces.png"}
 FROM_QUICK = {"map.png": "maps/map-angle-aspect_ratio.png", "robustness.png": "maps/robustness-angle-aspect_ratio.png",
               "ranking.png": "maps/ranking.png"}
+#: Pictures drawn by a script of their own in docs/ (name -> script).
+FROM_SCRIPTS = {"model-difference.png": "compare_models.py"}
 
 
 def hopscape(*args):
@@ -45,6 +48,10 @@ def main():
             for name, source in pictures.items():
                 shutil.copyfile(folder / source, IMAGES / name)
                 print(f"wrote {IMAGES / name}")
+    for name, script in FROM_SCRIPTS.items():
+        subprocess.run([sys.executable, str(ROOT / "docs" / script), "--out", str(IMAGES / name)], cwd=ROOT,
+                       check=True, stdout=subprocess.DEVNULL)
+        print(f"wrote {IMAGES / name}")
 
 
 if __name__ == "__main__":
