@@ -138,7 +138,7 @@ def read_table(path, what="table"):
 
     path = Path(path)
     if not path.is_file():
-        raise InputError(f"{path}: no such {what} file" if what != "table" else f"{path}: no such file")
+        raise InputError(f"{path}: no such {what} file")
     kind = "Parquet" if path.suffix.lower() in (".parquet", ".pq") else "CSV"
     try:
         if kind == "Parquet":

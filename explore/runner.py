@@ -30,7 +30,6 @@ import json
 import os
 import shutil
 import sys
-import threading
 import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -316,14 +315,6 @@ def _end_with(parent):
         os._exit(1)
 
 
-def _load_analysis():
-    """Import the analysis and report modules (run in a thread while workers simulate)."""
-    try:
-        from . import analysis, report  # noqa: F401
-    except Exception:  # noqa: BLE001 - the import is retried, and its error shown, where it is used
-        pass
-
-
 @contextlib.contextmanager
 def _backend(jobs, backend, scheduler):
     if backend == "dask":
@@ -450,9 +441,6 @@ def _run_locked(study, folder, source_text, fresh, jobs, backend, scheduler, pro
                 bar.update(rows)
                 simulated += rows
         else:
-            # this process only waits while the workers simulate: load the
-            # analysis meanwhile (matplotlib and the rest, ~0.65 s) instead of after
-            threading.Thread(target=_load_analysis, name="load-analysis", daemon=True).start()
             with _backend(jobs, backend, scheduler):
                 # the backend comes from parallel_config for dask and loky (an
                 # explicit Parallel(backend=...) would drop the initializer)

@@ -185,7 +185,7 @@ def test_batch_missing_input_file_is_bad_input(tmp_path, capsys):
     code = main(["batch", str(tmp_path / "none.csv"), "--out", str(tmp_path / "out.csv")])
     _, err = capsys.readouterr()
     assert code == 2
-    assert err == f"hopscape: error: {tmp_path / 'none.csv'}: no such file\n"
+    assert err == f"hopscape: error: {tmp_path / 'none.csv'}: no such table file\n"
 
 
 # --------------------------------------------------------------------------
