@@ -24,7 +24,7 @@ def main():
     args = parser.parse_args()
     start = time.perf_counter()
     damping.contact_table()
-    damping._interpolants()
+    damping._forward()
     print(f"table of the scaled contact: {time.perf_counter() - start:.3f} s (once per process)")
     tablet, steel = material("mcc_tablet"), material("steel")
     e_star = effective_modulus(tablet.youngs_modulus, tablet.poisson, steel.youngs_modulus, steel.poisson)

@@ -26,6 +26,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 
 import numpy as np
 
@@ -37,6 +38,12 @@ from .compliant import scaled_contacts
 LARGEST_DAMPING = 1000.0
 #: Grid points of the table, uniform in ``log(1 + c)``.
 TABLE_POINTS = 400
+#: The table as shipped: :func:`integrate_contact_table` takes about half
+#: a second, which every worker process would otherwise pay at its first
+#: near-flat landing. ``python -m hopscape.sim.damping`` writes it again;
+#: tests/test_damping.py checks that it is what the integration gives.
+TABLE_FILE = Path(__file__).with_name("data") / "contact_table.csv"
+_COLUMNS = ("log_damping", "restitution", "duration", "indentation", "peak_force")
 
 
 def hunt_crossley(restitution, speed):
@@ -75,9 +82,8 @@ class ContactTable:
         return float(self.restitution[-1])
 
 
-@lru_cache(maxsize=1)
-def contact_table():
-    """The table, integrated once per process (about half a second)."""
+def integrate_contact_table():
+    """The table, by integrating the scaled contact for every grid point."""
     u = np.linspace(0.0, np.log1p(LARGEST_DAMPING), TABLE_POINTS)
     run = scaled_contacts(np.expm1(u))
     restitution = -run.rebound
@@ -87,27 +93,44 @@ def contact_table():
     return ContactTable(u, restitution, run.duration, run.largest_indentation, run.peak_force)
 
 
+def write_contact_table(path=TABLE_FILE):
+    """Write :func:`integrate_contact_table` to ``path`` (CSV, full precision)."""
+    table = integrate_contact_table()
+    columns = np.stack([getattr(table, name) for name in _COLUMNS], axis=1)
+    header = ("scaled damped Hertz contact (hopscape.sim.damping); written by python -m hopscape.sim.damping\n"
+              + ",".join(_COLUMNS))
+    np.savetxt(path, columns, delimiter=",", fmt="%.17g", header=header)
+
+
 @lru_cache(maxsize=1)
-def _interpolants():
+def contact_table():
+    """The shipped table (:data:`TABLE_FILE`), read once per process."""
+    columns = np.loadtxt(TABLE_FILE, delimiter=",", ndmin=2)
+    return ContactTable(*columns.T.copy())
+
+
+@lru_cache(maxsize=1)
+def _forward():
     table = contact_table()
-    # e falls strictly with c: invert with a monotone interpolant
-    order = np.argsort(table.restitution)
     from scipy.interpolate import PchipInterpolator  # loaded on first use: most drops name no materials
 
-    inverse = PchipInterpolator(table.restitution[order], table.log_damping[order], extrapolate=False)
     # the four columns in one interpolant: one interval search per point
-    forward = PchipInterpolator(table.log_damping, np.stack([table.restitution, table.duration, table.indentation,
-                                                             table.peak_force], axis=-1), extrapolate=False)
-    return inverse, forward
+    return PchipInterpolator(table.log_damping, np.stack([table.restitution, table.duration, table.indentation,
+                                                          table.peak_force], axis=-1), extrapolate=False)
 
 
 def scaled_damping(restitution):
     """``c = chi v`` that gives the restitution ``e`` (NaN below
-    :attr:`ContactTable.lowest_restitution`, 0 at ``e = 1``). [-]"""
-    inverse, _ = _interpolants()
-    e = np.asarray(restitution, dtype=float)
-    # the interpolant may land a rounding below 0 at e = 1
-    return np.expm1(np.maximum(inverse(np.minimum(e, 1.0)), 0.0))
+    :attr:`ContactTable.lowest_restitution`, 0 at ``e = 1``). [-]
+
+    Linear in ``log(1 + c)`` between the table's points (``e`` falls
+    strictly with ``c``): within 5e-5 of the restitution the integration
+    gives between them, and no SciPy on the kernel's path.
+    """
+    table = contact_table()
+    e = np.minimum(np.asarray(restitution, dtype=float), 1.0)
+    u = np.interp(e, table.restitution[::-1], table.log_damping[::-1], left=np.nan)
+    return np.expm1(u)
 
 
 def damping_for_restitution(restitution, speed):
@@ -119,6 +142,9 @@ def damping_for_restitution(restitution, speed):
 def scaled_outcome(damping):
     """Scaled restitution, duration, largest indentation and peak force at
     ``c = chi v`` (``damping``), read from the table."""
-    _, forward = _interpolants()
-    values = forward(np.log1p(np.asarray(damping, dtype=float)))
+    values = _forward()(np.log1p(np.asarray(damping, dtype=float)))
     return tuple(values[..., i] for i in range(4))
+
+
+if __name__ == "__main__":
+    write_contact_table()

@@ -71,3 +71,22 @@ def test_calibration_is_vectorised_and_covers_its_range():
     c = damping.scaled_damping(e)
     assert np.all(np.isfinite(c)) and c[-1] == 0.0 and np.all(np.diff(c) < 0)
     assert np.isnan(damping.scaled_damping(0.0))  # restitution 0: sustained contact, no impact duration
+
+
+def test_the_shipped_table_is_what_the_integration_gives():
+    # sim/data/contact_table.csv saves every process the integration; it
+    # must be that integration's result (rewrite it with
+    # `python -m hopscape.sim.damping` after changing the scaled contact)
+    shipped, integrated = damping.contact_table(), damping.integrate_contact_table()
+    for name in ("log_damping", "restitution", "duration", "indentation", "peak_force"):
+        assert getattr(shipped, name) == pytest.approx(getattr(integrated, name), rel=1e-12, abs=1e-300), name
+
+
+def test_the_calibration_between_table_points_matches_the_integration():
+    # halfway between grid points (where linear interpolation is worst) the
+    # calibrated c reproduces the restitution the integration gives there
+    from hopscape.sim.compliant import scaled_contacts
+    u = damping.contact_table().log_damping
+    middle = 0.5 * (u[1:] + u[:-1])
+    achieved = -scaled_contacts(np.expm1(middle)).rebound
+    assert np.log1p(damping.scaled_damping(achieved)) == pytest.approx(middle, abs=1e-4)
