@@ -19,6 +19,7 @@ from hopscape.sim.limits import DENSITY, FRICTION, REFERENCE_SPEED, RESTITUTION,
 
 from hopscape.sim.contact_load import impact_loads
 from hopscape.sim.hertz import FEATURES, RIM_WARNING, rim_edge_default
+from hopscape.sim.pair_contact import DEFAULT_CONTACT_MODULUS
 
 from .batch_contract import DIMENSIONS, INPUT_COLUMNS, NUMBERS, OUTPUT_COLUMNS  # noqa: F401 (the contract)
 from .contact_inputs import contact_settings
@@ -105,18 +106,6 @@ def _refuse_near_misses(columns):
                          + " (columns far from every batch column are carried along and ignored)")
 
 
-def _one_modulus(e_star, model):
-    """The one ``E*`` [Pa] of the rows that give materials (None: none do,
-    or the impulse model, which needs none)."""
-    given = np.unique(e_star[np.isfinite(e_star)])
-    if model == sim.MODELS[0]:
-        return None
-    if given.size > 1:
-        raise InputError(f"the rows name {given.size} different material pairs (E* {given[0]:.3g} to {given[-1]:.3g} "
-                         f"Pa); --model {model} takes one pair per batch: split the table by material")
-    return float(given[0]) if given.size else None
-
-
 def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WITHIN, chunk_size=sim.drop.CHUNK_SIZE,
               progress=None, warn=None, restitution_table=None, model=sim.MODELS[0]):
     """Simulate every valid row; return the impact table (see OUTPUT_COLUMNS).
@@ -127,9 +116,9 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
     about implausible values (:mod:`explore.plausibility`), one line per
     column and shape. ``restitution_table`` (``(speed [m/s], restitution)``
     pairs, :class:`sim.Contact`) replaces every row's restitution and
-    speed law. ``model`` is :func:`sim.simulate`'s; its contact modulus is
-    the rows' one ``E*`` (for the compliant model rows with materials
-    must share one; without materials the engine's default pair).
+    speed law. ``model`` is :func:`sim.simulate`'s; each row's contact
+    modulus is its own ``E*`` (rows without materials: the engine's
+    default pair, :data:`sim.pair_contact.DEFAULT_CONTACT_MODULUS`).
     """
     if law not in LAWS:
         raise InputError(f"--law must be one of {', '.join(LAWS)}, got {law!r}")
@@ -185,7 +174,8 @@ def run_batch(frame, impacts=IMPACTS, law="energetic", merge_within=sim.MERGE_WI
         contact = sim.Contact(num["restitution"][good], num["friction"][good], tuple(laws[good]),
                               speed_exponent=num["speed_exponent"][good], reference_speed=num["reference_speed"][good],
                               restitution_table=restitution_table)
-        result = sim.simulate(shapes, release, dataclasses.replace(contact, contact_modulus=_one_modulus(e_star[good], model)),
+        modulus = np.where(np.isnan(e_star[good]), DEFAULT_CONTACT_MODULUS, e_star[good])
+        result = sim.simulate(shapes, release, dataclasses.replace(contact, contact_modulus=modulus),
                               impacts=impacts, chunk_size=chunk_size, model=model)
         edge = rim_edge[good]
         loads = impact_loads(result, e_star[good], np.where(np.isnan(edge), rim_edge_default(shapes.profile), edge),

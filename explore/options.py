@@ -75,11 +75,12 @@ def law_help():
 
 def model_help():
     """The words of ``--model``: :data:`sim.drop.MODELS`, what each does."""
-    return ("contact model: impulse (Routh's method, one point per impact; the default), two-ends (the same, "
-            "but landings near flat, where both ends touch within one contact duration, resolved together by "
-            "the compliant two-contact impact: continuous through flat, about half as fast) or compliant (every "
-            "impact integrated through the contact: Hertz force, calibrated damping, regularised friction); "
-            "two-ends and compliant take E* from the materials, default hard gelatin on steel")
+    return ("contact model: two-ends (the default: Routh's method, one point per impact, except landings near "
+            "flat, where both ends touch within one contact duration, resolved together by the compliant "
+            "two-contact impact, so results are continuous through flat), impulse (Routh's method at every "
+            "impact, near flat too, as before two-ends became the default) or compliant "
+            "(every impact integrated through the contact: Hertz force, calibrated damping, regularised "
+            "friction); two-ends and compliant take E* from the materials, default hard gelatin on steel")
 
 
 def further_dimensions():

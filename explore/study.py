@@ -423,9 +423,9 @@ class RunSettings(Strict):
                                         description="instead of merge_ms: your camera's frame rate [1/s]; impacts "
                                                     "closer than one frame interval are one visible bounce")
     model: Literal[tuple(sim.MODELS)] = Field(
-        default=sim.MODELS[0], description="contact model: impulse (the default), two-ends (near-flat landings as "
-        "both ends at once, about half as fast) or compliant (every impact integrated through the contact); "
-        "docs/physics.md section 7.1")
+        default=sim.MODELS[0], description="contact model: two-ends (the default: near-flat landings as both ends "
+        "at once), impulse (one point per impact everywhere, as before two-ends became the default) or compliant "
+        "(every impact integrated through the contact); docs/physics.md section 7.1")
 
     @model_validator(mode="after")
     def _one_merge_window(self):
@@ -578,7 +578,10 @@ class Study(Strict):
                     data[section].pop(name)
         if "speed_exponent" not in data["contact"]:
             data["contact"].pop("reference_speed")
-        if data["run"]["model"] == sim.MODELS[0]:   # the default model keeps older studies' fingerprints
+        # impulse was the default before two-ends: a study that names it
+        # keeps the fingerprint it had then (its run folder resumes), and a
+        # study that names none gets a new one (its near-flat drops changed)
+        if data["run"]["model"] == "impulse":
             data["run"].pop("model")
         return data
 

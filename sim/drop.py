@@ -81,10 +81,11 @@ VAULT_SHARE = 0.1
 REFERENCES = ("centre", "bottom", "top")
 #: The contact models of :func:`simulate`; the first is the default.
 #: ``two-ends`` is the impulse engine with near-flat landings resolved as
-#: both ends at once (:mod:`sim.pair_contact`): continuous through flat, but
-#: for now about half the impulse engine's speed on the benchmark
-#: population, so not yet the default.
-MODELS = ("impulse", "two-ends", "compliant")
+#: both ends at once (:mod:`sim.pair_contact`): continuous through flat.
+#: ``impulse`` keeps one point at a time everywhere (results of versions
+#: before two-ends was the default; faster where many drops land near
+#: flat, docs/physics.md section 7.1).
+MODELS = ("two-ends", "impulse", "compliant")
 
 
 @dataclass(frozen=True)
@@ -160,11 +161,11 @@ class Contact:
         rising; when given, every impact's restitution is read from it
         (:func:`sim.impact.table_restitution`) instead of ``restitution``
         and its speed law.
-    contact_modulus : float, optional
+    contact_modulus : float or array, optional
         Hertz's effective modulus ``E*`` of body and floor
-        (:func:`sim.materials.effective_modulus`); it sets which landings
-        count as both ends at once and how those are resolved
-        (:mod:`sim.pair_contact`; None: hard gelatin on steel,
+        (:func:`sim.materials.effective_modulus`), per drop or one for all;
+        it sets which landings count as both ends at once and how those
+        are resolved (:mod:`sim.pair_contact`; None: hard gelatin on steel,
         :data:`sim.pair_contact.DEFAULT_CONTACT_MODULUS`). [Pa]
     """
 
@@ -174,7 +175,7 @@ class Contact:
     speed_exponent: float | np.ndarray = 0.0
     reference_speed: float | np.ndarray = 1.0
     restitution_table: tuple | None = None
-    contact_modulus: float | None = None
+    contact_modulus: float | np.ndarray | None = None
 
     def __post_init__(self):
         RESTITUTION.check("restitution", self.restitution)
@@ -342,7 +343,8 @@ def _broadcast(shape, release, contact):
     arrays = np.broadcast_arrays(
         shape.mass, shape.inertia, *shape.profile, centre_y, release.angle, release.spin,
         release.vx, release.vy, contact.restitution, contact.friction, release.floor_angle, gravity,
-        gravity_along, np.sqrt(GRAVITY / gravity), contact.speed_exponent, contact.reference_speed)
+        gravity_along, np.sqrt(GRAVITY / gravity), contact.speed_exponent, contact.reference_speed,
+        DEFAULT_CONTACT_MODULUS if contact.contact_modulus is None else contact.contact_modulus)
     n = arrays[0].size
     # views, not copies: a scalar broadcast to a million drops costs nothing
     arrays = [np.asarray(a, dtype=float).reshape(n) for a in arrays]
@@ -385,13 +387,14 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
         that ends in sustained contact gets the heights where it lies. The
         searches are most of the flight peaks' cost, so a study that reads
         one point asks for that one only.
-    model : {"impulse", "two-ends", "compliant"}
-        ``impulse``: every impact by Routh's method (:mod:`sim.impact`),
-        one point at a time. ``two-ends``: the same, except that where the
+    model : {"two-ends", "impulse", "compliant"}
+        ``two-ends`` (the default): every impact by Routh's method
+        (:mod:`sim.impact`), one point at a time, except that where the
         other end would touch within the first end's contact duration
         (landings near flat) both ends are resolved together by the
         compliant two-contact impact (:mod:`sim.pair_contact`), so results
-        are continuous through flat. ``compliant``: every impact integrated
+        are continuous through flat. ``impulse``: Routh's method at every
+        impact, near flat too. ``compliant``: every impact integrated
         through the contact with Hertz's force, the calibrated damping and
         regularised Coulomb friction at the body's ends (the same
         :func:`sim.pair_contact.resolve_pairs`; flights stay exact); the
@@ -416,7 +419,7 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
     keep_freed_memory()
     arrays, laws = _broadcast(shape, release, contact)
     (mass, inertia, hl, hw, rl, rw, y0, th0, om0, vx0, vy0, e, mu, floor_angle, g_n, g_t, stretch,
-     exponent, reference_speed) = arrays
+     exponent, reference_speed, modulus) = arrays
     # an angle of many turns is that angle within one turn (fmod is exact);
     # angles within a turn are left untouched, bit for bit
     many_turns = np.abs(th0) > 2 * np.pi
@@ -443,8 +446,7 @@ def simulate(shape: Shape, release: Release, contact: Contact, impacts: int = 3,
                    y0[sl], th0[sl], om0[sl], vx0[sl], vy0[sl], e[sl], mu[sl], laws[sl],
                    (g_n[sl], g_t[sl], stretch[sl]), {name: a[sl] for name, a in out.items()}, status[sl],
                    count[sl], points, (exponent[sl], reference_speed[sl]), contact.restitution_table,
-                   DEFAULT_CONTACT_MODULUS if contact.contact_modulus is None else float(contact.contact_modulus),
-                   model)
+                   modulus[sl], model)
     release_state = {"y": y0, "theta": th0, "spin": om0, "vx": vx0, "vy": vy0,
                      "restitution": e, "friction": mu, "law": laws, "floor_angle": floor_angle,
                      "speed_exponent": exponent, "reference_speed": reference_speed,
@@ -476,6 +478,7 @@ class _Flying:
     law: np.ndarray  # sim.impact.LAW_CODE
     speed_exponent: np.ndarray  # p of sim.impact.speed_restitution [-]
     reference_speed: np.ndarray  # [m/s]
+    modulus: np.ndarray  # E* of the contact model [Pa]
     curvature_bound: np.ndarray  # sim.geometry.curvature_bound [m]
     d_low: np.ndarray  # sim.geometry.depth_range [m]
     d_high: np.ndarray
@@ -503,7 +506,7 @@ class _Flying:
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
 
-def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT_MODULUS, model=MODELS[0]):
+def _strike(live, along, across, restitution_table=None, model=MODELS[0]):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -540,15 +543,15 @@ def _strike(live, along, across, restitution_table=None, modulus=DEFAULT_CONTACT
     separating = v_y2 + w2 * r_x
     if model == "compliant":
         _strike_both_ends(live, np.arange(live.mass.size), across, restitution, record, separating, ke_after,
-                          modulus, both=False)
+                          both=False)
     elif model == "two-ends":
-        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2, modulus)
+        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2)
         if pairs.size:
-            _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus)
+            _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after)
     return record, separating, ke_after
 
 
-def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, modulus, both=True):
+def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, both=True):
     """Replace the single impulse of the drops ``pairs`` (indices into
     ``live``) by the compliant contact of both ends
     (:mod:`sim.pair_contact`), in ``record``, ``separating``, ``ke_after``
@@ -564,8 +567,7 @@ def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_a
     before = np.stack([live.x[pairs], live.y[pairs], live.theta[pairs], live.vx[pairs], live.vy[pairs],
                        live.spin[pairs]])
     after, duration = resolve_pairs(mass, inertia, profile, across[pairs], before,
-                                    restitution[pairs], live.friction[pairs],
-                                    modulus)
+                                    restitution[pairs], live.friction[pairs], live.modulus[pairs])
     # a contact that outlasts the budget keeps its single impulse
     done = ~np.isnan(duration)
     pairs, after, before, mass, inertia = pairs[done], after[:, done], before[:, done], mass[done], inertia[done]
@@ -624,6 +626,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         theta=th0.copy(), spin=om0.copy(), mass=mass, inertia=inertia, half_long=profile[0],
         half_wide=profile[1], round_long=profile[2], round_wide=profile[3], restitution=e, friction=mu,
         law=laws, speed_exponent=speed_law[0], reference_speed=speed_law[1],
+        modulus=np.broadcast_to(modulus, (n,)),
         curvature_bound=curvature_bound(*profile), d_low=d_low, d_high=d_high,
         gravity=g_n, gravity_along=g_t, stretch=stretch, rest_energy=rest_energy,
         excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * g_n * y0
@@ -682,7 +685,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             live.x += 0.5 * live.gravity_along * tau ** 2
             live.vx += live.gravity_along * tau
         live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across, restitution_table, modulus, model)
+        record, separating, ke_after = _strike(live, along, across, restitution_table, model)
         del tau, along, across
         for name, value in record.items():
             put(name, j, live, value)

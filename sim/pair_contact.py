@@ -84,6 +84,9 @@ REGULARISATION = 1e-3
 LOWEST_RESTITUTION = 1e-3
 #: Row signs of the two ends (along the axis) in :func:`resolve_pairs`.
 _SIDES = np.array([[1.0], [-1.0]])
+#: Slip and spin speeds, as a share of the normal speed, below which a
+#: flat landing counts as symmetric (:func:`overlapping_pairs`). [-]
+_SYMMETRIC = 1e-9
 #: No contact this program meets lasts longer: drops whose other end is
 #: further than this times its approach speed skip the exact test. [s]
 _LONGEST_DURATION = 1e-2
@@ -98,14 +101,21 @@ def _radius(theta, profile):
     return equivalent_radius(*principal_radii(theta, profile, sines=(s, c)))
 
 
-def overlapping_pairs(live, along, r_x, u_n, vy_after, spin_after, modulus):
+def overlapping_pairs(live, along, r_x, u_n, vy_after, spin_after):
     """Indices (into ``live``) of the impacts whose other end touches
     within the first contact's Hertz duration (module notes).
 
     ``along`` the struck pieces' side along the axis (0: both ends
     already), ``r_x`` [m] the struck offset, ``u_n`` [m/s] its normal
     speed before, ``vy_after`` [m/s], ``spin_after`` [rad/s] the single
-    impulse's outcome, ``modulus`` ``E*`` [Pa].
+    impulse's outcome; ``live.modulus`` is each drop's ``E*`` [Pa].
+
+    A landing exactly flat without slip or spin (``vx`` and the ends'
+    speed from spin within :data:`_SYMMETRIC` of the normal speed) is no
+    pair: by symmetry both ends carry equal forces, nothing slips or turns,
+    and the contact is the single calibrated one under the middle that
+    the kernel has already applied (every grid study's drops released flat
+    without spin land so, bounce after bounce).
     """
     half_long = live.half_long
     s, c = np.sin(live.theta), np.cos(live.theta)
@@ -114,13 +124,15 @@ def overlapping_pairs(live, along, r_x, u_n, vy_after, spin_after, modulus):
     gap = 2.0 * half_long * np.abs(s) * (along != 0)
     r_other = r_x + 2.0 * half_long * c * side
     approach = -np.minimum(live.vy + live.spin * r_other, vy_after + spin_after * r_other)
-    near = np.flatnonzero((half_long > 0) & (approach > 0) & (gap <= approach * _LONGEST_DURATION))
+    symmetric = (along == 0) & (np.maximum(np.abs(live.vx), np.abs(live.spin) * half_long)
+                                 <= _SYMMETRIC * np.abs(u_n))
+    near = np.flatnonzero((half_long > 0) & (approach > 0) & (gap <= approach * _LONGEST_DURATION) & ~symmetric)
     if near.size == 0:
         return near
     profile = tuple(p[near] for p in live.profile)
     mass, inertia = live.mass[near], live.inertia[near]
     k_nn = 1.0 / mass + r_x[near] ** 2 / inertia
-    duration = hertz_duration(1.0 / k_nn, np.abs(u_n[near]), modulus, _radius(live.theta[near], profile))
+    duration = hertz_duration(1.0 / k_nn, np.abs(u_n[near]), live.modulus[near], _radius(live.theta[near], profile))
     return near[gap[near] <= approach[near] * duration]
 
 
@@ -161,7 +173,7 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
         ``x, y, theta, vx, vy, spin`` at first touch (the lower end's gap 0). [m, rad, m/s, rad/s]
     restitution, friction : numpy.ndarray
         The impact's restitution and Coulomb coefficient. [-]
-    modulus : float
+    modulus : numpy.ndarray or float
         ``E*``. [Pa]
 
     Returns

@@ -205,12 +205,15 @@ def test_lowest_point_can_beat_its_release_height_without_spin():
     (2000.0, 1e-12), (1300.0, 1e-9)])
 def test_density_cancels(other_density, tolerance):
     # Uniform density cancels out of rigid-impact dynamics (docs/physics.md
-    # section 3): same trajectories; impulses scale with the mass.
+    # section 3): same trajectories; impulses scale with the mass. (Not of
+    # the default two-ends model's near-flat pairs: their Hertz duration
+    # grows with the mass, t_c ~ m*^(2/5), Johnson 1985, and with it which
+    # landings overlap; test_pair_contact.py covers those.)
     shape, release, contact = sim.bench.population(2000, seed=4)
     light = sim.simulate(sim.Capsule(length=shape.length, radius=shape.radius, density=1000.0),
-                         release, contact, impacts=3)
+                         release, contact, impacts=3, model="impulse")
     heavy = sim.simulate(sim.Capsule(length=shape.length, radius=shape.radius, density=other_density),
-                         release, contact, impacts=3)
+                         release, contact, impacts=3, model="impulse")
     assert np.allclose(heavy.mass, light.mass * other_density / 1000.0, rtol=1e-14)
     for key in ("time", "x", "y", "theta", "vx", "vy", "spin", "vx_before", "vy_before", "spin_before",
                 "flight", "peak_centre"):
@@ -234,9 +237,9 @@ def test_density_cancels_in_peaks(other_density):
     # was measured, 1e-8 of the body size (A + B + a + b) is allowed.
     shape, release, contact = sim.bench.population(2000, seed=4)
     light = sim.simulate(sim.Capsule(length=shape.length, radius=shape.radius, density=1000.0),
-                         release, contact, impacts=3)
+                         release, contact, impacts=3, model="impulse")
     heavy = sim.simulate(sim.Capsule(length=shape.length, radius=shape.radius, density=other_density),
-                         release, contact, impacts=3)
+                         release, contact, impacts=3, model="impulse")
     size = (shape.length / 2 + 2 * shape.radius)[:, None]
     allowance = 0.0 if other_density == 2000.0 else 1e-8 * size
     for key in ("peak_bottom", "peak_top"):
