@@ -413,7 +413,10 @@ class RunSettings(Strict):
     jobs: int = Field(default=2, ge=1, le=512, description="worker processes")
     backend: Literal["loky", "threading", "sequential", "dask"] = Field("loky", description="parallel backend")
     scheduler: Optional[str] = Field(None, description="address of a Dask scheduler (backend: dask)")
-    chunk_size: int = Field(default=20000, ge=100, le=1_000_000, description="drops per task and result part")
+    # the kernel's own chunk: a task pays the near-flat pairs' integration
+    # once per impact whatever its size (docs/physics.md section 7.1)
+    chunk_size: int = Field(default=sim.drop.CHUNK_SIZE, ge=100, le=1_000_000,
+                            description="drops per task and result part")
     seed: int = Field(default=1, ge=1, le=2 ** 32 - 1, description="seed of every random draw")
     impacts: int = Field(default=IMPACTS, ge=1, le=50, description="impacts followed per drop")
     merge_ms: float = Field(default=10.0, ge=0, le=1000,
