@@ -488,6 +488,7 @@ class _Flying:
     rest_energy: np.ndarray  # lowest resting energy m g_n d_low [J]
     excess_at_release: np.ndarray  # energy above rest at release [J]
     impacting: np.ndarray  # strikes again after the next flight (False: settled, flight only)
+    impact: np.ndarray  # its next impact's number (0-based): drops parked for a pair rejoin with their own
 
     @property
     def profile(self):
@@ -505,14 +506,21 @@ class _Flying:
         """The drops at the places ``where`` (indices into these arrays)."""
         return _Flying(*(getattr(self, f.name).take(where) for f in fields(self)))
 
+    @staticmethod
+    def joined(parts):
+        """The drops of several sets as one."""
+        return _Flying(*(np.concatenate([getattr(part, f.name) for part in parts]) for f in fields(_Flying)))
 
-def _strike(live, along, across, restitution_table=None, model=MODELS[0]):
+
+def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=False):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
     Returns the impact's record (:data:`IMPACT_FIELDS` taken at the
     impact, and the flags), the normal speed at which the struck point
-    separates, and the kinetic energy after. A function of its own so that
+    separates, the kinetic energy after, and the drops (indices into
+    ``live``) whose near-flat pair is left to the caller (``defer``; their
+    record is the single impulse's, to be thrown away), else none. A function of its own so that
     its temporaries are freed before the next flight's search and peaks:
     they would otherwise hold some 200 bytes per drop through them.
     """
@@ -547,8 +555,13 @@ def _strike(live, along, across, restitution_table=None, model=MODELS[0]):
     elif model == "two-ends":
         pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2)
         if pairs.size:
+            if defer:
+                return record, separating, ke_after, pairs
             _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after)
-    return record, separating, ke_after
+    return record, separating, ke_after, _NO_DROPS
+
+
+_NO_DROPS = np.zeros(0, np.intp)
 
 
 def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_after, both=True):
@@ -631,65 +644,93 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         gravity=g_n, gravity_along=g_t, stretch=stretch, rest_energy=rest_energy,
         excess_at_release=(0.5 * mass * (vx0 ** 2 + vy0 ** 2) + 0.5 * inertia * om0 ** 2 + mass * g_n * y0
                            - rest_energy),
-        impacting=np.ones(n, bool))
+        impacting=np.ones(n, bool), impact=np.zeros(n, np.intp))
 
     def keep(drops, mask):
         return drops.take(np.flatnonzero(mask))
 
-    def put(name, j, drops, value):
-        # every drop of the chunk still live: a plain column write
-        if drops.index.size == n:
-            out[name][:, j] = value
+    def put(name, drops, value, behind=0):
+        # every drop of the chunk still live, all at one impact: a plain column write
+        if drops.index.size == n and uniform:
+            out[name][:, int(drops.impact[0]) - behind] = value
         else:
-            out[name][drops.index, j] = value
+            out[name][drops.index, drops.impact - behind] = value
 
-    for j in range(k + 1):
+    # Drops whose impact is a near-flat pair (sim.pair_contact) wait
+    # ("parked") until every other drop of the chunk is done or parked too;
+    # then all of them are struck together, their pairs in one integration,
+    # and they fly on, each from its own impact. The integration costs the
+    # same for one drop as for hundreds, so a chunk pays it about once
+    # rather than at every impact.
+    parked = []
+    while True:
         if live.index.size == 0:
-            break
-        # after the last impact only the flight's length is wanted
-        level_vy, level_spin = live.level(tilted)
-        tau_level, along, across = next_contact(live.y, level_vy, live.theta, level_spin, live.profile,
-                                                live.curvature_bound, live.d_high, strikes=j < k)
-        del level_vy, level_spin
-        tau = tau_level * live.stretch if tilted else tau_level
-        failed = np.isnan(tau)
-        any_failed = bool(failed.any())
-        if j > 0:
-            # the flight after impact j - 1 and its peaks
-            flown = keep(live, ~failed) if any_failed else live
-            tau_ok = tau[~failed] if any_failed else tau
-            put("flight", j - 1, flown, tau_ok)
-            level_vy, level_spin = flown.level(tilted)
-            c, b, tp = flight_peaks(flown.y, level_vy, flown.theta, level_spin,
-                                    tau_level[~failed] if any_failed else tau_level, flown.profile,
-                                    flown.d_low, flown.d_high, points=points)
+            if not parked:
+                break
+            live = _Flying.joined([drops for drops, _, _ in parked])
+            along = np.concatenate([a for _, a, _ in parked])
+            across = np.concatenate([a for _, _, a in parked])
+            parked, deferring = [], False
+            uniform = bool(np.all(live.impact == live.impact[0]))
+        else:
+            deferring = model == "two-ends"
+            first = live.impact[0]
+            uniform = bool(np.all(live.impact == first))
+            # after the last impact only the flight's length is wanted
+            level_vy, level_spin = live.level(tilted)
+            tau_level, along, across = next_contact(live.y, level_vy, live.theta, level_spin, live.profile,
+                                                    live.curvature_bound, live.d_high,
+                                                    strikes=bool(np.any(live.impact < k)))
             del level_vy, level_spin
-            put("peak_centre", j - 1, flown, c)
-            put("peak_bottom", j - 1, flown, b)
-            put("peak_top", j - 1, flown, tp)
-        if any_failed:
-            status[live.index[failed]] = FAILED
-        if j == k:
-            break
-        go = ~failed & live.impacting
-        if not go.all():
-            live = keep(live, go)
-            tau, along, across = tau[go], along[go], across[go]
-        del tau_level
-        # advance to the contact
-        live.time += tau
-        live.x += live.vx * tau
-        live.y += live.vy * tau - 0.5 * live.gravity * tau ** 2
-        live.vy -= live.gravity * tau
-        if tilted:
-            live.x += 0.5 * live.gravity_along * tau ** 2
-            live.vx += live.gravity_along * tau
-        live.theta += live.spin * tau
-        record, separating, ke_after = _strike(live, along, across, restitution_table, model)
-        del tau, along, across
+            tau = tau_level * live.stretch if tilted else tau_level
+            failed = np.isnan(tau)
+            any_failed = bool(failed.any())
+            shown = (live.impact > 0) & ~failed
+            if shown.any():
+                # the flight after the impact before, and its peaks
+                every = bool(shown.all())
+                flown = live if every else keep(live, shown)
+                tau_ok = tau if every else tau[shown]
+                put("flight", flown, tau_ok, behind=1)
+                level_vy, level_spin = flown.level(tilted)
+                c, b, tp = flight_peaks(flown.y, level_vy, flown.theta, level_spin,
+                                        tau_level if every else tau_level[shown], flown.profile,
+                                        flown.d_low, flown.d_high, points=points)
+                del level_vy, level_spin
+                put("peak_centre", flown, c, behind=1)
+                put("peak_bottom", flown, b, behind=1)
+                put("peak_top", flown, tp, behind=1)
+            if any_failed:
+                status[live.index[failed]] = FAILED
+            go = ~failed & live.impacting & (live.impact < k)
+            del tau_level
+            if not go.all():
+                live = keep(live, go)
+                if live.index.size == 0:
+                    continue
+                tau, along, across = tau[go], along[go], across[go]
+            # advance to the contact
+            live.time += tau
+            live.x += live.vx * tau
+            live.y += live.vy * tau - 0.5 * live.gravity * tau ** 2
+            live.vy -= live.gravity * tau
+            if tilted:
+                live.x += 0.5 * live.gravity_along * tau ** 2
+                live.vx += live.gravity_along * tau
+            live.theta += live.spin * tau
+            del tau
+        record, separating, ke_after, pairs = _strike(live, along, across, restitution_table, model, deferring)
+        if pairs.size:
+            parked.append((live.take(pairs), along[pairs], across[pairs]))
+            flying = np.ones(live.index.size, bool)
+            flying[pairs] = False
+            live = keep(live, flying)
+            record = {name: value[flying] for name, value in record.items()}
+            separating, ke_after = separating[flying], ke_after[flying]
+        del along, across
         for name, value in record.items():
-            put(name, j, live, value)
-        count[live.index] = j + 1
+            put(name, live, value)
+        count[live.index] = live.impact + 1
         live.vx, live.vy, live.spin = record["vx"], record["vy"], record["spin"]
         del record
         # does it fly on?
@@ -707,11 +748,12 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             # leaves it: a sphere's centre moves as its contact point does)
             could_vault = (live.vy > CONTACT_SPEED) & (ke_after > VAULT_SHARE * live.excess_at_release)
             still = keep(live, in_contact)
-            ids = still.index
+            ids, at = still.index, still.impact
             status[ids] = np.where(could_vault[in_contact], COULD_VAULT, CONTACT)
-            out["flight"][ids, j] = 0.0
-            out["peak_centre"][ids, j] = still.y
-            out["peak_bottom"][ids, j] = 0.0
-            out["peak_top"][ids, j] = still.y + depth(still.theta, *still.profile)
+            out["flight"][ids, at] = 0.0
+            out["peak_centre"][ids, at] = still.y
+            out["peak_bottom"][ids, at] = 0.0
+            out["peak_top"][ids, at] = still.y + depth(still.theta, *still.profile)
             live = keep(live, ~in_contact)
+        live.impact += 1
         del above_rest, ke_after
