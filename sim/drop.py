@@ -650,11 +650,15 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
         return drops.take(np.flatnonzero(mask))
 
     def put(name, drops, value, behind=0):
-        # every drop of the chunk still live, all at one impact: a plain column write
-        if drops.index.size == n and uniform:
-            out[name][:, int(drops.impact[0]) - behind] = value
-        else:
+        if not uniform:
             out[name][drops.index, drops.impact - behind] = value
+        elif drops.index.size:
+            # all at one impact; every drop of the chunk still live: a plain column write
+            column = int(drops.impact[0]) - behind
+            if drops.index.size == n:
+                out[name][:, column] = value
+            else:
+                out[name][drops.index, column] = value
 
     # Drops whose impact is a near-flat pair (sim.pair_contact) wait
     # ("parked") until every other drop of the chunk is done or parked too;

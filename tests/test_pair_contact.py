@@ -250,3 +250,19 @@ def test_the_model_comparison_map_draws(tmp_path):
     first = int(done.stdout.split("first bounce ")[1].split("%")[0])
     assert first >= 70
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_the_radius_bound_holds_for_every_shape_and_angle():
+    # overlapping_pairs skips the exact Hertz duration where a bound (the
+    # whole mass, the smallest end radius) already rules a pair out: the
+    # bound must be below the radius at every angle, for every shape kind
+    theta = np.linspace(-np.pi, np.pi, 2001)
+    for name, cls in sim.SHAPES.items():
+        body = sim.shapes.make_shapes(np.array([name] * theta.size), density=np.full(theta.size, 1000.0),
+                                      length=np.full(theta.size, 0.02), radius=np.full(theta.size, 0.004),
+                                      **{d.name: np.full(theta.size, 0.003) for d in cls.dimensions
+                                         if d.name not in ("length", "radius")})
+        radius = pair_contact._radius(theta, body.profile)
+        bound = pair_contact._smallest_radius(body.profile)
+        assert np.all(radius >= bound), name
+        assert bound.max() > 0.2 * radius.min(), name  # a bound that rules pairs out
