@@ -60,7 +60,8 @@ from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_mat
                      speed_restitution, table_restitution)
 from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
 from .materials import MODULUS
-from .pair_contact import DEFAULT_CONTACT_MODULUS, LOWEST_RESTITUTION, overlapping_pairs, resolve_pairs
+from .pair_contact import (COMPLIANT_STEPS, DEFAULT_CONTACT_MODULUS, LOWEST_RESTITUTION, STEPS_PER_DURATION,
+                           overlapping_pairs, resolve_pairs)
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -580,7 +581,8 @@ def _strike_both_ends(live, pairs, across, restitution, record, separating, ke_a
     before = np.stack([live.x[pairs], live.y[pairs], live.theta[pairs], live.vx[pairs], live.vy[pairs],
                        live.spin[pairs]])
     after, duration = resolve_pairs(mass, inertia, profile, across[pairs], before,
-                                    restitution[pairs], live.friction[pairs], live.modulus[pairs])
+                                    restitution[pairs], live.friction[pairs], live.modulus[pairs],
+                                    steps=STEPS_PER_DURATION if both else COMPLIANT_STEPS)
     # a contact that outlasts the budget keeps its single impulse
     done = ~np.isnan(duration)
     pairs, after, before, mass, inertia = pairs[done], after[:, done], before[:, done], mass[done], inertia[done]

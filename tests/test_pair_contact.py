@@ -55,8 +55,7 @@ def test_the_default_modulus_is_hard_gelatin_on_steel():
 def test_near_flat_landing_agrees_with_the_two_contact_reference(tilt_deg, restitution):
     # Tolerance: 2e-3 of the 1 m/s impact speed on vx, vy and on the ends'
     # speed from spin (spin x half length), 0.3 rad/s here. Measured: at
-    # most 0.11 rad/s (e = 0.5, 0.1 deg: each end's damping is set from its
-    # speed one step after touching rather than at the touch). At 1 deg the
+    # most 0.022 rad/s and 4e-4 m/s (e = 0.5, 0.1 deg). At 1 deg the
     # contacts do not overlap: the engine's two impulses have a flight
     # between them, and the reference gets gravity for it (the engine's
     # impacts leave out gravity's impulse over their microseconds).
