@@ -75,12 +75,10 @@ def law_help():
 
 def model_help():
     """The words of ``--model``: :data:`sim.drop.MODELS`, what each does."""
-    return ("contact model: two-ends (the default: Routh's method, one point per impact, except landings near "
-            "flat, where both ends touch within one contact duration, resolved together by the compliant "
-            "two-contact impact, so results are continuous through flat), impulse (Routh's method at every "
-            "impact, near flat too, as before two-ends became the default) or compliant "
-            "(every impact integrated through the contact: Hertz force, calibrated damping, regularised "
-            "friction); two-ends and compliant take E* from the materials, default hard gelatin on steel")
+    from hopscape.sim.drop import MODEL_WORDS, MODELS
+    models = "; ".join(f"{name}{' (the default)' if name == MODELS[0] else ''}: {words}"
+                       for name, words in MODEL_WORDS.items())
+    return f"contact model: {models}; two-ends and compliant take E* from the materials, default hard gelatin on steel"
 
 
 def further_dimensions():

@@ -9,6 +9,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from hopscape import sim
+
 from .analysis import PICKS_FILE, SAFE_REGIONS_FILE
 from .figures import OKABE_ITO
 from .maps import energy_bound_holds, energy_note, metric_words
@@ -44,8 +46,11 @@ def contact_rows(study):
         given["reference_speed"] = study.contact.reference_speed
     units = {"body_modulus": " Pa", "floor_modulus": " Pa", "rim_edge_radius": " m", "breakage_f_mat": " kg/(J m)",
              "breakage_w_min": " J/kg", "reference_speed": " m/s"}
-    return [(name.replace("_", " "), "fixed", f"{value:g}{units.get(name, '')}" if isinstance(value, float)
+    rows = [(name.replace("_", " "), "fixed", f"{value:g}{units.get(name, '')}" if isinstance(value, float)
              else str(value)) for name, value in given.items()]
+    model = study.run.model
+    materials = "" if model == "impulse" else " (E* from the materials, else hard gelatin on steel)"
+    return rows + [("contact model", "fixed", f"{model}: {sim.MODEL_WORDS[model]}{materials}")]
 
 
 def _describe(name, q):

@@ -9,7 +9,7 @@ angles in radians here (degrees only at the user's edge); ``theta`` from +x
 to the symmetry axis and spin counter-clockwise positive.
 """
 from .bounces import MERGE_WITHIN, Bounces, group_bounces
-from .drop import (IMPACT_CODES, IMPACT_FIELDS, MODELS, REFERENCES, STATUS, Contact, DropResult,
+from .drop import (IMPACT_CODES, IMPACT_FIELDS, MODEL_WORDS, MODELS, REFERENCES, STATUS, Contact, DropResult,
                    Release, simulate)
 from .flight import GRAVITY
 from .history import history
@@ -18,7 +18,7 @@ from .shapes import SHAPES, Capsule, Cylinder, RoundedTablet, Shape, Sphere, Sph
 
 __all__ = [
     "Bounces", "Capsule", "Contact", "Cylinder", "DropResult", "GRAVITY", "IMPACT_CODES",
-    "IMPACT_FIELDS", "LAWS", "MERGE_WITHIN", "MODELS", "REFERENCES", "Release", "SHAPES", "SLIP_HISTORY",
+    "IMPACT_FIELDS", "LAWS", "MERGE_WITHIN", "MODEL_WORDS", "MODELS", "REFERENCES", "Release", "SHAPES", "SLIP_HISTORY",
     "RoundedTablet", "STATUS", "Shape", "Sphere", "Spheroid", "group_bounces", "history", "make_shape",
     "routh_impact", "simulate",
 ]

@@ -87,6 +87,16 @@ REFERENCES = ("centre", "bottom", "top")
 #: before two-ends was the default; faster where many drops land near
 #: flat, docs/physics.md section 7.1).
 MODELS = ("two-ends", "impulse", "compliant")
+#: What each model does, in a user's words (the commands' help, the study
+#: schema and the report's study table all say it so).
+MODEL_WORDS = {
+    "two-ends": "one point per impact by Routh's method, except landings near flat, where both ends touch within "
+                "one contact duration, resolved together by the compliant two-contact impact (continuous through "
+                "flat)",
+    "impulse": "one point per impact by Routh's method, near flat too (as before two-ends became the default)",
+    "compliant": "every impact integrated through the contact: Hertz force, calibrated damping, regularised "
+                 "friction",
+}
 
 
 @dataclass(frozen=True)

@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 from conftest import grid, run_text, study_yaml
+from hopscape import sim
 from hopscape.errors import InputError
 from hopscape.sim import hertz, materials
 from hopscape.sim.flight import GRAVITY
@@ -104,7 +105,11 @@ def test_report_lists_the_contact_settings():
     from hopscape.report import contact_rows
     study = parse_study(study_yaml({**BALLS, "contact": {**BALLS["contact"], "speed_exponent": 0.25}}))
     rows = {name: value for name, _, value in contact_rows(study)}
+    model = rows.pop("contact model")
     assert rows == {"body material": "steel", "floor material": "steel", "reference speed": "1 m/s"}
+    # the study table names the model used, the default unless the study names one
+    assert model.startswith("two-ends: ") and sim.MODEL_WORDS["two-ends"] in model
+    assert set(sim.MODEL_WORDS) == set(sim.MODELS)
 
 
 def test_restitution_table_in_a_study(tmp_path):
