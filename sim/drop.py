@@ -61,7 +61,7 @@ from .impact import (ENERGY_CREATING, LAWS, check_restitution_table, impulse_mat
 from .limits import FINITE, FLOOR_ANGLE, FRICTION, REFERENCE_SPEED, RESTITUTION, SPEED_EXPONENT
 from .materials import MODULUS
 from .pair_contact import (COMPLIANT_STEPS, DEFAULT_CONTACT_MODULUS, LOWEST_RESTITUTION, STEPS_PER_DURATION,
-                           overlapping_pairs, resolve_pairs)
+                           duration_scale, overlapping_pairs, resolve_pairs)
 from .peaks import flight_peaks
 from .search import next_contact
 from .shapes import Shape
@@ -523,7 +523,7 @@ class _Flying:
         return _Flying(*(np.concatenate([getattr(part, f.name) for part in parts]) for f in fields(_Flying)))
 
 
-def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=False):
+def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=False, pair_scale=None):
     """Every live drop's impact at its contact (``along``, ``across``: the
     touching corners, :func:`sim.search.next_contact`).
 
@@ -531,7 +531,8 @@ def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=
     impact, and the flags), the normal speed at which the struck point
     separates, the kinetic energy after, and the drops (indices into
     ``live``) whose near-flat pair is left to the caller (``defer``; their
-    record is the single impulse's, to be thrown away), else none. A function of its own so that
+    record is the single impulse's, to be thrown away), else none.
+    ``pair_scale``: :func:`sim.pair_contact.duration_scale` of the chunk. A function of its own so that
     its temporaries are freed before the next flight's search and peaks:
     they would otherwise hold some 200 bytes per drop through them.
     """
@@ -564,7 +565,7 @@ def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=
         _strike_both_ends(live, np.arange(live.mass.size), across, restitution, record, separating, ke_after,
                           both=False)
     elif model == "two-ends":
-        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2)
+        pairs = overlapping_pairs(live, along, r_x, u_n, v_y2, w2, pair_scale)
         if pairs.size:
             if defer:
                 return record, separating, ke_after, pairs
@@ -679,6 +680,7 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
     # same for one drop as for hundreds, so a chunk pays it about once
     # rather than at every impact.
     parked = []
+    pair_scale = duration_scale(mass, live.modulus, profile) if model == "two-ends" else None
     while True:
         if live.index.size == 0:
             if not parked:
@@ -735,7 +737,8 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
                 live.vx += live.gravity_along * tau
             live.theta += live.spin * tau
             del tau
-        record, separating, ke_after, pairs = _strike(live, along, across, restitution_table, model, deferring)
+        record, separating, ke_after, pairs = _strike(live, along, across, restitution_table, model, deferring,
+                                                      pair_scale)
         if pairs.size:
             parked.append((live.take(pairs), along[pairs], across[pairs]))
             flying = np.ones(live.index.size, bool)
