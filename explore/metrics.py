@@ -76,18 +76,46 @@ def _shape(study, frame):
                                  length=column("length"))
 
 
+def drop_inputs(study: Study, frame: pd.DataFrame):
+    """What :func:`sim.simulate` needs for the rows of a stage table
+    ``frame`` that start above the floor: ``(rows, shape, release,
+    contact)``, ``rows`` their positions in ``frame`` (the others would
+    start touching or inside the floor). The contact carries the study's
+    law, speed law or restitution table and, with materials, its ``E*``."""
+    def column(name, default=None):
+        return frame[COLUMN[name]].to_numpy() if COLUMN[name] in frame else default
+
+    whole = _shape(study, frame)
+    angle = radians_within_one_turn(column("angle"))
+    centre = column("height") + (whole.depth(angle) if study.release.height_of == "bottom" else 0.0)
+    rows = np.flatnonzero(centre - whole.depth(angle) > 0)
+    zero = np.zeros(len(frame))
+    e_star, _, _ = single_settings(contact_settings(study.body, study.contact))
+    shape = _shape(study, frame.iloc[rows])
+    release = sim.Release(height=centre[rows], angle=angle[rows], spin=column("spin", zero)[rows],
+                          vx=column("vx", zero)[rows], vy=column("vy", zero)[rows],
+                          # a level floor given once costs no cosine per drop
+                          floor_angle=np.radians(column("floor_angle")[rows]) if COLUMN["floor_angle"] in frame
+                          else 0.0)
+    contact = sim.Contact(column("restitution")[rows], column("friction")[rows], study.contact.law,
+                          speed_exponent=column("speed_exponent", zero)[rows],
+                          reference_speed=study.contact.reference_speed,
+                          restitution_table=None if study.contact.restitution_table is None
+                          else tuple(study.contact.restitution_table),
+                          contact_modulus=float(e_star) if np.isfinite(e_star) else None)
+    return rows, shape, release, contact
+
+
 def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     """Simulate every row of ``frame`` (a chunk of a stage); return it with
     the metric columns added."""
     n = len(frame)
     impacts = study.run.impacts
     out = frame.reset_index(drop=True).copy()
-    shape = _shape(study, out)
-    angle = radians_within_one_turn(out[COLUMN["angle"]].to_numpy())
-    height = out[COLUMN["height"]].to_numpy()
-    centre = height + (shape.depth(angle) if study.release.height_of == "bottom" else 0.0)
-    inside = centre - shape.depth(angle) <= 0
-    ok = ~inside
+    idx, part, release, contact = drop_inputs(study, out)
+    ok = np.zeros(n, bool)
+    ok[idx] = True
+    inside = ~ok
     ratios = np.zeros((n, impacts))
     heights = np.zeros((n, impacts))
     bound = np.full(n, np.nan)
@@ -98,21 +126,6 @@ def simulate_frame(study: Study, frame: pd.DataFrame) -> pd.DataFrame:
     per_drop = {name: np.full(n, np.nan) for name in CONTACT_COLUMNS}
     bounces_seen = np.zeros(n, np.int16)
     if ok.any():
-        idx = np.flatnonzero(ok)
-        part = _shape(study, out.iloc[idx])
-        release = sim.Release(height=centre[idx], angle=angle[idx],
-                              spin=out[COLUMN["spin"]].to_numpy()[idx],
-                              vx=out[COLUMN["vx"]].to_numpy()[idx], vy=out[COLUMN["vy"]].to_numpy()[idx],
-                              floor_angle=np.radians(out[COLUMN["floor_angle"]].to_numpy()[idx])
-                              if COLUMN["floor_angle"] in out else 0.0)
-        contact = sim.Contact(out[COLUMN["restitution"]].to_numpy()[idx],
-                              out[COLUMN["friction"]].to_numpy()[idx], study.contact.law,
-                              speed_exponent=out[COLUMN["speed_exponent"]].to_numpy()[idx]
-                              if COLUMN["speed_exponent"] in out else 0.0,
-                              reference_speed=study.contact.reference_speed,
-                              restitution_table=None if study.contact.restitution_table is None
-                              else tuple(study.contact.restitution_table),
-                              contact_modulus=float(e_star) if materials else None)
         # only the study's reference point's peaks are read: the others' searches are skipped
         result = sim.simulate(part, release, contact, impacts=impacts, chunk_size=max(len(idx), 1),
                               peaks=(study.metric.reference,), model=study.run.model)

@@ -294,3 +294,41 @@ def test_a_plan_older_than_the_picks_is_marked_out_of_date(tmp_path):
     later = (tmp_path / PLAN_FILE).stat().st_mtime + 10
     os.utime(tmp_path / "picks.csv", (later, later))   # a newer run
     assert "Out of date" in section_html(tmp_path)
+
+
+def test_the_plan_simulates_with_the_studys_contact_model_and_materials():
+    # The plan's drops (camera, field of view, forces) must be the study's:
+    # its run.model and, near flat, its materials' E* (docs/physics.md
+    # section 7.1). Capsules released flat while sliding land on both ends
+    # at once: the two-ends model resolves them with the study's pair, the
+    # impulse model with one impulse under the middle.
+    from conftest import PIN, grid, study_yaml
+    from hopscape.metrics import drop_inputs
+    from hopscape.plan import grid_frame
+    from hopscape.rig.plan import simulate_condition
+    from hopscape.sim.materials import effective_modulus, material
+    from hopscape.study import parse_study
+
+    def study(model, floor):
+        return parse_study(study_yaml({
+            "name": "slide", "body": {**PIN, "aspect_ratio": 3.0, "density": 1150, "material": "hard_gelatin"},
+            "contact": {"restitution": 0.7, "friction": 0.3, "floor_material": floor},
+            "release": {"height": 0.01, "angle": 0.0, "vx": grid(0.2, 1.0, 3)},
+            "metric": {"kind": "ratio", "reference": "centre"},
+            "analyses": {"draws": 2, "robustness": False}, "run": {"jobs": 1, "model": model}}))
+
+    frame = grid_frame(study("two-ends", "steel"))
+    on_steel = simulate_condition(study("two-ends", "steel"), frame)
+    on_rubber = simulate_condition(study("two-ends", "rubber"), frame)
+    rigid = simulate_condition(study("impulse", "steel"), frame)
+    assert np.all(on_steel.end[:, 0] == 0)                    # both ends at once
+    # the study's own E* reaches the kernel (not the default pair)
+    gel, steel = material("hard_gelatin"), material("steel")
+    rows, shape, release, contact = drop_inputs(study("two-ends", "steel"), frame)
+    assert contact.contact_modulus == pytest.approx(
+        effective_modulus(gel.youngs_modulus, gel.poisson, steel.youngs_modulus, steel.poisson))
+    # a softer floor, another pair outcome; the impulse model spins the body
+    # backwards under the middle, where both ends turn it forwards (the
+    # defect of section 7.1)
+    assert not np.allclose(on_steel.spin[:, 0], on_rubber.spin[:, 0])
+    assert np.all(np.sign(rigid.spin[:, 0]) == -np.sign(on_steel.spin[:, 0]))

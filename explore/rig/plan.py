@@ -18,13 +18,13 @@ from hopscape.sim.hertz import rim_edge_default
 
 from ..contact_inputs import single_settings
 from ..contact_report import edge_tension, strength_cautions
+from ..metrics import drop_inputs
 from ..plan import robust_frame
-from ..quantities import radians_within_one_turn
 from .camera import (FIELD_MARGIN, FRAMES_IN_CONTACT, FRAMES_IN_FLIGHT, SENSOR_PIXELS, body_reach,
                          camera_rate, drop_extent, fastest_point_speed, longest_exposure)
 from .release import GoalAt, release_tolerances
 from .repeats import drops_to_estimate, drops_to_tell_apart
-from ..study import COLUMN, Study, contact_settings
+from ..study import Study, contact_settings
 
 #: The precision the repeats are planned for: +-5 percentage points at 95 %.
 HALF_WIDTH, CONFIDENCE = 0.05, 0.95
@@ -63,34 +63,18 @@ class RigPlan:
 
 
 def simulate_condition(study: Study, frame: pd.DataFrame):
-    """Simulate the rows of a stage table that start above the floor, with
-    every flight peak (the field of view needs the top point's).
+    """Simulate the rows of a stage table that start above the floor, as
+    the study's run does (:func:`explore.metrics.drop_inputs`, its contact
+    model), with every flight peak (the field of view needs the top
+    point's).
 
     Returns
     -------
     sim.DropResult
     """
-    def column(name):
-        return frame[COLUMN[name]].to_numpy() if COLUMN[name] in frame else None
-
-    shape = study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
-                                  length=column("length"))
-    angle = radians_within_one_turn(column("angle"))
-    centre = column("height") + (shape.depth(angle) if study.release.height_of == "bottom" else 0.0)
-    keep = np.flatnonzero(centre - shape.depth(angle) > 0)
-    frame = frame.iloc[keep]
-    shape = study.body.make_shape(column("diameter"), column("density"), aspect_ratio=column("aspect_ratio"),
-                                  length=column("length"))
-    zero = np.zeros(len(frame))
-    release = sim.Release(height=centre[keep], angle=angle[keep], spin=column("spin"),
-                          vx=column("vx") if column("vx") is not None else zero,
-                          vy=column("vy") if column("vy") is not None else zero,
-                          floor_angle=np.radians(column("floor_angle")) if column("floor_angle") is not None else 0.0)
-    exponent = column("speed_exponent")
-    contact = sim.Contact(column("restitution"), column("friction"), study.contact.law,
-                          speed_exponent=exponent if exponent is not None else 0.0,
-                          reference_speed=study.contact.reference_speed)
-    return sim.simulate(shape, release, contact, impacts=study.run.impacts, chunk_size=max(len(frame), 1))
+    rows, shape, release, contact = drop_inputs(study, frame)
+    return sim.simulate(shape, release, contact, impacts=study.run.impacts, chunk_size=max(rows.size, 1),
+                        model=study.run.model)
 
 
 def _camera(plan, study, result, loads, options):
