@@ -435,7 +435,7 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
          speed_exponent=0.0, reference_speed=1.0, restitution_table=None, body_material=None, floor_material=None,
          body_modulus=None,
          body_poisson=None, floor_modulus=None, floor_poisson=None, rim_edge_radius=None, breakage_f_mat=None,
-         breakage_w_min=None, **dimensions):
+         breakage_w_min=None, model="two-ends", **dimensions):
     """Simulate one drop, as ``hopscape drop`` does (same defaults).
 
     Parameters
@@ -499,6 +499,10 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         Edge radius of a flat-ended cylinder's sharp rim. [m]
     breakage_f_mat, breakage_w_min : float, optional
         Vogel & Peukert's breakage parameters. [kg/(J m)], [J/kg]
+    model : {"two-ends", "impulse", "compliant"}, optional
+        The contact model (``hopscape.sim.MODEL_WORDS``); two-ends and
+        compliant take ``E*`` from the materials (default hard gelatin on
+        steel).
     **dimensions : float
         Further dimensions a shape declares, e.g. ``edge`` [m] of a
         rounded tablet.
@@ -543,8 +547,9 @@ def drop(shape="capsule", *, radius=0.0035, length=0.014, aspect_ratio=None, den
         body_poisson=body_poisson, floor_modulus=floor_modulus, floor_poisson=floor_poisson,
         rim_edge_radius=rim_edge_radius, breakage_f_mat=breakage_f_mat, breakage_w_min=breakage_w_min))
     contact = sim.Contact(restitution, friction, law, speed_exponent=speed_exponent, reference_speed=reference_speed,
-                          restitution_table=None if restitution_table is None else tuple(map(tuple, restitution_table)))
-    result = sim.simulate(shape, release, contact, impacts=impacts)
+                          restitution_table=None if restitution_table is None else tuple(map(tuple, restitution_table)),
+                          contact_modulus=None if np.isnan(e_star) else float(e_star))
+    result = sim.simulate(shape, release, contact, impacts=impacts, model=model)
     loads = impact_loads(result, e_star, rim_edge_default(shape.profile) if np.isnan(edge) else edge,
                          None if np.isnan(breakage[0]) else breakage)
     return Drop(shape, result, window, loads)

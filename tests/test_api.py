@@ -114,8 +114,17 @@ INCLINE = {"height": 0.05, "angle": 70.0, "floor_angle": 20.0, "camera_fps": 60.
 INCLINE_OPTIONS = ["--height", "0.05", "--angle", "70", "--floor-angle", "20", "--fps", "60"]
 
 
-@pytest.mark.parametrize("options, keywords", [([], {}), (PIN_OPTIONS, PIN), (INCLINE_OPTIONS, INCLINE)],
-                         ids=["defaults", "pin", "incline"])
+#: Released flat while sliding: both ends land at once, resolved with the materials' E*
+#: by the default model (docs/physics.md section 7.1), or under the middle by impulse.
+FLAT = {"height": 0.01, "angle": 0.0, "vx": 0.5, "body_material": "nylon", "floor_material": "steel"}
+FLAT_OPTIONS = ["--height", "0.01", "--angle", "0", "--vx", "0.5", "--body-material", "nylon",
+                "--floor-material", "steel"]
+
+
+@pytest.mark.parametrize("options, keywords", [([], {}), (PIN_OPTIONS, PIN), (INCLINE_OPTIONS, INCLINE),
+                                               (FLAT_OPTIONS, FLAT),
+                                               (FLAT_OPTIONS + ["--model", "impulse"], {**FLAT, "model": "impulse"})],
+                         ids=["defaults", "pin", "incline", "flat", "flat-impulse"])
 def test_drop_gives_the_commands_impact_table(tmp_path, capsys, options, keywords):
     ours = hopscape.drop(**keywords).impacts
     theirs = _command_impacts(tmp_path, capsys, options)
