@@ -24,7 +24,7 @@ drops through the contact with both ends' compliant contacts: Hertz's force
 Crossley 1975), ``chi`` calibrated per end on touching to the impact's
 restitution (:mod:`sim.damping`), and Coulomb friction regularised as
 ``-mu F tanh(u_t / v_reg)``, capped at what stops the slip within a step
-(:func:`slip_stop_rate`). Vectorised over the affected drops: a
+(:func:`slip_stop_rate`; the damping force is capped so along the normal). Vectorised over the affected drops: a
 fixed-step classical Runge-Kutta method (as :mod:`sim.compliant`), a step
 of ``t_c / STEPS_PER_DURATION`` per drop (``COMPLIANT_STEPS`` in the
 compliant model), until no end presses; an end still approaching then
@@ -65,12 +65,13 @@ DEFAULT_CONTACT_MODULUS = 3.3664366e9
 #: checks the outcome against a dense integration). On the 3,556 pairs of
 #: 200,000 benchmark drops, against 400 steps: the velocities after (vx,
 #: vy and spin times the lever, as a share of the impact speed) within
-#: 0.5% for half the pairs, 1.8% for 90%, 3.8% for 99% (40 steps: 0.24%,
-#: 0.9%, 1.8%); a pair's cost is its steps. [-]
+#: 0.5% for half the pairs, 1.9% for 90%, 4.2% for 99% (48 steps: 0.2%,
+#: 0.8%, 1.7%); a pair's cost is its steps. [-]
 STEPS_PER_DURATION = 24
 #: Friction's cap, as a share of the force that stops an end's slip
-#: within one step (:func:`slip_stop_rate`): below the classical
-#: Runge-Kutta method's stability limit of 2.78 for a damper. [-]
+#: within one step (:func:`slip_stop_rate`), and the damping force's along
+#: the normal: below the classical Runge-Kutta method's stability limit of
+#: 2.78 for a damper. [-]
 SLIP_STOP = 2.5
 #: Steps per Hertz duration of the compliant model (every impact through
 #: :func:`resolve_pairs`), the second opinion: its first impact within
@@ -260,6 +261,9 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     step = t_c / steps
     v_reg = REGULARISATION * speed
     stop_rate = slip_stop_rate(mass, inertia, r_y, step)
+    # the same cap on the damping force along the normal: an end that
+    # touches again at a crawl gets chi = c / v far above the step's reach
+    press_rate = slip_stop_rate(mass, inertia, r_x, step)
     # chi per end, set on touching from that end's approach speed
     chi = np.where(gap <= 1e-12, c_scaled / np.maximum(-u_n, 1e-12), np.nan)
     inverse_mass, inverse_inertia, slowing = 1.0 / mass, 1.0 / inertia, -friction
@@ -273,7 +277,9 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
         # impact of the engine (its flights carry gravity)
         gap, u_n, u_t, r_x, r_y = pieces(s_state) if at is None else at
         pressed = np.maximum(-gap, 0.0)
-        normal = np.maximum(stiffness * (pressed * np.sqrt(pressed)) * (1.0 - damping * u_n), 0.0)
+        elastic = stiffness * pressed * np.sqrt(pressed)
+        limit = np.abs(u_n) * press_rate
+        normal = np.maximum(elastic + np.clip(-elastic * damping * u_n, -limit, limit), 0.0)
         tangential = slowing * normal * np.tanh(u_t * inverse_v_reg)
         limit = np.abs(u_t) * stop_rate
         tangential = np.clip(tangential, -limit, limit)
@@ -298,7 +304,7 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     for count in range(2 * fine_steps + 1):
         if count == fine_steps:
             step, half_step, sixth_step = COARSER * step, COARSER * half_step, COARSER * sixth_step
-            stop_rate = stop_rate / COARSER
+            stop_rate, press_rate = stop_rate / COARSER, press_rate / COARSER
         damping = damping_now(at[1])
         k1 = derivative(y, damping, at)
         k2 = derivative(y + half_step * k1, damping)
@@ -337,6 +343,7 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
                 a[..., keep] for a in (y, step, half_step, sixth_step, stiffness, c_scaled, inverse_v_reg,
                                        inverse_mass, inverse_inertia, slowing, wide, time, pressed, ids, rounded,
                                        half_long, round_long, round_wide))
-            chi, gap, u_n, stop_rate = chi[:, keep], gap[:, keep], u_n[:, keep], stop_rate[:, keep]
+            chi, gap, u_n, stop_rate, press_rate = (chi[:, keep], gap[:, keep], u_n[:, keep], stop_rate[:, keep],
+                                                    press_rate[:, keep])
             at = tuple(a[:, keep] for a in at)
     return final, duration
