@@ -59,6 +59,16 @@ def test_event_happens_in_part_of_every_map(small_example):
 
 
 @pytest.mark.slow
+def test_no_impact_creates_energy(small_example):
+    # the energetic law never creates energy (Stronge 1991; docs/physics.md
+    # section 4), nor do the two-contact pairs of the default model (damping
+    # and friction only take it away, section 7.1)
+    if small_example.study.contact.law != "energetic":
+        pytest.skip("other laws can create energy with slip reversal")
+    assert not small_example.table()["energy_gain"].any()
+
+
+@pytest.mark.slow
 def test_the_centre_never_beats_its_energy_bound(small_example):
     # docs/physics.md section 6: under the energetic law impacts never create
     # energy, so no bounce of the centre rises above h0 + I omega0^2 / (2 m g)
