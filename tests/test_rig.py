@@ -181,6 +181,8 @@ def test_report_section_is_replaced_not_repeated(tmp_path):
     (["--at", "angle=30,aspect_ratio=4", "--body-material", "cheese"], ["--body-material", "steel", "'cheese'"]),
     (["--at", "angle=30,aspect_ratio=4", "--body-material", "nylon"], ["floor_material", "missing"]),
     (["--pick", "3"], ["picks.csv", "hopscape run quick", "--at"]),
+    # legal (an angle of many turns) but outside the study's sweep: a warning, refused under --strict
+    (["--at", "angle=300,aspect_ratio=4", "--strict"], ["--at angle=300", "swept 0-90 deg"]),
 ])
 def test_bad_input_is_one_line_and_exit_2(tmp_path, capsys, extra, words):
     code = main(["plan", str(QUICK), "--run", str(tmp_path / "none"), "--out", str(tmp_path / "out"), *extra])

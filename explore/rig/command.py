@@ -8,6 +8,7 @@ from pathlib import Path
 
 from ..cli_text import STRICT_HELP, report_warnings
 from ..errors import InputError
+from ..quantities import QUANTITIES
 
 
 def register(sub, handlers):
@@ -78,6 +79,11 @@ def _conditions(study, args):
     from .conditions import condition_words, parse_at, read_picks
     if args.at is not None:
         values = parse_at(args.at, study)
+        outside = [f"--at {name}={values[name]:g} is outside the study's swept {grid.low:g}-{grid.high:g} "
+                   f"{QUANTITIES[name].unit}: the plan is for a condition the study did not map"
+                   for name in study.gridded() for grid in [study.quantity(name).grid]
+                   if not grid.low <= values[name] <= grid.high]
+        report_warnings(outside, args.strict)
         return [(f"given: {condition_words(values)}", values, None)]
     picks = read_picks(args.run or Path("runs") / study.name, study)
     by_rank = {p["rank"]: p for p in picks}

@@ -185,7 +185,7 @@ def rig_plan(study: Study, label, options: RigOptions, runner_up=None) -> RigPla
     goal = GoalAt(study, options.drops)
     for b in release_tolerances(goal, target, reach):
         unit, scale = {"angle": ("deg", 1), "height": ("mm", 1e3), "spin": ("rad/s", 1), "together": ("-", 1)}[b.name]
-        item = ("largest common fraction of the three, together" if b.name == "together" else
+        item = ("largest share of the three tolerances above, all at once" if b.name == "together" else
                 f"largest {b.name} tolerance alone (+-)")
         how = b.words(scale, "" if unit == "-" else unit) or (f"goal {b.p_low:.2%} here, {b.p_high:.2%} at {b.high * scale:.4g}; target {target:.0%}")
         plan.add("release", item, b.low * scale, unit, how)
