@@ -130,7 +130,8 @@ def analyse(outcome) -> Artefacts:
         cells = judged_cells(study, robust, grid)
         if study.analyses.picks is not None:
             art.picks = make_picks(study, robust, grid, cells)
-            write_csv(art.picks, folder / PICKS_FILE)
+            # the same picks keep their file's time: a rig plan made from them stays current
+            write_csv(art.picks, folder / PICKS_FILE, keep_same=True)
         x, y = _robustness_axes(study)
         art.safe_regions = safe_regions(cells, study.gridded(), x=x)
         write_csv(art.safe_regions, folder / SAFE_REGIONS_FILE)

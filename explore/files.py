@@ -50,8 +50,15 @@ def write_text(path, text):
         Path(tmp).write_text(text, encoding="utf-8")
 
 
-def write_csv(frame, path):
-    """Write a table as CSV (without its index) to ``path`` atomically."""
+def write_csv(frame, path, keep_same=False):
+    """Write a table as CSV (without its index) to ``path`` atomically.
+
+    ``keep_same``: leave a file that already holds exactly this table alone,
+    time and all (what was made from it stays current)."""
+    if keep_same:
+        text = frame.to_csv(index=False)
+        if Path(path).is_file() and Path(path).read_text(encoding="utf-8") == text:
+            return
     with atomic_write(path) as tmp:
         frame.to_csv(tmp, index=False)
 

@@ -137,3 +137,19 @@ def test_a_busy_folder_is_refused_and_a_killed_run_leaves_no_stuck_lock(tmp_path
     with folder_lock(tmp_path / "run"):
         with folder_lock(tmp_path / "run"):        # the same process may nest its holds
             pass
+
+
+def test_write_csv_keeps_a_file_that_holds_the_same_table(tmp_path):
+    # a run resumed without change writes the same picks.csv: its time must
+    # stay, or a rig plan made from it is reported out of date
+    import os
+    import pandas as pd
+    from hopscape.files import write_csv
+    path = tmp_path / "picks.csv"
+    table = pd.DataFrame({"rank": [1, 2], "angle_deg": [49.5, 51.0]})
+    write_csv(table, path, keep_same=True)
+    os.utime(path, (1_000_000, 1_000_000))
+    write_csv(table, path, keep_same=True)
+    assert path.stat().st_mtime == 1_000_000
+    write_csv(table.assign(angle_deg=[49.5, 52.5]), path, keep_same=True)
+    assert path.stat().st_mtime > 1_000_000 and "52.5" in path.read_text()
