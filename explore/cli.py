@@ -200,7 +200,7 @@ def cmd_drop(args):
 
     from .quantities import radians_within_one_turn
     from hopscape import sim
-    from hopscape.sim.limits import MASS
+    from hopscape.sim.limits import FRICTION, MASS, RESTITUTION
     from .batch import impact_table
     from .quantities import QUANTITIES
     from .report_text import drop_report
@@ -228,6 +228,9 @@ def cmd_drop(args):
         return shape
 
     def drop(shape):
+        # the options' own names in the message (the kernel's checks say "restitution")
+        RESTITUTION.check("--restitution", args.restitution)
+        FRICTION.check("--friction", args.friction)
         floor_angle = QUANTITIES["floor_angle"].allowed.check("--floor-angle", args.floor_angle)
         release = sim.Release(height=args.height, angle=radians_within_one_turn(args.angle), spin=args.spin,
                               vx=args.vx, vy=args.vy, reference=args.height_of, floor_angle=math.radians(floor_angle))

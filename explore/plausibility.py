@@ -210,7 +210,6 @@ def drop_warnings(shape, values):
 
 def _outside(name, sizes, value):
     """Element-wise: outside the plausible range (vectorised for tables)."""
-    if name in sizes:
-        low, high = sizes[name].plausible
-        return ~Interval(low, high).contains(value) & ~np.isnan(value)
-    return ~PLAUSIBLE[name].range.contains(value) & ~np.isnan(value)
+    usual = Interval(*sizes[name].plausible) if name in sizes else PLAUSIBLE[name].range
+    # at or below zero where the usual range is positive: an error says so, not a unit hint
+    return ~usual.contains(value) & ~np.isnan(value) & ~((value <= 0) & (usual.low > 0))

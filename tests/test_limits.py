@@ -63,7 +63,8 @@ def test_batch_row_words_the_bound():
 
 def test_command_line_words_the_bound(capsys):
     assert main(["drop", "--restitution", "1.2", "--no-plots"]) == 2
-    assert capsys.readouterr().err.strip() == "hopscape: error: restitution " + WORDING
+    # the same bound, under the option's own name
+    assert capsys.readouterr().err.strip() == "hopscape: error: --restitution " + WORDING
 
 
 def test_study_file_words_the_bound():
