@@ -127,7 +127,7 @@ def build_parser():
     b.add_argument("--law", default="energetic", choices=sim.LAWS,
                    help="law for rows without a law column value (default energetic): " + law_help())
     b.add_argument("--model", default=sim.MODELS[0], choices=sim.MODELS,
-                   help=model_help() + "; one material pair per batch")
+                   help=model_help() + "; each row its own materials")
     merge_window_options(b)
     table_option(b, " column of every row")
     b.add_argument("--strict", action="store_true", help=STRICT_HELP)
