@@ -264,7 +264,7 @@ def cmd_drop(args):
         raise InputError(message) from None
     result = _user_value_errors(lambda: drop(shape))
     bounces = sim.group_bounces(result, merge_window)
-    print(drop_report(shape, result, bounces, args.reference))
+    print(drop_report(shape, result, bounces, args.reference, model=args.model))
     loads, e_star, edge = _contact_loads(args, shape, result)
     from .contact_report import NO_MATERIALS, contact_text
     if np.isnan(e_star):

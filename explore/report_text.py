@@ -69,7 +69,7 @@ def _energy_bound_text(result):
     return text
 
 
-def drop_report(shape, result, bounces, reference="centre"):
+def drop_report(shape, result, bounces, reference="centre", model=None):
     """Impacts, visible bounces and the energy bound of one drop, as text.
 
     Parameters
@@ -83,6 +83,9 @@ def drop_report(shape, result, bounces, reference="centre"):
         bounces.
     reference : {"centre", "bottom", "top"}, optional
         The point whose rebound ratios are shown.
+    model : str, optional
+        The contact model that ran (:data:`sim.MODELS`): named in a last
+        line, with the impacts on both ends at once.
 
     Returns
     -------
@@ -151,4 +154,8 @@ def drop_report(shape, result, bounces, reference="centre"):
                                                        "rose with over a tenth of its energy: it may vault into a new "
                                                        "flight that this model does not follow",
                                                        "failed": "the contact search failed"}[status]]
+    if model is not None:
+        both = np.flatnonzero(result.end[0, :n] == 0) + 1 if model == "two-ends" else []
+        out.append(f"contact model: {model}" + (f"; impact(s) {', '.join(map(str, both))} on both ends at once "
+                                                 "(docs/physics.md 7.1)" if len(both) else ""))
     return "\n".join(out)

@@ -311,3 +311,12 @@ def test_pairs_never_create_energy(shape, height, angle_deg, spin, restitution, 
     assert np.any(result.end == 0)                           # the drop has pairs
     assert not result.energy_gain.any()
     assert np.nanmax(result.peak_centre) <= result.energy_bound[0] * (1 + 1e-9)
+
+
+def test_drop_says_which_model_ran_and_which_impacts_were_pairs(capsys):
+    from hopscape.cli import main
+    flat = ["drop", "--angle", "0", "--vx", "0.5", "--height", "0.01", "--impacts", "2", "--no-plots"]
+    assert main(flat) == 0
+    assert "contact model: two-ends; impact(s) 1 on both ends at once" in capsys.readouterr().out
+    assert main(flat + ["--model", "impulse"]) == 0
+    assert "contact model: impulse\n" in capsys.readouterr().out
