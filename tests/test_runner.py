@@ -32,6 +32,14 @@ from hopscape.plan import count_drops
 from hopscape.runner import run_study, write_atomic
 from hopscape.study import COLUMN, parse_study
 
+
+def _ctrl_c_as_usual():
+    """In the child before it starts: Ctrl-C as a terminal delivers it. A
+    test run started in the background by a shell ignores SIGINT, and a
+    child inheriting that would never see the interrupt these tests send."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 # 15 x 61 cells x 64 draws = 58,560 grid + 15 x 61 x 32 = 29,280 robust:
 # 45 parts of at most 2,000 drops; about 1.5 s of simulation on one core, so a
 # signal sent when the first part appears lands mid-run.
@@ -219,7 +227,7 @@ def test_kill_9_mid_run_then_resume_gives_the_uninterrupted_table(mid_reference,
     folder = tmp_path / "run"
     proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
                                            "--backend", "sequential"],
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, preexec_fn=_ctrl_c_as_usual)
     try:
         _wait_for_first_part(proc, folder)
         proc.send_signal(signal.SIGKILL)
@@ -242,7 +250,7 @@ def _start_mid_run(tmp_path):
     folder = tmp_path / "run"
     proc = subprocess.Popen(hopscape_command() + ["run", str(study_path), "--out", str(folder), "--quiet",
                                                   "--jobs", "2"],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, preexec_fn=_ctrl_c_as_usual)
     return proc, folder
 
 
