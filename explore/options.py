@@ -75,10 +75,8 @@ def law_help():
 
 def model_help():
     """The words of ``--model``: :data:`sim.drop.MODELS`, what each does."""
-    from hopscape.sim.drop import MODEL_WORDS, MODELS
-    models = "; ".join(f"{name}{' (the default)' if name == MODELS[0] else ''}: {words}"
-                       for name, words in MODEL_WORDS.items())
-    return f"contact model: {models}; two-ends and compliant take E* from the materials, default hard gelatin on steel"
+    from hopscape.sim.drop import models_in_words
+    return f"contact model: {models_in_words()}"
 
 
 def further_dimensions():

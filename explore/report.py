@@ -49,7 +49,7 @@ def contact_rows(study):
     rows = [(name.replace("_", " "), "fixed", f"{value:g}{units.get(name, '')}" if isinstance(value, float)
              else str(value)) for name, value in given.items()]
     model = study.run.model
-    materials = "" if model == "impulse" else " (E* from the materials, else hard gelatin on steel)"
+    materials = "" if model == "impulse" else f" ({sim.drop.MODULUS_WORDS})"
     return rows + [("contact model", "fixed", f"{model}: {sim.MODEL_WORDS[model]}{materials}")]
 
 

@@ -426,9 +426,8 @@ class RunSettings(Strict):
                                         description="instead of merge_ms: your camera's frame rate [1/s]; impacts "
                                                     "closer than one frame interval are one visible bounce")
     model: Literal[tuple(sim.MODELS)] = Field(
-        default=sim.MODELS[0], description="contact model: " + "; ".join(
-            f"{name}{' (the default)' if name == sim.MODELS[0] else ''}: {words}"
-            for name, words in sim.MODEL_WORDS.items()) + " (docs/physics.md section 7.1)")
+        default=sim.MODELS[0], description=f"contact model: {sim.drop.models_in_words()} (docs/physics.md "
+                                           "section 7.1)")
 
     @model_validator(mode="after")
     def _one_merge_window(self):

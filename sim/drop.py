@@ -97,6 +97,16 @@ MODEL_WORDS = {
     "compliant": "every impact integrated through the contact: Hertz force, calibrated damping, regularised "
                  "friction",
 }
+#: Where the models that need it take ``E*`` from.
+MODULUS_WORDS = "two-ends and compliant take E* from the materials, default hard gelatin on steel"
+
+
+def models_in_words():
+    """Every model in its :data:`MODEL_WORDS`, the default marked, and
+    :data:`MODULUS_WORDS` (the commands' help and the study schema)."""
+    models = "; ".join(f"{name}{' (the default)' if name == MODELS[0] else ''}: {words}"
+                       for name, words in MODEL_WORDS.items())
+    return f"{models}; {MODULUS_WORDS}"
 
 
 @dataclass(frozen=True)
@@ -532,9 +542,11 @@ def _strike(live, along, across, restitution_table=None, model=MODELS[0], defer=
     separates, the kinetic energy after, and the drops (indices into
     ``live``) whose near-flat pair is left to the caller (``defer``; their
     record is the single impulse's, to be thrown away), else none.
-    ``pair_scale``: :func:`sim.pair_contact.duration_scale` of the chunk. A function of its own so that
-    its temporaries are freed before the next flight's search and peaks:
-    they would otherwise hold some 200 bytes per drop through them.
+    ``pair_scale``: :func:`sim.pair_contact.duration_scale` of the chunk.
+
+    A function of its own so that its temporaries are freed before the
+    next flight's search and peaks: they would otherwise hold some 200
+    bytes per drop through them.
     """
     # contact offset: mean over touching corners (flat landing: the middle)
     r_x, r_y = contact_offset_at(live.theta, live.profile, along, across)
@@ -686,6 +698,9 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
     # rather than at every impact.
     parked = []
     pair_scale = duration_scale(mass, live.modulus, profile) if model == "two-ends" else None
+    # every drop at one impact: true until parked drops rejoin (any subset
+    # of the live drops keeps it)
+    uniform = True
     while True:
         if live.index.size == 0:
             if not parked:
@@ -697,8 +712,6 @@ def _run_chunk(sl, k, settle_fraction, mass, inertia, profile, y0, th0, om0, vx0
             uniform = bool(np.all(live.impact == live.impact[0]))
         else:
             deferring = model == "two-ends"
-            first = live.impact[0]
-            uniform = bool(np.all(live.impact == first))
             # after the last impact only the flight's length is wanted
             level_vy, level_spin = live.level(tilted)
             tau_level, along, across = next_contact(live.y, level_vy, live.theta, level_spin, live.profile,

@@ -24,7 +24,8 @@ drops through the contact with both ends' compliant contacts: Hertz's force
 Crossley 1975), ``chi`` calibrated per end on touching to the impact's
 restitution (:mod:`sim.damping`), and Coulomb friction regularised as
 ``-mu F tanh(u_t / v_reg)``, capped at what stops the slip within a step
-(:func:`slip_stop_rate`; the damping force is capped so along the normal). Vectorised over the affected drops: a
+(:func:`stopping_rate`; the damping force is capped so along the normal).
+Vectorised over the affected drops: a
 fixed-step classical Runge-Kutta method (as :mod:`sim.compliant`), a step
 of ``t_c / STEPS_PER_DURATION`` per drop (``COMPLIANT_STEPS`` in the
 compliant model), until no end presses; an end still approaching then
@@ -69,7 +70,7 @@ DEFAULT_CONTACT_MODULUS = 3.3664366e9
 #: 0.8%, 1.7%); a pair's cost is its steps. [-]
 STEPS_PER_DURATION = 24
 #: Friction's cap, as a share of the force that stops an end's slip
-#: within one step (:func:`slip_stop_rate`), and the damping force's along
+#: within one step (:func:`stopping_rate`), and the damping force's along
 #: the normal: below the classical Runge-Kutta method's stability limit of
 #: 2.78 for a damper. [-]
 SLIP_STOP = 2.5
@@ -89,7 +90,7 @@ LONGEST_CONTACT = 3.0
 COARSER = 4.0
 #: ``v_reg`` of the regularised friction, as a share of the impact's
 #: normal speed: slip slower than this is treated as partial sticking
-#: (the step stays stable through :func:`slip_stop_rate`). [-]
+#: (the step stays stable through :func:`stopping_rate`). [-]
 REGULARISATION = 1e-3
 #: Lowest restitution the damping is calibrated for
 #: (:data:`sim.damping.LARGEST_DAMPING` gives 1e-3). [-]
@@ -175,11 +176,13 @@ def overlapping_pairs(live, along, r_x, u_n, vy_after, spin_after, scale=None):
     return near[gap[near] <= approach[near] * duration]
 
 
-def slip_stop_rate(mass, inertia, r_y, step):
-    """:data:`SLIP_STOP` ``/ (2 K_tt h)`` of each end [1/(kg s)]: ``1 / (2 K_tt
-    h)`` is the friction force that stops that end's slip ``u_t`` within one
-    step ``h``, per unit of slip, with both ends pushing (``K_tt = 1/m +
-    r_y^2/I``, :func:`sim.impact.impulse_matrix`).
+def stopping_rate(mass, inertia, lever, step):
+    """:data:`SLIP_STOP` ``/ (2 K h)`` of each end [1/(kg s)], ``K = 1/m +
+    lever^2/I`` (:func:`sim.impact.impulse_matrix`): ``1 / (2 K h)`` is the
+    force per unit of speed that stops an end's speed along one direction
+    within one step ``h``, with both ends pushing. ``lever`` is the end's
+    offset across that direction: ``r_y`` for the slip (``K_tt``), ``r_x``
+    for the normal speed (``K_nn``).
 
     Slipping slower than ``v_reg`` the regularised friction ``mu F u_t /
     v_reg`` is a stiff damper on the slip, of rate ``mu F K_tt / v_reg``;
@@ -190,9 +193,11 @@ def slip_stop_rate(mass, inertia, r_y, step):
     as far as the step can tell, and ``v_reg`` stays
     :data:`REGULARISATION` of the impact speed instead of growing with the
     step (as it had to without the cap: at 40 steps that gave 1.5% of the
-    impact speed for half the benchmark pairs, against 0.24% now).
+    impact speed for half the benchmark pairs). The damping force along the
+    normal is capped the same way: an end that touches again at a crawl
+    gets ``chi = c / v`` far beyond what the step can follow.
     """
-    return SLIP_STOP / (2.0 * (1.0 / mass + r_y ** 2 / inertia) * step)
+    return SLIP_STOP / (2.0 * (1.0 / mass + lever ** 2 / inertia) * step)
 
 
 def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, modulus,
@@ -260,10 +265,8 @@ def resolve_pairs(mass, inertia, profile, across, state, restitution, friction, 
     t_c = hertz_duration(1.0 / k_nn, speed, modulus, radius)
     step = t_c / steps
     v_reg = REGULARISATION * speed
-    stop_rate = slip_stop_rate(mass, inertia, r_y, step)
-    # the same cap on the damping force along the normal: an end that
-    # touches again at a crawl gets chi = c / v far above the step's reach
-    press_rate = slip_stop_rate(mass, inertia, r_x, step)
+    stop_rate = stopping_rate(mass, inertia, r_y, step)
+    press_rate = stopping_rate(mass, inertia, r_x, step)
     # chi per end, set on touching from that end's approach speed
     chi = np.where(gap <= 1e-12, c_scaled / np.maximum(-u_n, 1e-12), np.nan)
     inverse_mass, inverse_inertia, slowing = 1.0 / mass, 1.0 / inertia, -friction
